@@ -1,0 +1,64 @@
+// `npm start`: set everything up on first run, then serve the web app and one worker.
+import {
+  ensureNodeModules, ensureLocalCluster, ensureDatabase, localUrl, localSecret, migrate, seedDemo,
+  ensureBuild, startChild, stopChild, stopLocalCluster, log,
+} from "./lib/bootstrap.mjs";
+
+const port = Number(process.env.PORT ?? 3000);
+const host = process.env.HOST ?? "127.0.0.1";
+const started = Date.now();
+
+ensureNodeModules();
+let startedPg = false;
+let databaseUrl = process.env.DATABASE_URL;
+if (databaseUrl) {
+  log("DATABASE_URL is set: using that database, no local PostgreSQL is started");
+} else {
+  startedPg = ensureLocalCluster();
+  ensureDatabase("burstwise");
+  databaseUrl = localUrl("burstwise");
+}
+migrate(databaseUrl);
+seedDemo(databaseUrl);
+ensureBuild();
+
+const url = process.env.NEXTAUTH_URL ?? `http://${host}:${port}`;
+const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: process.env.NEXTAUTH_SECRET ?? localSecret(), NEXTAUTH_URL: url, NODE_ENV: "production" };
+
+let stopping = false;
+const web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", host, "-p", String(port)], env);
+web.on("exit", (code) => {
+  if (!stopping) { log(`web app exited (${code}); stopping`); shutdown(1); }
+});
+
+// The worker is restarted when it dies (a crash must not stop the lab's runs for good).
+let worker;
+let restarts = 0;
+function spawnWorker() {
+  worker = startChild("worker", process.execPath, ["--import", "tsx", "worker/index.ts"], env);
+  worker.on("exit", (code, signal) => {
+    if (stopping) return;
+    restarts += 1;
+    const delay = Math.min(30_000, 1000 * 2 ** Math.min(restarts, 5));
+    log(`worker exited (${code ?? signal}); restarting in ${delay / 1000} s`);
+    setTimeout(() => { if (!stopping) spawnWorker(); }, delay);
+  });
+}
+spawnWorker();
+
+log(`ready in ${((Date.now() - started) / 1000).toFixed(1)} s`);
+log(`Burstwise is at ${url}`);
+log("Demo sign-ins (demo credentials, password sentinel-demo):");
+log("  owner@sentinel.example · modeler@sentinel.example · reviewer@sentinel.example");
+log("Ctrl-C stops the app, the worker and the local PostgreSQL.");
+
+async function shutdown(code = 0) {
+  if (stopping) return;
+  stopping = true;
+  log("shutting down");
+  await Promise.all([stopChild(web), stopChild(worker, 20_000)]);
+  if (startedPg) stopLocalCluster();
+  process.exit(code);
+}
+process.on("SIGINT", () => shutdown(0));
+process.on("SIGTERM", () => shutdown(0));

@@ -1,0 +1,55 @@
+// `npm test`: set up what the suites need (PostgreSQL, Chromium, dependencies, a throwaway
+// database, a built app served on a spare port), run every suite, clean up, exit non-zero on failure.
+import { spawnSync } from "node:child_process";
+import {
+  ensureNodeModules, ensureLocalCluster, ensureChromium, ensureDatabase, dropDatabase, localUrl, migrate,
+  seedDemo, ensureBuild, startChild, stopChild, stopLocalCluster, log, ROOT,
+} from "./lib/bootstrap.mjs";
+
+const started = Date.now();
+const port = Number(process.env.BURSTWISE_TEST_PORT ?? 3100);
+const extraArgs = process.argv.slice(2); // e.g. `npm test -- --project unit`
+
+ensureNodeModules();
+const chromium = ensureChromium();
+const startedPg = ensureLocalCluster();
+const dbName = `burstwise_test_${process.pid}`;
+ensureDatabase(dbName);
+const databaseUrl = localUrl(dbName);
+let web;
+let code = 1;
+try {
+  migrate(databaseUrl);
+  seedDemo(databaseUrl);
+  ensureBuild();
+  const baseUrl = `http://127.0.0.1:${port}`;
+  const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: "test-secret-not-for-production", NEXTAUTH_URL: baseUrl, NODE_ENV: "production" };
+  web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], env);
+  await waitForHttp(`${baseUrl}/api/health`, 60_000);
+  log(`suites starting (${((Date.now() - started) / 1000).toFixed(0)} s of setup)`);
+  const r = spawnSync(process.execPath, ["node_modules/vitest/vitest.mjs", "run", ...extraArgs], {
+    cwd: ROOT, stdio: "inherit",
+    env: { ...process.env, ...env, NODE_ENV: "test", TEST_DATABASE_URL: databaseUrl, BURSTWISE_TEST_URL: baseUrl, CHROMIUM_PATH: chromium },
+  });
+  code = r.status ?? 1;
+} catch (e) {
+  console.error(`[burstwise] test setup failed: ${e.message}`);
+} finally {
+  await stopChild(web);
+  try { dropDatabase(dbName); } catch (e) { log(`could not drop ${dbName}: ${e.message}`); }
+  if (startedPg) stopLocalCluster();
+}
+log(`npm test finished in ${((Date.now() - started) / 1000).toFixed(0)} s with exit code ${code}`);
+process.exit(code);
+
+async function waitForHttp(url, timeoutMs) {
+  const until = Date.now() + timeoutMs;
+  while (Date.now() < until) {
+    try {
+      const res = await fetch(url);
+      if (res.ok) return;
+    } catch { /* not up yet */ }
+    await new Promise((r) => setTimeout(r, 300));
+  }
+  throw new Error(`${url} did not answer within ${timeoutMs / 1000} s`);
+}
