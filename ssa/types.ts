@@ -1,0 +1,79 @@
+/**
+ * Types of the circuit file `burstwise.circuit/1` (CONTRACT.md §1). Pure types, no runtime code
+ * apart from the error class the engine throws for bad arguments.
+ * The zod schema that produces these values is lib/schemas/circuit.ts.
+ */
+
+export const CIRCUIT_FORMAT = "burstwise.circuit/1" as const;
+
+export type TimeUnit = "s" | "min" | "h";
+export type AmountUnit = "nM" | "uM" | "molecules";
+
+/** A numeric field of a rate law: a literal number or the name of a parameter. */
+export type NumberOrParam = number | string;
+
+/** Stoichiometries by species id, positive integers. */
+export type Stoichiometry = Record<string, number>;
+
+export interface Species {
+  id: string;
+  /** Initial amount in `units.amount`. */
+  initial: number;
+  name?: string;
+}
+
+export interface MassActionLaw {
+  law: "mass_action";
+  /** k in amount^(1−order) per time; the rate is k · Π [X]^ν over reactants. */
+  k: NumberOrParam;
+}
+
+export interface HillLaw {
+  law: "hill_activation" | "hill_repression";
+  /** Species id whose amount drives the Hill function. */
+  input: string;
+  vmax: NumberOrParam;
+  K: NumberOrParam;
+  n: NumberOrParam;
+  basal?: NumberOrParam;
+}
+
+export interface ExpressionLaw {
+  law: "expression";
+  /** Arithmetic over species ids and parameter names, in amount per time. */
+  expression: string;
+}
+
+export type RateLaw = MassActionLaw | HillLaw | ExpressionLaw;
+
+export interface Reaction {
+  id: string;
+  reactants?: Stoichiometry;
+  products?: Stoichiometry;
+  rate: RateLaw;
+  name?: string;
+}
+
+export interface Circuit {
+  format: typeof CIRCUIT_FORMAT;
+  name?: string;
+  description?: string;
+  units: { time: TimeUnit; amount: AmountUnit };
+  /** Cell volume in femtolitres; required when `units.amount` is a concentration. */
+  volume_fL?: number;
+  species: Species[];
+  parameters?: Record<string, number>;
+  reactions: Reaction[];
+}
+
+/**
+ * Thrown by ssa/ entry points for bad input that passed the schema (e.g. an override of an
+ * unknown parameter, or one that makes a Hill exponent non-positive). The message names the
+ * field the way CONTRACT.md does: `overrides.Kc: unknown parameter "Kc"`.
+ */
+export class ModelInputError extends RangeError {
+  constructor(message: string) {
+    super(message);
+    this.name = "ModelInputError";
+  }
+}
