@@ -1,6 +1,5 @@
 /** @type {import('next').NextConfig} */
 const nextConfig = {
-  output: "standalone",
   // knex, pg and pg-boss load optional drivers dynamically and cannot be bundled.
   serverExternalPackages: ["knex", "pg", "pg-boss", "piscina", "bcryptjs"],
   poweredByHeader: false,

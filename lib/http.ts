@@ -50,3 +50,9 @@ export function handle<C>(route: string, fn: Handler<C>): Handler<C> {
     }
   };
 }
+
+/** A numeric id from a URL segment; anything else is a 404 for `what` (no such thing). */
+export function idParam(value: string | undefined, what: string): string {
+  if (!value || !/^[1-9][0-9]{0,15}$/.test(value)) throw notFound(what);
+  return value;
+}

@@ -13,8 +13,8 @@ export interface ApiTokenInfo { id: string; name: string; prefix: string; create
  * its SHA-256 (a 256-bit random token needs no slow hash).
  */
 export async function createApiToken(userId: string, name: string): Promise<{ id: string; token: string }> {
-  const [{ count }] = await db("api_tokens").where({ userId }).whereNull("revokedAt").count<{ count: string }[]>("* as count");
-  if (Number(count) >= MAX_TOKENS_PER_USER) throw tooMany(`tokens: at most ${MAX_TOKENS_PER_USER} active tokens per user; revoke one first`);
+  const active = await db("api_tokens").where({ userId }).whereNull("revokedAt").count<{ count: string }[]>("* as count");
+  if (Number(active[0]?.count ?? 0) >= MAX_TOKENS_PER_USER) throw tooMany(`tokens: at most ${MAX_TOKENS_PER_USER} active tokens per user; revoke one first`);
   const token = `bw_${randomBytes(32).toString("base64url")}`;
   const [row] = await db("api_tokens").insert({ userId, name, tokenHash: sha256(token), prefix: token.slice(0, 9) }).returning(["id"]);
   return { id: String(row.id), token };

@@ -1,0 +1,19 @@
+import type { Metadata } from "next";
+import Link from "next/link";
+
+import { SignInForm } from "./sign-in-form";
+
+export const metadata: Metadata = { title: "Sign in" };
+
+export default async function SignInPage({ searchParams }: { searchParams: Promise<{ callbackUrl?: string; error?: string }> }) {
+  const { callbackUrl, error } = await searchParams;
+  // Only same-site paths are followed after sign-in.
+  const next = callbackUrl && callbackUrl.startsWith("/") && !callbackUrl.startsWith("//") ? callbackUrl : "/labs";
+  return (
+    <>
+      <h1 className="text-2xl font-semibold">Sign in</h1>
+      <SignInForm callbackUrl={next} initialError={error ? "E-mail or password is wrong." : undefined} />
+      <p className="text-sm text-ink-soft">No account yet? <Link href="/signup">Create one</Link>; it comes with a lab of your own.</p>
+    </>
+  );
+}

@@ -1,0 +1,53 @@
+import { db } from "@/db/client";
+import { conflict, notFound } from "@/lib/http";
+import type { Role } from "@/lib/schemas/auth";
+
+export interface LabMember { userId: string; email: string; name: string; role: Role; joinedAt: Date }
+
+export async function getLab(labId: string): Promise<{ id: string; name: string; isDemo: boolean; createdAt: Date } | null> {
+  return (await db("labs").where({ id: labId }).first("id", "name", "isDemo", "createdAt")) ?? null;
+}
+
+export async function renameLab(labId: string, name: string): Promise<void> {
+  await db("labs").where({ id: labId }).update({ name, updatedAt: db.fn.now() });
+}
+
+export async function listMembers(labId: string): Promise<LabMember[]> {
+  const rows = await db("memberships as m").join("users as u", "u.id", "m.userId").where("m.labId", labId)
+    .orderByRaw("case m.role when 'owner' then 0 when 'modeler' then 1 else 2 end").orderBy("u.email")
+    .select("u.id as userId", "u.email", "u.name", "m.role", "m.createdAt as joinedAt");
+  return rows.map((r: LabMember) => ({ ...r, userId: String(r.userId) }));
+}
+
+/**
+ * Adds an existing user to the lab.
+ * @throws 404 when no account has the e-mail, 409 when the user is already a member.
+ */
+export async function addMember(labId: string, email: string, role: Role): Promise<LabMember> {
+  const user = await db("users").where({ email }).first("id", "email", "name");
+  if (!user) throw notFound("email");
+  try {
+    const [m] = await db("memberships").insert({ labId, userId: user.id, role }).returning(["createdAt"]);
+    return { userId: String(user.id), email: user.email, name: user.name, role, joinedAt: m.createdAt };
+  } catch (e) {
+    if ((e as { code?: string }).code === "23505") throw conflict("email: already a member of this lab");
+    throw e;
+  }
+}
+
+/** Changes a member's role, or removes the member (role null); a lab always keeps an owner. */
+export async function setMemberRole(labId: string, userId: string, role: Role | null): Promise<void> {
+  await db.transaction(async (trx) => {
+    // Lock the lab's memberships so two owners cannot demote each other at once.
+    const members = await trx("memberships").where({ labId }).forUpdate().select("userId", "role");
+    const target = members.find((m: { userId: string }) => String(m.userId) === userId);
+    if (!target) throw notFound("member");
+    const owners = members.filter((m: { role: Role }) => m.role === "owner").length;
+    if (target.role === "owner" && role !== "owner" && owners <= 1) {
+      throw conflict("role: the lab's last owner cannot be demoted or removed; make someone else owner first");
+    }
+    const q = trx("memberships").where({ labId, userId });
+    if (role) await q.update({ role, updatedAt: trx.fn.now() });
+    else await q.delete();
+  });
+}
