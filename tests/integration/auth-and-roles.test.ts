@@ -1,0 +1,190 @@
+import type { Knex } from "knex";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+
+import { Client, newUser } from "../support/client";
+import { testDb } from "../support/db";
+
+type Role = "owner" | "modeler" | "reviewer";
+interface Ctx { labId: string; reviewerId: string; spareEmail: () => Promise<string> }
+interface RouteCase { name: string; method: string; path: (c: Ctx) => string; body?: (c: Ctx) => Promise<unknown> | unknown; allowed: Role[] }
+
+/**
+ * Every lab-scoped route, with the roles that may call it. Later routes join this table;
+ * each row is checked for 401 (no session), 404 (not a member) and 403 (role may not).
+ */
+export const LAB_ROUTES: RouteCase[] = [
+  { name: "read a lab", method: "GET", path: (c) => `/api/labs/${c.labId}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "rename a lab", method: "PATCH", path: (c) => `/api/labs/${c.labId}`, body: () => ({ name: "Renamed lab" }), allowed: ["owner"] },
+  { name: "list members", method: "GET", path: (c) => `/api/labs/${c.labId}/members`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "add a member", method: "POST", path: (c) => `/api/labs/${c.labId}/members`, body: async (c) => ({ email: await c.spareEmail(), role: "reviewer" }), allowed: ["owner"] },
+  { name: "change a role", method: "PATCH", path: (c) => `/api/labs/${c.labId}/members/${c.reviewerId}`, body: () => ({ role: "reviewer" }), allowed: ["owner"] },
+];
+
+let db: Knex;
+let owner: Awaited<ReturnType<typeof newUser>>;
+let outsider: Awaited<ReturnType<typeof newUser>>;
+const members: Partial<Record<Role, Client>> = {};
+let ctx: Ctx;
+
+beforeAll(async () => {
+  db = testDb();
+  owner = await newUser("owner");
+  outsider = await newUser("outsider");
+  const modeler = await newUser("modeler");
+  const reviewer = await newUser("reviewer");
+  for (const [u, role] of [[modeler, "modeler"], [reviewer, "reviewer"]] as const) {
+    const r = await owner.client.request("POST", `/api/labs/${owner.labId}/members`, { email: u.email, role });
+    expect(r.status).toBe(201);
+  }
+  members.owner = owner.client;
+  members.modeler = modeler.client;
+  members.reviewer = reviewer.client;
+  ctx = { labId: owner.labId, reviewerId: reviewer.userId, spareEmail: async () => (await newUser("spare")).email };
+});
+
+afterAll(async () => {
+  await db.destroy();
+});
+
+describe("sign-up and sign-in", () => {
+  it("POST /api/signup creates the user, a lab of their own and an owner membership", async () => {
+    const { userId, labId, client } = await newUser("fresh");
+    const row = await db("memberships").where({ user_id: userId, lab_id: labId }).first();
+    expect(row.role).toBe("owner");
+    const labs = await client.request("GET", "/api/labs");
+    expect(labs.status).toBe(200);
+    expect(labs.json.labs).toEqual([{ id: labId, name: "fresh's lab", role: "owner" }]);
+  });
+
+  it("stores the password only as a bcrypt hash", async () => {
+    const { email, password } = await newUser("hash");
+    const row = await db("users").where({ email }).first();
+    expect(row.password_hash).toMatch(/^\$2[aby]\$12\$/);
+    expect(row.password_hash).not.toContain(password);
+  });
+
+  it("refuses a wrong password and an unknown e-mail", async () => {
+    const { email } = await newUser("wrongpw");
+    expect(await new Client().signIn(email, "not the password at all")).toBe(false);
+    expect(await new Client().signIn("nobody@test.example", "whatever password")).toBe(false);
+  });
+
+  it("signs in the demo modeler with the demo password (CONTRACT.md §3)", async () => {
+    const c = new Client();
+    expect(await c.signIn("modeler@sentinel.example", "sentinel-demo")).toBe(true);
+    const labs = await c.request("GET", "/api/labs");
+    expect(labs.json.labs).toContainEqual(expect.objectContaining({ name: "Soil Sentinel", role: "modeler" }));
+  });
+
+  it("a second sign-up with the same e-mail (any case) is a 409 and writes nothing", async () => {
+    const { email } = await newUser("dup");
+    const before = await db("users").count("* as n").first();
+    const r = await new Client().request("POST", "/api/signup", { email: email.toUpperCase(), name: "Dup", password: "another password" });
+    expect(r.status).toBe(409);
+    expect(r.json.error).toMatch(/^email: /);
+    expect(await db("users").count("* as n").first()).toEqual(before);
+  });
+});
+
+describe("bad sign-up input gets 400/422 naming the field, and nothing is written", () => {
+  const cases: [string, unknown, RegExp][] = [
+    ["missing e-mail", { name: "A", password: "long enough pw" }, /^email: /],
+    ["missing password", { email: "a@test.example", name: "A" }, /^password: /],
+    ["missing name", { email: "a@test.example", password: "long enough pw" }, /^name: /],
+    ["bad e-mail", { email: "not-an-email", name: "A", password: "long enough pw" }, /^email: not a valid e-mail/],
+    ["short password", { email: "a@test.example", name: "A", password: "short" }, /^password: at least 10/],
+    ["unknown field", { email: "a@test.example", name: "A", password: "long enough pw", role: "owner" }, /role|Unrecognized/i],
+    ["an array", [1, 2, 3], /^body: /],
+  ];
+  it.each(cases)("%s", async (_label, body, message) => {
+    const before = await db("users").count("* as n").first();
+    const r = await new Client().request("POST", "/api/signup", body);
+    expect([400, 422]).toContain(r.status);
+    expect(r.json.error).toMatch(message);
+    expect(await db("users").count("* as n").first()).toEqual(before);
+  });
+
+  it("1 MB of junk is a 400 naming the body", async () => {
+    const before = await db("users").count("* as n").first();
+    const r = await new Client().request("POST", "/api/signup", undefined, "x".repeat(1024 * 1024));
+    expect(r.status).toBe(400);
+    expect(r.json.error).toMatch(/^body: /);
+    expect(await db("users").count("* as n").first()).toEqual(before);
+  });
+
+  it("malformed JSON is a 400 naming the body", async () => {
+    const r = await new Client().request("POST", "/api/signup", undefined, '{"email": ');
+    expect(r.status).toBe(400);
+    expect(r.json.error).toBe("body: not valid JSON");
+  });
+});
+
+describe("every lab route checks the session, membership and role", () => {
+  it.each(LAB_ROUTES)("$method $name: 401 without a session", async (route) => {
+    const r = await new Client().request(route.method, route.path(ctx), route.body ? await route.body(ctx) : undefined);
+    expect(r.status).toBe(401);
+    expect(r.json.error).toMatch(/^session: /);
+  });
+
+  it.each(LAB_ROUTES)("$method $name: 404 for a user outside the lab (its data stays private)", async (route) => {
+    const r = await outsider.client.request(route.method, route.path(ctx), route.body ? await route.body(ctx) : undefined);
+    expect(r.status).toBe(404);
+    expect(JSON.stringify(r.json)).not.toContain("Renamed lab");
+  });
+
+  for (const role of ["owner", "modeler", "reviewer"] as const) {
+    it.each(LAB_ROUTES)(`$method $name as ${role}`, async (route) => {
+      const r = await members[role]!.request(route.method, route.path(ctx), route.body ? await route.body(ctx) : undefined);
+      if (route.allowed.includes(role)) expect(r.status, r.text).toBeLessThan(300);
+      else {
+        expect(r.status).toBe(403);
+        expect(r.json.error).toMatch(/^role: /);
+      }
+    });
+  }
+
+  it("GET /api/labs lists only the caller's own labs", async () => {
+    const r = await outsider.client.request("GET", "/api/labs");
+    expect(r.json.labs.map((l: { id: string }) => l.id)).toEqual([outsider.labId]);
+  });
+
+  it("the last owner cannot be demoted (409), and a role change applies at once", async () => {
+    const demote = await owner.client.request("PATCH", `/api/labs/${owner.labId}/members/${owner.userId}`, { role: "modeler" });
+    expect(demote.status).toBe(409);
+    expect(demote.json.error).toMatch(/^role: /);
+    const promote = await owner.client.request("PATCH", `/api/labs/${owner.labId}/members/${ctx.reviewerId}`, { role: "modeler" });
+    expect(promote.status).toBe(200);
+    const asNewModeler = await members.reviewer!.request("GET", "/api/labs");
+    expect(asNewModeler.json.labs).toContainEqual(expect.objectContaining({ id: owner.labId, role: "modeler" }));
+    await owner.client.request("PATCH", `/api/labs/${owner.labId}/members/${ctx.reviewerId}`, { role: "reviewer" });
+  });
+
+  it("an unknown role is a 422 naming the role field", async () => {
+    const r = await owner.client.request("PATCH", `/api/labs/${owner.labId}/members/${ctx.reviewerId}`, { role: "admin" });
+    expect(r.status).toBe(422);
+    expect(r.json.error).toMatch(/^role: /);
+  });
+});
+
+describe("personal API tokens", () => {
+  it("a token is shown once, stored hashed, carries the user's roles, and stops working when revoked", async () => {
+    const { client, labId } = await newUser("tokens");
+    const created = await client.request("POST", "/api/tokens", { name: "script" });
+    expect(created.status).toBe(201);
+    const token: string = created.json.token;
+    const row = await db("api_tokens").where({ id: created.json.id }).first();
+    expect(row.token_hash).not.toContain(token);
+    const list = await client.request("GET", "/api/tokens");
+    expect(JSON.stringify(list.json)).not.toContain(token);
+
+    const script = Client.withToken(token);
+    const labs = await script.request("GET", "/api/labs");
+    expect(labs.json.labs).toEqual([expect.objectContaining({ id: labId, role: "owner" })]);
+    expect((await script.request("GET", `/api/labs/${owner.labId}`)).status).toBe(404);
+    expect((await script.request("POST", "/api/tokens", { name: "more" })).status).toBe(403);
+
+    expect((await client.request("DELETE", `/api/tokens/${created.json.id}`)).status).toBe(204);
+    expect((await script.request("GET", "/api/labs")).status).toBe(401);
+    expect((await Client.withToken("bw_made_up").request("GET", "/api/labs")).status).toBe(401);
+  });
+});

@@ -1,0 +1,59 @@
+import { randomUUID } from "node:crypto";
+
+import { testEnv } from "./env";
+
+/** A tiny HTTP client that keeps cookies, like a browser session, for route tests. */
+export class Client {
+  private cookies = new Map<string, string>();
+  constructor(readonly baseUrl = testEnv().baseUrl, private bearer?: string) {}
+
+  static withToken(token: string) {
+    return new Client(testEnv().baseUrl, token);
+  }
+
+  async request(method: string, path: string, body?: unknown, raw?: string): Promise<{ status: number; json: any; text: string }> {
+    const headers: Record<string, string> = {};
+    if (this.cookies.size) headers.cookie = [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ");
+    if (this.bearer) headers.authorization = `Bearer ${this.bearer}`;
+    if (body !== undefined || raw !== undefined) headers["content-type"] = "application/json";
+    const res = await fetch(this.baseUrl + path, { method, headers, body: raw ?? (body === undefined ? undefined : JSON.stringify(body)), redirect: "manual" });
+    this.keepCookies(res);
+    const text = await res.text();
+    let json: any = null;
+    try { json = JSON.parse(text); } catch { /* not JSON */ }
+    return { status: res.status, json, text };
+  }
+
+  private keepCookies(res: Response) {
+    for (const c of res.headers.getSetCookie()) {
+      const [pair] = c.split(";");
+      const i = pair!.indexOf("=");
+      const name = pair!.slice(0, i);
+      const value = pair!.slice(i + 1);
+      if (value === "" || /max-age=0/i.test(c)) this.cookies.delete(name);
+      else this.cookies.set(name, value);
+    }
+  }
+
+  /** Signs in through next-auth's credentials flow; true when a session results. */
+  async signIn(email: string, password: string): Promise<boolean> {
+    const csrf = await this.request("GET", "/api/auth/csrf");
+    const form = new URLSearchParams({ csrfToken: csrf.json.csrfToken, email, password, json: "true" });
+    const headers: Record<string, string> = { "content-type": "application/x-www-form-urlencoded", cookie: [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ") };
+    const res = await fetch(`${this.baseUrl}/api/auth/callback/credentials`, { method: "POST", headers, body: form, redirect: "manual" });
+    this.keepCookies(res);
+    const session = await this.request("GET", "/api/auth/session");
+    return Boolean(session.json?.user?.id);
+  }
+}
+
+/** Signs up a fresh user with its own lab; returns the signed-in client and ids. */
+export async function newUser(prefix = "user"): Promise<{ client: Client; email: string; password: string; userId: string; labId: string }> {
+  const email = `${prefix}-${randomUUID().slice(0, 8)}@test.example`;
+  const password = "correct horse battery";
+  const client = new Client();
+  const res = await client.request("POST", "/api/signup", { email, name: prefix, password });
+  if (res.status !== 201) throw new Error(`sign-up failed: ${res.status} ${res.text}`);
+  if (!(await client.signIn(email, password))) throw new Error("sign-in after sign-up failed");
+  return { client, email, password, userId: res.json.user_id, labId: res.json.lab_id };
+}
