@@ -1,0 +1,115 @@
+/**
+ * Mean-field trace of a compiled circuit: dy/dt = Sᵀ·f(y) (SCIENCE.md "Deterministic model"),
+ * integrated by ode-solvers.ts and sampled on the grid 0, dt, 2dt, …, tEnd. Pure: no I/O.
+ */
+import type { Model } from "./model";
+import { integrate, type IntegrateStats, type OdeMethod, type OdeRhs } from "./ode-solvers";
+
+export { OdeError, integrate, type OdeMethod, type OdeRhs, type IntegrateOptions, type IntegrateStats } from "./ode-solvers";
+
+/** The part of a compiled Model the deterministic code needs. */
+export type MeanFieldModel = Pick<Model, "species" | "nSpecies" | "nReactions" | "omega" | "initialAmounts" | "netStoich" | "rates">;
+
+export interface SolveOdeOptions {
+  /** End of the grid, in the model's time unit. */
+  tEnd: number;
+  /** Grid spacing, in the model's time unit. */
+  dt: number;
+  method?: OdeMethod;
+  rtol?: number;
+  atol?: number;
+  /** "model" (default): model amounts; "molecules": amounts × Ω. */
+  units?: "model" | "molecules";
+  /** Start from these amounts (model units) instead of model.initialAmounts. */
+  y0?: ArrayLike<number>;
+  maxSteps?: number;
+}
+
+export interface OdeSolution {
+  units: "model" | "molecules";
+  species: string[];
+  times: number[];
+  /** Path of each species on the grid. */
+  trace: Record<string, number[]>;
+  /** Final state in model units (whatever `units` is). */
+  final: Float64Array;
+  stats: IntegrateStats;
+}
+
+/**
+ * The output grid 0, dt, 2dt, …: k·dt for k = 0 … ⌊tEnd/dt⌋ (with a 1e-9 relative allowance so
+ * that 10/0.1 gives 101 points), plus tEnd itself when dt does not divide it.
+ * @throws RangeError unless 0 < dt ≤ tEnd.
+ */
+export function outputGrid(tEnd: number, dt: number): Float64Array {
+  if (!(Number.isFinite(tEnd) && tEnd > 0)) throw new RangeError(`tEnd must be > 0, got ${tEnd}`);
+  if (!(Number.isFinite(dt) && dt > 0 && dt <= tEnd)) throw new RangeError(`dt must be in (0, tEnd], got ${dt}`);
+  const steps = Math.floor(tEnd / dt + 1e-9);
+  const lastOnGrid = steps * dt;
+  const extra = Math.abs(lastOnGrid - tEnd) > 1e-9 * tEnd ? 1 : 0;
+  const grid = new Float64Array(steps + 1 + extra);
+  for (let k = 0; k <= steps; k++) grid[k] = k * dt;
+  if (extra) grid[steps + 1] = tEnd;
+  else grid[steps] = Math.min(grid[steps], tEnd);
+  return grid;
+}
+
+/** Right-hand side dy/dt = Sᵀ·f(y) of a model, in model amount per model time. */
+export function meanFieldRhs(model: MeanFieldModel): OdeRhs {
+  const nS = model.nSpecies;
+  const nR = model.nReactions;
+  const S = model.netStoich;
+  // Sparse copy of the stoichiometry (reaction, species, change), so the RHS skips zeros.
+  const rIdx: number[] = [];
+  const sIdx: number[] = [];
+  const delta: number[] = [];
+  for (let r = 0; r < nR; r++) {
+    for (let i = 0; i < nS; i++) {
+      const v = S[r * nS + i];
+      if (v !== 0) {
+        rIdx.push(r);
+        sIdx.push(i);
+        delta.push(v);
+      }
+    }
+  }
+  const ri = Int32Array.from(rIdx);
+  const si = Int32Array.from(sIdx);
+  const dv = Float64Array.from(delta);
+  const rates = new Float64Array(nR);
+  return (y, dydt) => {
+    model.rates(y, rates);
+    dydt.fill(0);
+    for (let p = 0; p < ri.length; p++) dydt[si[p]] += dv[p] * rates[ri[p]];
+  };
+}
+
+/**
+ * Integrates the mean field of `model` and samples it on the grid 0, dt, …, tEnd.
+ * Dormand–Prince 5(4) by default, switching to RODAS4 when the problem turns out stiff
+ * (`method: "auto"`); `dopri5` or `rosenbrock` force one method.
+ * @throws RangeError for bad options; OdeError when the integration fails.
+ */
+export function solveOde(model: MeanFieldModel, options: SolveOdeOptions): OdeSolution {
+  const units = options.units ?? "model";
+  if (units !== "model" && units !== "molecules") throw new RangeError(`units must be "model" or "molecules", got ${String(units)}`);
+  const grid = outputGrid(options.tEnd, options.dt);
+  const y0 = options.y0 ?? model.initialAmounts;
+  if (y0.length !== model.nSpecies) throw new RangeError(`y0 must have ${model.nSpecies} entries, got ${y0.length}`);
+  const { values, stats } = integrate(meanFieldRhs(model), y0, grid, {
+    method: options.method,
+    rtol: options.rtol,
+    atol: options.atol,
+    maxSteps: options.maxSteps,
+  });
+  const nS = model.nSpecies;
+  const scale = units === "molecules" ? model.omega : 1;
+  const trace: Record<string, number[]> = {};
+  model.species.forEach((id, i) => {
+    const path = new Array<number>(grid.length);
+    for (let k = 0; k < grid.length; k++) path[k] = values[k * nS + i] * scale;
+    trace[id] = path;
+  });
+  const final = values.slice((grid.length - 1) * nS);
+  return { units, species: model.species.slice(), times: Array.from(grid), trace, final, stats };
+}
