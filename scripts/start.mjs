@@ -46,6 +46,10 @@ function spawnWorker() {
 }
 spawnWorker();
 
+await waitForHttp(`http://${host === "0.0.0.0" ? "127.0.0.1" : host}:${port}/api/health`, 120_000).catch((e) => {
+  log(e.message);
+  shutdown(1);
+});
 log(`ready in ${((Date.now() - started) / 1000).toFixed(1)} s`);
 log(`Burstwise is at ${url}`);
 log("Demo sign-ins (demo credentials, password sentinel-demo):");
@@ -62,3 +66,14 @@ async function shutdown(code = 0) {
 }
 process.on("SIGINT", () => shutdown(0));
 process.on("SIGTERM", () => shutdown(0));
+
+async function waitForHttp(target, timeoutMs) {
+  const until = Date.now() + timeoutMs;
+  while (Date.now() < until && !stopping) {
+    try {
+      if ((await fetch(target)).ok) return;
+    } catch { /* not up yet */ }
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  if (!stopping) throw new Error(`${target} did not answer within ${timeoutMs / 1000} s`);
+}
