@@ -315,7 +315,7 @@ export function conservationAnalysis(s: Float64Array, nSpecies: number, nReactio
         // Stoichiometries are small integers, so link entries are usually simple rationals;
         // snap round-off (|v − round(v)| < 1e-12) so conserved totals stay exact.
         const rv = Math.round(v);
-        link[dI * r + c] = Math.abs(v - rv) < 1e-12 ? rv : v;
+        link[dI * r + c] = Math.abs(v - rv) < 1e-12 ? rv + 0 : v; // + 0 turns −0 into 0
       }
     }
   }

@@ -1,0 +1,240 @@
+/**
+ * Jacobian of the mean field and the linear noise approximation (LNA) at a steady state.
+ * Derivatives of the rate laws are exact: closed forms for mass action and Hill laws, forward-mode
+ * automatic differentiation (dual numbers) over the parsed `expression` AST. Pure: no I/O.
+ */
+import type { Expr } from "./expr";
+import { conservationAnalysis, lyapunov, type Conservation } from "./linalg";
+import { LawCode, powNonNeg, type Model } from "./model";
+
+/** The part of a compiled Model the Jacobian needs. */
+export type JacobianModel = Pick<
+  Model,
+  | "nSpecies" | "nReactions" | "netStoich" | "rates" | "law" | "k" | "reactantPtr" | "reactantIdx" | "reactantNu"
+  | "hillInput" | "vmax" | "K" | "n" | "expressions" | "speciesIndex" | "parameters"
+>;
+
+/**
+ * ∂f_r/∂y_i of every rate law at amounts y (model units), dense row-major nReactions × nSpecies.
+ * Mass action k·Π y^ν: k·ν_i·y_i^(ν_i−1)·Π_{j≠i} y_j^ν_j. Hill: d/dx [x^n/(K^n+x^n)] =
+ * (n/K)·(x/K)^(n−1)/(1+(x/K)^n)²; repression is its negative. Expressions: dual numbers.
+ */
+export function rateJacobian(model: JacobianModel, y: Float64Array): Float64Array {
+  const nS = model.nSpecies;
+  const nR = model.nReactions;
+  const out = new Float64Array(nR * nS);
+  const paramMap = new Map(Object.entries(model.parameters));
+  for (let r = 0; r < nR; r++) {
+    const law = model.law[r];
+    if (law === LawCode.MassAction) {
+      const p0 = model.reactantPtr[r];
+      const p1 = model.reactantPtr[r + 1];
+      for (let p = p0; p < p1; p++) {
+        const i = model.reactantIdx[p];
+        const nu = model.reactantNu[p];
+        let v = model.k[r] * nu * powNonNeg(y[i], nu - 1);
+        for (let q = p0; q < p1; q++) if (q !== p) v *= powNonNeg(y[model.reactantIdx[q]], model.reactantNu[q]);
+        out[r * nS + i] += v;
+      }
+    } else if (law === LawCode.HillActivation || law === LawCode.HillRepression) {
+      const i = model.hillInput[r];
+      const x = y[i];
+      if (x < 0) continue; // rates() clamps the input at 0, so the rate is flat there
+      const K = model.K[r];
+      const n = model.n[r];
+      const u = x / K;
+      const ratio = powNonNeg(u, n);
+      let d: number;
+      if (u === 0) d = n === 1 ? 1 / K : n > 1 ? 0 : Infinity;
+      else d = (n / K) * powNonNeg(u, n - 1) / ((1 + ratio) * (1 + ratio));
+      if (!Number.isFinite(ratio)) d = 0;
+      out[r * nS + i] = (law === LawCode.HillActivation ? 1 : -1) * model.vmax[r] * d;
+    } else {
+      const expr = model.expressions[r] as Expr;
+      for (let i = 0; i < nS; i++) out[r * nS + i] = dual(expr, y, i, model.speciesIndex, paramMap)[1];
+    }
+  }
+  return out;
+}
+
+/** Value and derivative along species `dir` of an expression (forward-mode AD). */
+function dual(e: Expr, y: Float64Array, dir: number, idx: ReadonlyMap<string, number>, params: ReadonlyMap<string, number>): [number, number] {
+  switch (e.kind) {
+    case "num":
+      return [e.value, 0];
+    case "param":
+      return [params.get(e.id) as number, 0];
+    case "species": {
+      const i = idx.get(e.id) as number;
+      return [y[i], i === dir ? 1 : 0];
+    }
+    case "neg": {
+      const [v, d] = dual(e.arg, y, dir, idx, params);
+      return [-v, -d];
+    }
+    case "bin": {
+      const [a, da] = dual(e.left, y, dir, idx, params);
+      const [b, db] = dual(e.right, y, dir, idx, params);
+      switch (e.op) {
+        case "+":
+          return [a + b, da + db];
+        case "-":
+          return [a - b, da - db];
+        case "*":
+          return [a * b, da * b + a * db];
+        case "/":
+          return [a / b, (da * b - a * db) / (b * b)];
+        case "^":
+          return powDual(a, da, b, db);
+      }
+      break;
+    }
+    case "call": {
+      const args = e.args.map((x) => dual(x, y, dir, idx, params));
+      switch (e.fn) {
+        case "exp": {
+          const v = Math.exp(args[0][0]);
+          return [v, v * args[0][1]];
+        }
+        case "log":
+          return [Math.log(args[0][0]), args[0][1] / args[0][0]];
+        case "sqrt": {
+          const v = Math.sqrt(args[0][0]);
+          return [v, args[0][1] === 0 ? 0 : args[0][1] / (2 * v)];
+        }
+        case "pow":
+          return powDual(args[0][0], args[0][1], args[1][0], args[1][1]);
+        case "min":
+        case "max": {
+          // The derivative of the selected argument (a one-sided derivative at ties).
+          let best = args[0];
+          for (let k = 1; k < args.length; k++) {
+            if (e.fn === "min" ? args[k][0] < best[0] : args[k][0] > best[0]) best = args[k];
+          }
+          return [best[0], best[1]];
+        }
+      }
+    }
+  }
+  throw new TypeError(`rateJacobian: unexpected expression node ${JSON.stringify(e)}`);
+}
+
+function powDual(a: number, da: number, b: number, db: number): [number, number] {
+  const v = Math.pow(a, b);
+  // d(a^b) = b·a^(b−1)·da + a^b·ln(a)·db; the second term vanishes when b is constant.
+  let d = da === 0 ? 0 : b * Math.pow(a, b - 1) * da;
+  if (db !== 0) d += v * Math.log(a) * db;
+  return [v, d];
+}
+
+/** J = S·∂f/∂y (nSpecies × nSpecies, row-major), the Jacobian of dy/dt = Sᵀf(y) in 1/time. */
+export function meanFieldJacobian(model: JacobianModel, y: Float64Array): Float64Array {
+  const nS = model.nSpecies;
+  const nR = model.nReactions;
+  const df = rateJacobian(model, y);
+  const J = new Float64Array(nS * nS);
+  for (let r = 0; r < nR; r++) {
+    for (let i = 0; i < nS; i++) {
+      const s = model.netStoich[r * nS + i];
+      if (s === 0) continue;
+      for (let j = 0; j < nS; j++) J[i * nS + j] += s * df[r * nS + j];
+    }
+  }
+  return J;
+}
+
+/** Species × reactions stoichiometry S (row-major) from a model's reactions × species netStoich. */
+export function speciesByReaction(model: Pick<Model, "nSpecies" | "nReactions" | "netStoich">): Float64Array {
+  const nS = model.nSpecies;
+  const nR = model.nReactions;
+  const s = new Float64Array(nS * nR);
+  for (let r = 0; r < nR; r++) for (let i = 0; i < nS; i++) s[i * nR + r] = model.netStoich[r * nS + i];
+  return s;
+}
+
+/** Conservation laws of a model's network (see conservationAnalysis). */
+export function modelConservation(model: Pick<Model, "nSpecies" | "nReactions" | "netStoich">): Conservation {
+  return conservationAnalysis(speciesByReaction(model), model.nSpecies, model.nReactions);
+}
+
+/**
+ * Reduced Jacobian J_r = J[I,:]·L with L = [I; L0] mapping independent species to all species
+ * (Reder 1988): the dynamics on the stoichiometric subspace, without the zero eigenvalues that
+ * conserved moieties add. r × r, row-major, in the order of `cons.independent`.
+ */
+export function reducedJacobian(J: Float64Array, nS: number, cons: Conservation): Float64Array {
+  const I = cons.independent;
+  const D = cons.dependent;
+  const r = I.length;
+  const Jr = new Float64Array(r * r);
+  for (let a = 0; a < r; a++) {
+    const row = I[a];
+    for (let b = 0; b < r; b++) {
+      let v = J[row * nS + I[b]];
+      for (let d = 0; d < D.length; d++) v += J[row * nS + D[d]] * cons.link[d * r + b];
+      Jr[a * r + b] = v;
+    }
+  }
+  return Jr;
+}
+
+export interface LnaResult {
+  /** Covariance of molecule counts, nSpecies × nSpecies, row-major (molecules²). */
+  covariance: Float64Array;
+  /** Steady state in molecules. */
+  mean: Float64Array;
+}
+
+/**
+ * Linear noise approximation at a stable steady state y* (model units): Σ solves
+ * A·Σ + Σ·Aᵀ + D = 0 with A the Jacobian and D = S·diag(Ω·f(y*))·Sᵀ, both in molecules
+ * (van Kampen; Elf & Ehrenberg 2003, Genome Res 13:2475). Solved on the independent species
+ * and mapped back with the link matrix, so conserved totals have zero variance, as in the
+ * stochastic model where they are exact. Exact for networks with linear propensities.
+ * @throws RangeError when the reduced Jacobian is not stable (the Lyapunov equation has no
+ *   positive solution).
+ */
+export function linearNoise(model: JacobianModel & Pick<Model, "omega">, yStar: Float64Array, cons: Conservation = modelConservation(model)): LnaResult {
+  const nS = model.nSpecies;
+  const nR = model.nReactions;
+  const omega = model.omega;
+  const f = new Float64Array(nR);
+  model.rates(yStar, f);
+  const I = cons.independent;
+  const D = cons.dependent;
+  const r = I.length;
+  const A = reducedJacobian(meanFieldJacobian(model, yStar), nS, cons);
+  // D_r = S_I · diag(Ω f) · S_Iᵀ, molecules² per time.
+  const Dr = new Float64Array(r * r);
+  for (let k = 0; k < nR; k++) {
+    const a = omega * f[k];
+    if (a === 0) continue;
+    for (let p = 0; p < r; p++) {
+      const sp = model.netStoich[k * nS + I[p]];
+      if (sp === 0) continue;
+      for (let q = 0; q < r; q++) Dr[p * r + q] += sp * a * model.netStoich[k * nS + I[q]];
+    }
+  }
+  const sigmaR = lyapunov(A, Dr, r);
+  // Σ = L·Σ_r·Lᵀ with L (nS × r): rows of independent species are unit vectors, dependent rows L0.
+  const L = new Float64Array(nS * r);
+  I.forEach((sp, a) => (L[sp * r + a] = 1));
+  D.forEach((sp, d) => {
+    for (let b = 0; b < r; b++) L[sp * r + b] = cons.link[d * r + b];
+  });
+  const cov = new Float64Array(nS * nS);
+  for (let i = 0; i < nS; i++) {
+    for (let j = i; j < nS; j++) {
+      let v = 0;
+      for (let a = 0; a < r; a++) {
+        const lia = L[i * r + a];
+        if (lia === 0) continue;
+        for (let b = 0; b < r; b++) v += lia * sigmaR[a * r + b] * L[j * r + b];
+      }
+      cov[i * nS + j] = cov[j * nS + i] = v;
+    }
+  }
+  const mean = new Float64Array(nS);
+  for (let i = 0; i < nS; i++) mean[i] = yStar[i] * omega;
+  return { covariance: cov, mean };
+}
