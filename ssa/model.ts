@@ -94,7 +94,23 @@ export interface Model {
   rates(y: Float64Array, out: Float64Array): void;
   /** Propensity of each reaction (molecules per model time) at counts x. */
   propensities(x: Float64Array, out: Float64Array): void;
+  /** Propensity of reaction j alone (molecules per model time) at counts x. */
+  propensity(j: number, x: Float64Array): number;
+  /** Kernels compiled on first use for this model (see ssa/ensemble.ts kernelFor). */
+  kernels: { direct?: KernelFn; generic?: KernelFn; tau?: KernelFn };
 }
+
+/** Signature of a one-cell kernel (ssa/kernel.ts DirectKernel), repeated here to avoid an import cycle. */
+export type KernelFn = (
+  x: Float64Array,
+  rs: Int32Array,
+  grid: Float64Array,
+  nGrid: number,
+  out: Float64Array,
+  o: number,
+  B: number,
+  maxEvents: number,
+) => number;
 
 /** x^n for a non-negative base; repeated squaring for integer n (SCIENCE.md: integer powers). */
 export function powNonNeg(x: number, n: number): number {
@@ -349,31 +365,31 @@ export function compileModel(c: Circuit, overrides?: Record<string, number>): Mo
   };
 
   const KOmega = K.map((v) => v * omega);
-  const propensities = (x: Float64Array, out: Float64Array): void => {
-    for (let j = 0; j < nR; j++) {
-      let a: number;
-      switch (law[j]) {
-        case LawCode.MassAction: {
-          // c · Π C(x, ν) (Gillespie 1977).
-          a = cc[j];
-          for (let p = reactantPtr[j]; p < reactantPtr[j + 1]; p++) a *= binomialCount(x[reactantIdx[p]], reactantNu[p]);
-          out[j] = a;
-          continue;
-        }
-        case LawCode.HillActivation:
-          // Ω · (basal + vmax · h⁺(x/Ω)), with x/Ω over K written as x over K·Ω.
-          a = omega * (basal[j] + vmax[j] * hillActivation(x[hillInput[j]], KOmega[j], n[j]));
-          break;
-        case LawCode.HillRepression:
-          a = omega * (basal[j] + vmax[j] * hillRepression(x[hillInput[j]], KOmega[j], n[j]));
-          break;
-        default:
-          a = omega * (countEval[j] as ExprEvaluator)(x);
-          if (!(a > 0)) a = 0; // a negative or undefined formula value cannot fire
+  const propensity = (j: number, x: Float64Array): number => {
+    let a: number;
+    switch (law[j]) {
+      case LawCode.MassAction: {
+        // c · Π C(x, ν) (Gillespie 1977).
+        a = cc[j];
+        for (let p = reactantPtr[j]; p < reactantPtr[j + 1]; p++) a *= binomialCount(x[reactantIdx[p]], reactantNu[p]);
+        return a;
       }
-      for (let p = reactantPtr[j]; p < reactantPtr[j + 1]; p++) if (x[reactantIdx[p]] < reactantNu[p]) a = 0;
-      out[j] = a;
+      case LawCode.HillActivation:
+        // Ω · (basal + vmax · h⁺(x/Ω)), with x/Ω over K written as x over K·Ω.
+        a = omega * (basal[j] + vmax[j] * hillActivation(x[hillInput[j]], KOmega[j], n[j]));
+        break;
+      case LawCode.HillRepression:
+        a = omega * (basal[j] + vmax[j] * hillRepression(x[hillInput[j]], KOmega[j], n[j]));
+        break;
+      default:
+        a = omega * (countEval[j] as ExprEvaluator)(x);
+        if (!(a > 0)) a = 0; // a negative or undefined formula value cannot fire
     }
+    for (let p = reactantPtr[j]; p < reactantPtr[j + 1]; p++) if (x[reactantIdx[p]] < reactantNu[p]) return 0;
+    return a;
+  };
+  const propensities = (x: Float64Array, out: Float64Array): void => {
+    for (let j = 0; j < nR; j++) out[j] = propensity(j, x);
   };
 
   return {
@@ -411,7 +427,9 @@ export function compileModel(c: Circuit, overrides?: Record<string, number>): Mo
     expressions,
     speciesIndex,
     rates,
+    propensity,
     propensities,
+    kernels: {},
   };
 }
 

@@ -1,0 +1,237 @@
+/**
+ * Ensembles of cells in chunks: `simulateCells` turns cells [first, last) into a serializable
+ * Partial (ssa/stats.ts), which a thread pool or a background worker can produce anywhere and merge
+ * in any order; `simulateEnsemble` does a whole run on the calling thread; `trajectory` replays one
+ * cell alone. Cell k always uses the stream of (seed, k) (ssa/rng.ts), so a cell's path, and hence
+ * every statistic, is independent of chunking and threads. Pure: no I/O, no clock.
+ */
+import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type DirectKernel } from "./kernel";
+import type { Model } from "./model";
+import { cellRngState } from "./rng";
+import { HistogramBuilder, PARTIAL_FORMAT, cellPeriods, finalizeSummary, mergePartials, type Partial, type SimulateSummary } from "./stats";
+import { tauKernel } from "./tau";
+import { ModelInputError } from "./types";
+
+export type StochasticMethod = "ssa" | "tau";
+
+export interface EnsembleOptions {
+  method: StochasticMethod;
+  /** End time and grid step, in the model's time unit. */
+  tEnd: number;
+  dt: number;
+  seed: number;
+  /** Time before which stationary statistics and periods ignore samples; default tEnd/5. */
+  burnIn?: number;
+  /** Events allowed per cell before the run is stopped as runaway; default 2e9. */
+  maxEventsPerCell?: number;
+  /** "generated" (default when possible) or "generic" direct-method kernel; tau ignores it. */
+  kernel?: "generated" | "generic";
+  /** Minimum width of a cell's hysteresis band, in molecules, for its periods to count; default 2. */
+  minPeriodBand?: number;
+  /** Cells simulated between histogram folds (memory ∝ block · grid points · species); default 256. */
+  blockSize?: number;
+}
+
+const DEFAULT_MAX_EVENTS = 2e9;
+
+/** Grid 0, dt, 2dt, …, ⌊tEnd/dt⌋·dt, each time computed as g·dt (no accumulated round-off). */
+export function makeGrid(tEnd: number, dt: number): Float64Array {
+  if (!(tEnd > 0 && Number.isFinite(tEnd))) throw new RangeError(`tEnd must be a positive number, got ${tEnd}`);
+  if (!(dt > 0 && dt <= tEnd)) throw new RangeError(`dt must be in (0, tEnd], got ${dt}`);
+  const n = Math.floor(tEnd / dt + 1e-9) + 1;
+  if (n > 1e7) throw new RangeError(`tEnd/dt gives ${n} grid points; at most 1e7`);
+  const grid = new Float64Array(n);
+  for (let g = 0; g < n; g++) grid[g] = g * dt;
+  return grid;
+}
+
+/** Burn-in actually used: the option, else tEnd/5 (CONTRACT.md §2). */
+export function burnInOf(o: { tEnd: number; burnIn?: number }): number {
+  return o.burnIn ?? o.tEnd / 5;
+}
+
+function withSentinel(grid: Float64Array): Float64Array {
+  const s = new Float64Array(grid.length + 1);
+  s.set(grid);
+  s[grid.length] = Infinity;
+  return s;
+}
+
+/** The kernel for a model and method, compiled once per model object. */
+export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel">): DirectKernel {
+  if (o.method === "tau") return (m.kernels.tau ??= tauKernel(m));
+  if (o.kernel === "generic" || !canGenerateKernel(m)) return (m.kernels.generic ??= directKernelGeneric(m));
+  return (m.kernels.direct ??= compileDirectKernel(m));
+}
+
+function checkOptions(m: Model, o: EnsembleOptions): void {
+  if (o.method !== "ssa" && o.method !== "tau") throw new RangeError(`method must be "ssa" or "tau", got ${String(o.method)}`);
+  if (!Number.isSafeInteger(o.seed) || o.seed < 0) throw new RangeError(`seed must be a non-negative integer, got ${o.seed}`);
+  if (o.burnIn !== undefined && !(o.burnIn >= 0)) throw new RangeError(`burnIn must be >= 0, got ${o.burnIn}`);
+  if (m.nSpecies < 1) throw new RangeError("model has no species");
+}
+
+/**
+ * Simulates cells [first, last) and returns their exact partial statistics.
+ * @throws RangeError for bad options; ModelInputError when a cell exceeds maxEventsPerCell.
+ */
+export function simulateCells(m: Model, o: EnsembleOptions, first: number, last: number): Partial {
+  checkOptions(m, o);
+  if (!(Number.isSafeInteger(first) && Number.isSafeInteger(last) && 0 <= first && first < last)) {
+    throw new RangeError(`cell range must satisfy 0 <= first < last, got [${first}, ${last})`);
+  }
+  const grid = makeGrid(o.tEnd, o.dt);
+  const gridS = withSentinel(grid);
+  const nT = grid.length;
+  const nS = m.nSpecies;
+  const nPoints = nT * nS;
+  const B = Math.max(1, Math.min(o.blockSize ?? 256, last - first));
+  const kernel = kernelFor(m, o);
+  const maxEvents = o.maxEventsPerCell ?? DEFAULT_MAX_EVENTS;
+  const burnIn = burnInOf(o);
+  let gStart = 0;
+  while (gStart < nT - 1 && grid[gStart] < burnIn) gStart++;
+  const minBand = o.minPeriodBand ?? 2;
+
+  const out = new Float64Array(nPoints * B);
+  const hist = new HistogramBuilder(nPoints, B);
+  const scratch = new Float64Array(nT);
+  const x = new Float64Array(nS);
+  const periods: number[][] = Array.from({ length: nS }, () => []);
+  const amplitudes: number[][] = Array.from({ length: nS }, () => []);
+  const cellPtr: number[][] = Array.from({ length: nS }, () => [0]);
+  let events = 0;
+
+  for (let start = first; start < last; start += B) {
+    const nb = Math.min(B, last - start);
+    for (let b = 0; b < nb; b++) {
+      const cell = start + b;
+      x.set(m.initialCounts);
+      const ev = kernel(x, cellRngState(o.seed, cell), gridS, nT, out, b, B, maxEvents);
+      if (ev < 0) {
+        throw new ModelInputError(`cell ${cell} exceeded ${maxEvents} events; the circuit may grow without bound`);
+      }
+      events += ev;
+      for (let i = 0; i < nS; i++) {
+        cellPeriods(out, i * B + b, nS * B, grid, gStart, nT, minBand, scratch, periods[i], amplitudes[i]);
+        cellPtr[i].push(periods[i].length);
+      }
+    }
+    for (let p = 0; p < nPoints; p++) {
+      const seg = out.subarray(p * B, p * B + nb);
+      seg.sort();
+      hist.addSorted(p, seg);
+    }
+  }
+  const csr = hist.toCSR();
+  return {
+    format: PARTIAL_FORMAT,
+    nSpecies: nS,
+    nTimes: nT,
+    cells: last - first,
+    events,
+    ...csr,
+    segments: [
+      {
+        first,
+        last,
+        species: periods.map((ps, i) => ({
+          cellPtr: Float64Array.from(cellPtr[i]),
+          periods: Float64Array.from(ps),
+          amplitudes: Float64Array.from(amplitudes[i]),
+        })),
+      },
+    ],
+  };
+}
+
+/** Splits [0, runs) into chunks of at most `size` cells, in order. */
+export function chunkRanges(runs: number, size: number): [number, number][] {
+  const out: [number, number][] = [];
+  for (let s = 0; s < runs; s += size) out.push([s, Math.min(runs, s + size)]);
+  return out;
+}
+
+export interface SummaryContext {
+  units?: "molecules" | "model";
+  wallS?: number;
+}
+
+/** The simulate JSON from a merged partial of a run (see finalizeSummary). */
+export function summarize(m: Model, o: EnsembleOptions, partial: Partial, ctx: SummaryContext = {}): SimulateSummary {
+  return finalizeSummary(partial, {
+    method: o.method,
+    seed: o.seed,
+    units: ctx.units ?? "molecules",
+    species: m.species,
+    times: makeGrid(o.tEnd, o.dt),
+    burnIn: burnInOf(o),
+    omega: m.omega,
+    timeUnit: m.timeUnit,
+    amountUnit: m.amountUnit,
+    wallS: ctx.wallS ?? 0,
+  });
+}
+
+/**
+ * A whole ensemble on the calling thread, folded chunk by chunk.
+ * @throws RangeError for bad options.
+ */
+export function simulateEnsemble(m: Model, o: EnsembleOptions, runs: number, ctx: SummaryContext & { chunk?: number } = {}): SimulateSummary {
+  if (!(Number.isSafeInteger(runs) && runs >= 1)) throw new RangeError(`runs must be a positive integer, got ${runs}`);
+  let acc: Partial | null = null;
+  for (const [a, b] of chunkRanges(runs, ctx.chunk ?? 1000)) {
+    const p = simulateCells(m, o, a, b);
+    acc = acc ? mergePartials(acc, p) : p;
+  }
+  return summarize(m, o, acc as Partial, ctx);
+}
+
+export interface TrajectoryResult {
+  seed: number;
+  index: number;
+  units: "molecules" | "model";
+  species: string[];
+  times: number[];
+  values: Record<string, number[]>;
+  events: number;
+  method: StochasticMethod;
+  time_unit: string;
+  amount_unit: string;
+}
+
+/**
+ * Cell `index` of the ensemble drawn with `seed`, replayed alone (CONTRACT.md `trajectory`).
+ * @throws RangeError for a bad index or options; ModelInputError for a runaway cell.
+ */
+export function trajectory(m: Model, o: EnsembleOptions, index: number, units: "molecules" | "model" = "molecules"): TrajectoryResult {
+  checkOptions(m, o);
+  if (!(Number.isSafeInteger(index) && index >= 0)) throw new RangeError(`index must be a non-negative integer, got ${index}`);
+  const grid = makeGrid(o.tEnd, o.dt);
+  const nT = grid.length;
+  const nS = m.nSpecies;
+  const out = new Float64Array(nT * nS);
+  const x = Float64Array.from(m.initialCounts);
+  const maxEvents = o.maxEventsPerCell ?? DEFAULT_MAX_EVENTS;
+  const events = kernelFor(m, o)(x, cellRngState(o.seed, index), withSentinel(grid), nT, out, 0, 1, maxEvents);
+  if (events < 0) throw new ModelInputError(`cell ${index} exceeded ${maxEvents} events; the circuit may grow without bound`);
+  const scale = units === "model" ? m.omega : 1;
+  const values: Record<string, number[]> = {};
+  m.species.forEach((id, i) => {
+    const v: number[] = new Array(nT);
+    for (let g = 0; g < nT; g++) v[g] = out[g * nS + i] / scale;
+    values[id] = v;
+  });
+  return {
+    seed: o.seed,
+    index,
+    units,
+    species: m.species,
+    times: Array.from(grid),
+    values,
+    events,
+    method: o.method,
+    time_unit: m.timeUnit,
+    amount_unit: units === "model" ? m.amountUnit : "molecules",
+  };
+}

@@ -1,0 +1,500 @@
+/**
+ * Ensemble statistics that merge exactly: a chunk of cells becomes a `Partial` (per grid point and
+ * species, a sparse histogram of integer counts; per cell, its oscillation periods and amplitudes in
+ * cell order), partials merge in any order to the same value, and `finalizeSummary` reads means,
+ * SDs, quantiles, final and stationary moments and period statistics from the merged partial in a
+ * fixed order. So the output bytes never depend on threads or chunking (SCIENCE.md "Engineering
+ * notes"). Pure: no I/O.
+ */
+
+export const PARTIAL_FORMAT = "burstwise.partial/1" as const;
+
+/** Periods and amplitudes of one species for a contiguous range of cells, in cell order. */
+export interface CellSeriesList {
+  /** cellPtr[k]..cellPtr[k+1] index the entries of cell first + k. */
+  cellPtr: Float64Array;
+  periods: Float64Array;
+  amplitudes: Float64Array;
+}
+
+export interface PeriodSegment {
+  first: number;
+  last: number;
+  species: CellSeriesList[];
+}
+
+/**
+ * Serializable partial result of cells [first, last) of an ensemble (structured-clone safe:
+ * numbers, strings and typed arrays only).
+ */
+export interface Partial {
+  format: typeof PARTIAL_FORMAT;
+  nSpecies: number;
+  nTimes: number;
+  cells: number;
+  events: number;
+  /** Sparse histograms per point p = g·nSpecies + i: values[ptr[p]..ptr[p+1]) ascending, with counts. */
+  histPtr: Float64Array;
+  histValues: Float64Array;
+  histCounts: Float64Array;
+  /** Cell ranges in ascending order, contiguous ranges joined. */
+  segments: PeriodSegment[];
+}
+
+/** Builds per-point sparse histograms from blocks of samples. */
+export class HistogramBuilder {
+  private values: Float64Array[];
+  private counts: Float64Array[];
+  private readonly scratchV: Float64Array;
+  private readonly scratchC: Float64Array;
+
+  constructor(readonly nPoints: number, maxBlock: number) {
+    this.values = new Array(nPoints);
+    this.counts = new Array(nPoints);
+    const empty = new Float64Array(0);
+    for (let p = 0; p < nPoints; p++) {
+      this.values[p] = empty;
+      this.counts[p] = empty;
+    }
+    this.scratchV = new Float64Array(maxBlock);
+    this.scratchC = new Float64Array(maxBlock);
+  }
+
+  /** Adds the samples of point p; `sorted` must be ascending (it is read, not kept). */
+  addSorted(p: number, sorted: Float64Array): void {
+    const n = sorted.length;
+    if (n === 0) return;
+    let k = 0;
+    const rv = this.scratchV;
+    const rc = this.scratchC;
+    for (let i = 0; i < n; i++) {
+      const v = sorted[i];
+      if (k > 0 && rv[k - 1] === v) rc[k - 1] += 1;
+      else {
+        rv[k] = v;
+        rc[k] = 1;
+        k++;
+      }
+    }
+    const [mv, mc] = mergeSparse(this.values[p], this.counts[p], rv.subarray(0, k), rc.subarray(0, k));
+    this.values[p] = mv;
+    this.counts[p] = mc;
+  }
+
+  toCSR(): { histPtr: Float64Array; histValues: Float64Array; histCounts: Float64Array } {
+    const histPtr = new Float64Array(this.nPoints + 1);
+    for (let p = 0; p < this.nPoints; p++) histPtr[p + 1] = histPtr[p] + this.values[p].length;
+    const histValues = new Float64Array(histPtr[this.nPoints]);
+    const histCounts = new Float64Array(histPtr[this.nPoints]);
+    for (let p = 0; p < this.nPoints; p++) {
+      histValues.set(this.values[p], histPtr[p]);
+      histCounts.set(this.counts[p], histPtr[p]);
+    }
+    return { histPtr, histValues, histCounts };
+  }
+}
+
+/** Merges two ascending sparse histograms (exact: integer counts add). */
+export function mergeSparse(av: Float64Array, ac: Float64Array, bv: Float64Array, bc: Float64Array): [Float64Array, Float64Array] {
+  if (av.length === 0) return [bv.slice(), bc.slice()];
+  if (bv.length === 0) return [av.slice(), ac.slice()];
+  const ov = new Float64Array(av.length + bv.length);
+  const oc = new Float64Array(av.length + bv.length);
+  let i = 0;
+  let j = 0;
+  let k = 0;
+  while (i < av.length && j < bv.length) {
+    if (av[i] < bv[j]) {
+      ov[k] = av[i];
+      oc[k++] = ac[i++];
+    } else if (bv[j] < av[i]) {
+      ov[k] = bv[j];
+      oc[k++] = bc[j++];
+    } else {
+      ov[k] = av[i];
+      oc[k++] = ac[i++] + bc[j++];
+    }
+  }
+  while (i < av.length) {
+    ov[k] = av[i];
+    oc[k++] = ac[i++];
+  }
+  while (j < bv.length) {
+    ov[k] = bv[j];
+    oc[k++] = bc[j++];
+  }
+  return [ov.slice(0, k), oc.slice(0, k)];
+}
+
+function concatF64(a: Float64Array, b: Float64Array): Float64Array {
+  const out = new Float64Array(a.length + b.length);
+  out.set(a, 0);
+  out.set(b, a.length);
+  return out;
+}
+
+function joinSegments(a: PeriodSegment, b: PeriodSegment): PeriodSegment {
+  return {
+    first: a.first,
+    last: b.last,
+    species: a.species.map((sa, i) => {
+      const sb = b.species[i];
+      const base = sa.cellPtr[sa.cellPtr.length - 1];
+      const ptr = new Float64Array(sa.cellPtr.length + sb.cellPtr.length - 1);
+      ptr.set(sa.cellPtr, 0);
+      for (let k = 1; k < sb.cellPtr.length; k++) ptr[sa.cellPtr.length - 1 + k] = base + sb.cellPtr[k];
+      return { cellPtr: ptr, periods: concatF64(sa.periods, sb.periods), amplitudes: concatF64(sa.amplitudes, sb.amplitudes) };
+    }),
+  };
+}
+
+/**
+ * Merges two partials of the same run covering disjoint cell ranges. Exact and order-independent:
+ * mergePartials(a, b) and mergePartials(b, a) are equal, and so is any bracketing of three.
+ * @throws RangeError when shapes differ or cell ranges overlap.
+ */
+export function mergePartials(a: Partial, b: Partial): Partial {
+  if (a.nSpecies !== b.nSpecies || a.nTimes !== b.nTimes) throw new RangeError("mergePartials: partials of different shapes");
+  const nPoints = a.nSpecies * a.nTimes;
+  const sizes = new Float64Array(nPoints + 1);
+  const merged: [Float64Array, Float64Array][] = new Array(nPoints);
+  for (let p = 0; p < nPoints; p++) {
+    merged[p] = mergeSparse(
+      a.histValues.subarray(a.histPtr[p], a.histPtr[p + 1]),
+      a.histCounts.subarray(a.histPtr[p], a.histPtr[p + 1]),
+      b.histValues.subarray(b.histPtr[p], b.histPtr[p + 1]),
+      b.histCounts.subarray(b.histPtr[p], b.histPtr[p + 1]),
+    );
+    sizes[p + 1] = sizes[p] + merged[p][0].length;
+  }
+  const histValues = new Float64Array(sizes[nPoints]);
+  const histCounts = new Float64Array(sizes[nPoints]);
+  for (let p = 0; p < nPoints; p++) {
+    histValues.set(merged[p][0], sizes[p]);
+    histCounts.set(merged[p][1], sizes[p]);
+  }
+  const all = [...a.segments, ...b.segments].sort((x, y) => x.first - y.first);
+  const segments: PeriodSegment[] = [];
+  for (const s of all) {
+    const prev = segments[segments.length - 1];
+    if (prev && s.first < prev.last) throw new RangeError(`mergePartials: cell ranges overlap at cell ${s.first}`);
+    if (prev && prev.last === s.first) segments[segments.length - 1] = joinSegments(prev, s);
+    else segments.push(s);
+  }
+  return {
+    format: PARTIAL_FORMAT,
+    nSpecies: a.nSpecies,
+    nTimes: a.nTimes,
+    cells: a.cells + b.cells,
+    events: a.events + b.events,
+    histPtr: sizes,
+    histValues,
+    histCounts,
+    segments,
+  };
+}
+
+/** Sample quantile, linear interpolation between order statistics (Hyndman & Fan 1996, type 7; R's default). */
+export function quantileSorted(sorted: ArrayLike<number>, p: number): number {
+  const n = sorted.length;
+  if (n === 0) return NaN;
+  const h = (n - 1) * p;
+  const lo = Math.floor(h);
+  const hi = Math.min(n - 1, lo + 1);
+  return sorted[lo] + (h - lo) * (sorted[hi] - sorted[lo]);
+}
+
+/** Type-7 quantile of a sparse histogram (ascending values with counts); total = Σ counts. */
+export function quantileSparse(values: Float64Array, counts: Float64Array, total: number, p: number): number {
+  if (total === 0) return NaN;
+  const h = (total - 1) * p;
+  const lo = Math.floor(h);
+  const frac = h - lo;
+  // value of the order statistic k (0-based)
+  let k = 0;
+  let cum = 0;
+  while (cum + counts[k] <= lo) cum += counts[k++];
+  const vLo = values[k];
+  if (frac === 0) return vLo;
+  const vHi = cum + counts[k] > lo + 1 ? vLo : values[Math.min(k + 1, values.length - 1)];
+  return vLo + frac * (vHi - vLo);
+}
+
+export interface Moments {
+  n: number;
+  mean: number;
+  /** Sample variance (n − 1); 0 when n < 2. */
+  variance: number;
+}
+
+/**
+ * Mean and sample variance of a union of sparse histograms, two passes in a fixed order
+ * (the mean first, then Σ c·(v − mean)²), so the result depends only on the histograms.
+ */
+export function sparseMoments(ranges: { values: Float64Array; counts: Float64Array }[]): Moments {
+  let n = 0;
+  let sum = 0;
+  for (const r of ranges) for (let k = 0; k < r.values.length; k++) {
+    n += r.counts[k];
+    sum += r.counts[k] * r.values[k];
+  }
+  if (n === 0) return { n: 0, mean: NaN, variance: NaN };
+  const mean = sum / n;
+  let ss = 0;
+  for (const r of ranges) for (let k = 0; k < r.values.length; k++) {
+    const d = r.values[k] - mean;
+    ss += r.counts[k] * d * d;
+  }
+  return { n, mean, variance: n > 1 ? ss / (n - 1) : 0 };
+}
+
+/**
+ * Upward crossings of one cell's sampled path with a hysteresis band (SCIENCE.md "Period of a noisy
+ * oscillator"): the band is the cell's own lower and upper quartile after burn-in; a crossing is
+ * counted when the path reaches the upper quartile after having been at or below the lower one,
+ * at the time found by linear interpolation between the two samples around it. Successive crossings
+ * give periods; half the peak-to-trough range between them gives the cycle's amplitude.
+ * Appends to `periods` / `amplitudes` and returns how many were added.
+ * `scratch` needs room for the samples after burn-in.
+ */
+export function cellPeriods(
+  y: Float64Array,
+  offset: number,
+  stride: number,
+  times: Float64Array,
+  gStart: number,
+  nTimes: number,
+  minBand: number,
+  scratch: Float64Array,
+  periods: number[],
+  amplitudes: number[],
+): number {
+  const n = nTimes - gStart;
+  if (n < 4) return 0;
+  const s = scratch.subarray(0, n);
+  for (let g = gStart, k = 0; g < nTimes; g++, k++) s[k] = y[offset + g * stride];
+  s.sort();
+  const low = quantileSorted(s, 0.25);
+  const high = quantileSorted(s, 0.75);
+  if (!(high - low >= minBand)) return 0;
+  let armed = false;
+  let last = NaN;
+  let vmax = -Infinity;
+  let vmin = Infinity;
+  let added = 0;
+  let prev = y[offset + gStart * stride];
+  for (let g = gStart; g < nTimes; g++) {
+    const v = y[offset + g * stride];
+    if (v > vmax) vmax = v;
+    if (v < vmin) vmin = v;
+    if (v <= low) armed = true;
+    else if (armed && v >= high) {
+      const t0 = times[g - 1];
+      const tc = t0 + ((times[g] - t0) * (high - prev)) / (v - prev);
+      if (last === last) {
+        periods.push(tc - last);
+        amplitudes.push((vmax - vmin) / 2);
+        added++;
+      }
+      last = tc;
+      armed = false;
+      vmax = v;
+      vmin = v;
+    }
+    prev = v;
+  }
+  return added;
+}
+
+export interface SpeciesMoments {
+  mean: number;
+  variance: number;
+  cv: number;
+  fano: number;
+}
+
+export interface PeriodSummary {
+  count: number;
+  mean: number;
+  sd: number;
+  cv: number;
+  histogram: { edges: number[]; counts: number[] };
+  /** Cells that contributed at least one period. */
+  cells: number;
+  /** Half the peak-to-trough range per cycle, in the output's amount units. */
+  amplitude: { mean: number; sd: number };
+}
+
+export interface SimulateSummary {
+  method: "ssa" | "tau" | "ode";
+  seed: number | null;
+  runs: number;
+  units: "molecules" | "model";
+  species: string[];
+  times: number[];
+  mean: Record<string, number[]>;
+  sd: Record<string, number[]>;
+  quantiles: Record<string, { p05: number[]; p25: number[]; p50: number[]; p75: number[]; p95: number[] }>;
+  final: Record<string, SpeciesMoments>;
+  stationary: Record<string, SpeciesMoments>;
+  period: Record<string, PeriodSummary>;
+  events: number;
+  wall_s: number;
+  events_per_s: number;
+  burn_in: number;
+  time_unit: string;
+  amount_unit: string;
+  omega: number;
+  trace?: Record<string, number[]>;
+}
+
+export interface FinalizeOptions {
+  method: "ssa" | "tau";
+  seed: number;
+  units: "molecules" | "model";
+  species: string[];
+  times: Float64Array | number[];
+  burnIn: number;
+  omega: number;
+  timeUnit: string;
+  amountUnit: string;
+  wallS: number;
+}
+
+function momentsOut(m: Moments, scale: number): SpeciesMoments {
+  // Counts → output units: amounts divide by scale, variances by scale², so Fano divides by scale.
+  const mean = m.mean / scale;
+  const variance = m.variance / (scale * scale);
+  const sd = Math.sqrt(variance);
+  return { mean, variance, cv: mean !== 0 ? sd / mean : NaN, fano: mean !== 0 ? variance / mean : NaN };
+}
+
+/** Equal-width histogram over [min, max] with ⌈√n⌉ bins (at most 50), the last bin closed. */
+export function equalWidthHistogram(values: Float64Array): { edges: number[]; counts: number[] } {
+  const n = values.length;
+  if (n === 0) return { edges: [], counts: [] };
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (let k = 0; k < n; k++) {
+    if (values[k] < lo) lo = values[k];
+    if (values[k] > hi) hi = values[k];
+  }
+  if (hi === lo) return { edges: [lo, hi], counts: [n] };
+  const bins = Math.max(1, Math.min(50, Math.ceil(Math.sqrt(n))));
+  const w = (hi - lo) / bins;
+  const edges = Array.from({ length: bins + 1 }, (_, b) => (b === bins ? hi : lo + b * w));
+  const counts = new Array<number>(bins).fill(0);
+  for (let k = 0; k < n; k++) counts[Math.min(bins - 1, Math.floor((values[k] - lo) / w))]++;
+  return { edges, counts };
+}
+
+function meanSd(values: Float64Array): { mean: number; sd: number } {
+  const n = values.length;
+  if (n === 0) return { mean: NaN, sd: NaN };
+  let s = 0;
+  for (let k = 0; k < n; k++) s += values[k];
+  const mean = s / n;
+  let ss = 0;
+  for (let k = 0; k < n; k++) ss += (values[k] - mean) * (values[k] - mean);
+  return { mean, sd: n > 1 ? Math.sqrt(ss / (n - 1)) : 0 };
+}
+
+/**
+ * The `simulate` JSON of CONTRACT.md §2 from a merged partial covering all runs.
+ * Values are in molecules, or divided by Ω for `units: "model"`. Undefined ratios (CV or Fano of a
+ * zero mean, period statistics with no periods) are NaN, which JSON writes as null.
+ * @throws RangeError when the partial's shape does not match the options.
+ */
+export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateSummary {
+  const nS = partial.nSpecies;
+  const nT = partial.nTimes;
+  if (o.species.length !== nS || o.times.length !== nT) throw new RangeError("finalizeSummary: options do not match the partial");
+  const scale = o.units === "model" ? o.omega : 1;
+  const times = Array.from(o.times);
+  const point = (g: number, i: number) => {
+    const p = g * nS + i;
+    const a = partial.histPtr[p];
+    const b = partial.histPtr[p + 1];
+    return { values: partial.histValues.subarray(a, b), counts: partial.histCounts.subarray(a, b) };
+  };
+  let gStart = 0;
+  while (gStart < nT - 1 && times[gStart] < o.burnIn) gStart++;
+
+  const mean: Record<string, number[]> = {};
+  const sd: Record<string, number[]> = {};
+  const quantiles: SimulateSummary["quantiles"] = {};
+  const final: Record<string, SpeciesMoments> = {};
+  const stationary: Record<string, SpeciesMoments> = {};
+  const period: Record<string, PeriodSummary> = {};
+  o.species.forEach((id, i) => {
+    const m: number[] = [];
+    const s: number[] = [];
+    const q = { p05: [] as number[], p25: [] as number[], p50: [] as number[], p75: [] as number[], p95: [] as number[] };
+    const pooled: { values: Float64Array; counts: Float64Array }[] = [];
+    for (let g = 0; g < nT; g++) {
+      const pt = point(g, i);
+      const mo = sparseMoments([pt]);
+      m.push(mo.mean / scale);
+      s.push(Math.sqrt(mo.variance) / scale);
+      q.p05.push(quantileSparse(pt.values, pt.counts, mo.n, 0.05) / scale);
+      q.p25.push(quantileSparse(pt.values, pt.counts, mo.n, 0.25) / scale);
+      q.p50.push(quantileSparse(pt.values, pt.counts, mo.n, 0.5) / scale);
+      q.p75.push(quantileSparse(pt.values, pt.counts, mo.n, 0.75) / scale);
+      q.p95.push(quantileSparse(pt.values, pt.counts, mo.n, 0.95) / scale);
+      if (g >= gStart) pooled.push(pt);
+    }
+    mean[id] = m;
+    sd[id] = s;
+    quantiles[id] = q;
+    final[id] = momentsOut(sparseMoments([point(nT - 1, i)]), scale);
+    stationary[id] = momentsOut(sparseMoments(pooled), scale);
+
+    let total = 0;
+    let cells = 0;
+    for (const seg of partial.segments) {
+      const l = seg.species[i];
+      total += l.periods.length;
+      for (let k = 0; k + 1 < l.cellPtr.length; k++) if (l.cellPtr[k + 1] > l.cellPtr[k]) cells++;
+    }
+    const periods = new Float64Array(total);
+    const amps = new Float64Array(total);
+    let at = 0;
+    for (const seg of partial.segments) {
+      periods.set(seg.species[i].periods, at);
+      amps.set(seg.species[i].amplitudes, at);
+      at += seg.species[i].periods.length;
+    }
+    const pm = meanSd(periods);
+    const am = meanSd(amps);
+    period[id] = {
+      count: total,
+      mean: pm.mean,
+      sd: pm.sd,
+      cv: pm.mean > 0 ? pm.sd / pm.mean : NaN,
+      histogram: equalWidthHistogram(periods),
+      cells,
+      amplitude: { mean: am.mean / scale, sd: am.sd / scale },
+    };
+  });
+  return {
+    method: o.method,
+    seed: o.seed,
+    runs: partial.cells,
+    units: o.units,
+    species: o.species,
+    times,
+    mean,
+    sd,
+    quantiles,
+    final,
+    stationary,
+    period,
+    events: partial.events,
+    wall_s: o.wallS,
+    events_per_s: o.wallS > 0 ? partial.events / o.wallS : NaN,
+    burn_in: o.burnIn,
+    time_unit: o.timeUnit,
+    amount_unit: o.units === "model" ? o.amountUnit : "molecules",
+    omega: o.omega,
+  };
+}
