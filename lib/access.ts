@@ -30,13 +30,13 @@ export async function getLabRole(userId: string, labId: string | number): Promis
 }
 
 /**
- * The user's role in the lab when it allows `action`.
- * @throws HttpError 404 when the user is not a member (a lab's existence is private),
- *   403 when the role may not do the action.
+ * The user's role in the lab when it allows `action`. `what` names the thing asked for
+ * (a circuit, a run…) in the 404, so nothing reveals that it exists in another lab.
+ * @throws HttpError 404 when the user is not a member, 403 when the role may not do the action.
  */
-export async function requireLabRole(userId: string, labId: string | number, action: Action): Promise<Role> {
+export async function requireLabRole(userId: string, labId: string | number, action: Action, what = "lab"): Promise<Role> {
   const role = await getLabRole(userId, labId);
-  if (!role) throw notFound("lab");
+  if (!role) throw notFound(what);
   if (!may(role, action)) throw forbidden(`role: a ${role} may not do ${action} in this lab`);
   return role;
 }

@@ -1,6 +1,8 @@
 import { ZodError } from "zod";
 
+import { CircuitError } from "@/lib/schemas/circuit";
 import { describeZodError } from "@/lib/schemas/common";
+import { ModelInputError } from "@/ssa/types";
 
 /** An error with an HTTP status and a `field: reason` message safe to show the caller. */
 export class HttpError extends Error {
@@ -45,6 +47,8 @@ export function handle<C>(route: string, fn: Handler<C>): Handler<C> {
     } catch (e) {
       if (e instanceof HttpError) return Response.json({ error: e.message }, { status: e.status });
       if (e instanceof ZodError) return Response.json({ error: describeZodError(e) }, { status: 422 });
+      if (e instanceof CircuitError) return Response.json({ error: e.message, issues: e.issues }, { status: 422 });
+      if (e instanceof ModelInputError) return Response.json({ error: e.message }, { status: 422 });
       console.error(`[${route}]`, e);
       return Response.json({ error: "server: unexpected error" }, { status: 500 });
     }

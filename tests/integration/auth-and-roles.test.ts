@@ -1,3 +1,5 @@
+import { readFileSync } from "node:fs";
+
 import type { Knex } from "knex";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 
@@ -5,8 +7,15 @@ import { Client, newUser } from "../support/client";
 import { testDb } from "../support/db";
 
 type Role = "owner" | "modeler" | "reviewer";
-interface Ctx { labId: string; reviewerId: string; spareEmail: () => Promise<string> }
-interface RouteCase { name: string; method: string; path: (c: Ctx) => string; body?: (c: Ctx) => Promise<unknown> | unknown; allowed: Role[] }
+interface Ctx {
+  labId: string; reviewerId: string; circuitId: string; versionId: string;
+  spareEmail: () => Promise<string>; disposableCircuit: () => Promise<string>;
+}
+interface RouteCase { name: string; method: string; path: (c: Ctx) => string | Promise<string>; body?: (c: Ctx) => Promise<unknown> | unknown; allowed: Role[] }
+
+const ringTimer = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
+let serial = 0;
+const uniqueCircuit = (vA = 40) => ({ ...ringTimer, name: `Ring ${++serial}-${Date.now()}`, parameters: { ...ringTimer.parameters, vA } });
 
 /**
  * Every lab-scoped route, with the roles that may call it. Later routes join this table;
@@ -18,6 +27,14 @@ export const LAB_ROUTES: RouteCase[] = [
   { name: "list members", method: "GET", path: (c) => `/api/labs/${c.labId}/members`, allowed: ["owner", "modeler", "reviewer"] },
   { name: "add a member", method: "POST", path: (c) => `/api/labs/${c.labId}/members`, body: async (c) => ({ email: await c.spareEmail(), role: "reviewer" }), allowed: ["owner"] },
   { name: "change a role", method: "PATCH", path: (c) => `/api/labs/${c.labId}/members/${c.reviewerId}`, body: () => ({ role: "reviewer" }), allowed: ["owner"] },
+  { name: "list circuits", method: "GET", path: (c) => `/api/circuits?lab_id=${c.labId}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "create a circuit", method: "POST", path: () => "/api/circuits", body: (c) => ({ lab_id: c.labId, circuit: uniqueCircuit() }), allowed: ["owner", "modeler"] },
+  { name: "read a circuit", method: "GET", path: (c) => `/api/circuits/${c.circuitId}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "save a version", method: "POST", path: (c) => `/api/circuits/${c.circuitId}/versions`, body: () => ({ circuit: { ...ringTimer, parameters: { ...ringTimer.parameters, vA: 30 + serial++ } } }), allowed: ["owner", "modeler"] },
+  { name: "delete a circuit", method: "DELETE", path: async (c) => `/api/circuits/${await c.disposableCircuit()}`, allowed: ["owner"] },
+  { name: "read a version", method: "GET", path: (c) => `/api/versions/${c.versionId}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "read a version's counts", method: "GET", path: (c) => `/api/versions/${c.versionId}/counts`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "read a version's analysis", method: "GET", path: (c) => `/api/versions/${c.versionId}/analysis`, allowed: ["owner", "modeler", "reviewer"] },
 ];
 
 let db: Knex;
@@ -39,7 +56,13 @@ beforeAll(async () => {
   members.owner = owner.client;
   members.modeler = modeler.client;
   members.reviewer = reviewer.client;
-  ctx = { labId: owner.labId, reviewerId: reviewer.userId, spareEmail: async () => (await newUser("spare")).email };
+  const created = await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: ringTimer });
+  expect(created.status, created.text).toBe(201);
+  ctx = {
+    labId: owner.labId, reviewerId: reviewer.userId, circuitId: created.json.id, versionId: created.json.version_id,
+    spareEmail: async () => (await newUser("spare")).email,
+    disposableCircuit: async () => (await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: uniqueCircuit() })).json.id,
+  };
 });
 
 afterAll(async () => {
@@ -121,20 +144,20 @@ describe("bad sign-up input gets 400/422 naming the field, and nothing is writte
 
 describe("every lab route checks the session, membership and role", () => {
   it.each(LAB_ROUTES)("$method $name: 401 without a session", async (route) => {
-    const r = await new Client().request(route.method, route.path(ctx), route.body ? await route.body(ctx) : undefined);
+    const r = await new Client().request(route.method, await route.path(ctx), route.body ? await route.body(ctx) : undefined);
     expect(r.status).toBe(401);
     expect(r.json.error).toMatch(/^session: /);
   });
 
   it.each(LAB_ROUTES)("$method $name: 404 for a user outside the lab (its data stays private)", async (route) => {
-    const r = await outsider.client.request(route.method, route.path(ctx), route.body ? await route.body(ctx) : undefined);
+    const r = await outsider.client.request(route.method, await route.path(ctx), route.body ? await route.body(ctx) : undefined);
     expect(r.status).toBe(404);
     expect(JSON.stringify(r.json)).not.toContain("Renamed lab");
   });
 
   for (const role of ["owner", "modeler", "reviewer"] as const) {
     it.each(LAB_ROUTES)(`$method $name as ${role}`, async (route) => {
-      const r = await members[role]!.request(route.method, route.path(ctx), route.body ? await route.body(ctx) : undefined);
+      const r = await members[role]!.request(route.method, await route.path(ctx), route.body ? await route.body(ctx) : undefined);
       if (route.allowed.includes(role)) expect(r.status, r.text).toBeLessThan(300);
       else {
         expect(r.status).toBe(403);

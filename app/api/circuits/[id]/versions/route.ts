@@ -1,0 +1,17 @@
+import { requireLabRole } from "@/lib/access";
+import { requireUser } from "@/lib/auth/session";
+import { circuitFromBody } from "@/lib/circuit-input";
+import { addVersion, getCircuit } from "@/lib/data/circuits";
+import { handle, idParam, notFound, readJson } from "@/lib/http";
+import { VersionCreate } from "@/lib/schemas/api";
+
+export const POST = handle("POST /api/circuits/:id/versions", async (req, ctx: { params: Promise<{ id: string }> }) => {
+  const user = await requireUser(req);
+  const circuit = await getCircuit(idParam((await ctx.params).id, "circuit"));
+  if (!circuit) throw notFound("circuit");
+  await requireLabRole(user.id, circuit.labId, "circuit:write", "circuit");
+  const body = VersionCreate.parse(await readJson(req, 6 * 1024 * 1024));
+  const parsed = await circuitFromBody(body);
+  const v = await addVersion(circuit.id, user.id, parsed.circuit, body.message, parsed.sourceFormat);
+  return Response.json({ id: circuit.id, version_id: v.versionId, number: v.number, created: v.created }, { status: v.created ? 201 : 200 });
+});
