@@ -1,0 +1,237 @@
+/**
+ * Circuit → SBML Level 3 Version 2 core. Concentration circuits (nM, µM) become one compartment of
+ * volume_fL femtolitres with species as concentrations: the substance unit is chosen so that
+ * substance per fL is exactly the circuit's unit (1e-24 mol for nM, 1e-21 mol for µM) and every
+ * kinetic law is `cell × f(concentrations)`, substance per time as SBML requires. Molecule circuits
+ * use the substance unit `item`, species as amounts (hasOnlySubstanceUnits) and kinetic law f.
+ * Hill laws are written out in the ratio form vmax·(x/K)^n/(1 + (x/K)^n), whose power has a
+ * dimensionless base. Each reaction also carries its original rate law in an annotation
+ * (namespace urn:burstwise:sbml:rate-law:1) that sbmlToCircuit restores when it still agrees
+ * with the MathML. Pure: no I/O.
+ */
+import { parseExpression } from "./expr";
+import { apply, ci, cn, exprToMathML, mathElement } from "./sbml-math";
+import { RATE_ANNOTATION, RATE_ANNOTATION_NS } from "./sbml";
+import type { Circuit, NumberOrParam, RateLaw } from "./types";
+
+const SBML_NS = "http://www.sbml.org/sbml/level3/version2/core";
+const XHTML_NS = "http://www.w3.org/1999/xhtml";
+
+/** Escapes text for XML content and attribute values. */
+export function xmlEscape(s: string): string {
+  return s.replace(/&/g, "&amp;").replace(/</g, "&lt;").replace(/>/g, "&gt;").replace(/"/g, "&quot;").replace(/'/g, "&apos;");
+}
+
+interface UnitPart {
+  kind: string;
+  exponent: number;
+  scale: number;
+  multiplier: number;
+}
+
+const TIME_SECONDS = { s: 1, min: 60, h: 3600 } as const;
+
+/**
+ * Writes a circuit as an SBML Level 3 Version 2 document.
+ * @throws RangeError when an expression does not parse (the circuit should be validated first).
+ */
+export function circuitToSbml(c: Circuit): string {
+  const speciesIds = new Set(c.species.map((s) => s.id));
+  const params = c.parameters ?? {};
+  const taken = new Set<string>([...speciesIds, ...Object.keys(params), ...c.reactions.map((r) => r.id)]);
+  let compartment = "cell";
+  for (let k = 1; taken.has(compartment); k++) compartment = `cell_${k}`;
+  const isConc = c.units.amount !== "molecules";
+  const hasVolume = c.volume_fL !== undefined;
+
+  // Units. Concentration unit = substance / volume; time as declared.
+  const units = new Map<string, UnitPart[]>();
+  const timeId = c.units.time === "s" ? "second" : c.units.time === "min" ? "minute" : "hour";
+  if (timeId !== "second") units.set(timeId, [{ kind: "second", exponent: 1, scale: 0, multiplier: TIME_SECONDS[c.units.time] }]);
+  const substanceId = !isConc ? "item" : c.units.amount === "nM" ? "substance_nM_fL" : "substance_uM_fL";
+  if (isConc) units.set(substanceId, [{ kind: "mole", exponent: 1, scale: c.units.amount === "nM" ? -24 : -21, multiplier: 1 }]);
+  if (hasVolume || isConc) units.set("femtolitre", [{ kind: "litre", exponent: 1, scale: -15, multiplier: 1 }]);
+  // Parameter units by role, where a parameter has one role only.
+  const conc: UnitPart[] = isConc
+    ? [{ kind: "mole", exponent: 1, scale: c.units.amount === "nM" ? -9 : -6, multiplier: 1 }, { kind: "litre", exponent: -1, scale: 0, multiplier: 1 }]
+    : [{ kind: "item", exponent: 1, scale: 0, multiplier: 1 }];
+  const concName = isConc ? c.units.amount : "molecules";
+  const perTime: UnitPart = { kind: "second", exponent: -1, scale: 0, multiplier: TIME_SECONDS[c.units.time] };
+  const unitFor = (concPower: number): string => {
+    const id = concPower === 0 ? `per_${timeId}` : concPower === 1 ? `${concName}_per_${timeId}` : `${concName}_pow${concPower < 0 ? "m" : ""}${Math.abs(concPower)}_per_${timeId}`;
+    if (!units.has(id)) units.set(id, [...conc.map((u) => ({ ...u, exponent: u.exponent * concPower })).filter((u) => u.exponent !== 0), perTime]);
+    return id;
+  };
+  const roles = new Map<string, Set<string>>();
+  const addRole = (v: NumberOrParam | undefined, unit: string) => {
+    if (typeof v !== "string") return;
+    if (!roles.has(v)) roles.set(v, new Set());
+    (roles.get(v) as Set<string>).add(unit);
+  };
+  const concUnitId = `${concName}_unit`;
+  const exprParams = new Set<string>();
+  for (const r of c.reactions) {
+    const rate = r.rate;
+    if (rate.law === "mass_action") {
+      const order = Object.values(r.reactants ?? {}).reduce((a, b) => a + b, 0);
+      addRole(rate.k, unitFor(1 - order));
+    } else if (rate.law === "expression") {
+      for (const m of rate.expression.matchAll(/[A-Za-z_][A-Za-z0-9_]*/g)) exprParams.add(m[0]);
+    } else {
+      addRole(rate.vmax, unitFor(1));
+      addRole(rate.basal, unitFor(1));
+      addRole(rate.K, concUnitId);
+      addRole(rate.n, "dimensionless");
+    }
+  }
+  for (const [p, set] of roles) if (set.size !== 1 || exprParams.has(p)) roles.delete(p);
+  if ([...roles.values()].some((s) => s.has(concUnitId))) units.set(concUnitId, conc);
+
+  const out: string[] = [];
+  out.push(`<?xml version="1.0" encoding="UTF-8"?>`);
+  out.push(`<sbml xmlns="${SBML_NS}" level="3" version="2">`);
+  const modelAttrs = [
+    `id="${modelId(c.name)}"`,
+    c.name ? `name="${xmlEscape(c.name)}"` : "",
+    `substanceUnits="${substanceId}"`,
+    `timeUnits="${timeId}"`,
+    hasVolume || isConc ? `volumeUnits="femtolitre"` : "",
+    `extentUnits="${substanceId}"`,
+  ].filter(Boolean);
+  out.push(`  <model ${modelAttrs.join(" ")}>`);
+  if (c.description) {
+    out.push(`    <notes><body xmlns="${XHTML_NS}"><p>${xmlEscape(c.description)}</p></body></notes>`);
+  }
+  if (units.size) {
+    out.push(`    <listOfUnitDefinitions>`);
+    for (const [id, parts] of units) {
+      out.push(`      <unitDefinition id="${id}">`);
+      out.push(`        <listOfUnits>`);
+      for (const u of parts) {
+        out.push(`          <unit kind="${u.kind}" exponent="${u.exponent}" scale="${u.scale}" multiplier="${u.multiplier}"/>`);
+      }
+      out.push(`        </listOfUnits>`);
+      out.push(`      </unitDefinition>`);
+    }
+    out.push(`    </listOfUnitDefinitions>`);
+  }
+  out.push(`    <listOfCompartments>`);
+  const size = c.volume_fL ?? 1;
+  out.push(
+    `      <compartment id="${compartment}" spatialDimensions="3" size="${size}"${hasVolume || isConc ? ` units="femtolitre"` : ""} constant="true"/>`,
+  );
+  out.push(`    </listOfCompartments>`);
+  out.push(`    <listOfSpecies>`);
+  for (const s of c.species) {
+    const name = s.name ? ` name="${xmlEscape(s.name)}"` : "";
+    const init = isConc ? `initialConcentration="${s.initial}" hasOnlySubstanceUnits="false"` : `initialAmount="${s.initial}" hasOnlySubstanceUnits="true"`;
+    out.push(`      <species id="${s.id}"${name} compartment="${compartment}" ${init} boundaryCondition="false" constant="false"/>`);
+  }
+  out.push(`    </listOfSpecies>`);
+  const paramEntries = Object.entries(params);
+  if (paramEntries.length) {
+    out.push(`    <listOfParameters>`);
+    for (const [id, value] of paramEntries) {
+      const role = roles.get(id);
+      const u = role ? ` units="${[...role][0]}"` : "";
+      out.push(`      <parameter id="${id}" value="${value}"${u} constant="true"/>`);
+    }
+    out.push(`    </listOfParameters>`);
+  }
+  out.push(`    <listOfReactions>`);
+  for (const r of c.reactions) {
+    const name = r.name ? ` name="${xmlEscape(r.name)}"` : "";
+    out.push(`      <reaction id="${r.id}"${name} reversible="false">`);
+    out.push(`        <annotation>${annotation(r.rate)}</annotation>`);
+    const reactants = r.reactants ?? {};
+    const products = r.products ?? {};
+    const refs = (list: string, m: Record<string, number>) => {
+      const entries = Object.entries(m);
+      if (!entries.length) return;
+      out.push(`        <${list}>`);
+      for (const [sp, nu] of entries) out.push(`          <speciesReference species="${sp}" stoichiometry="${nu}" constant="true"/>`);
+      out.push(`        </${list}>`);
+    };
+    refs("listOfReactants", reactants);
+    refs("listOfProducts", products);
+    const { math, species } = rateMath(r.rate, r.reactants ?? {}, speciesIds, params, `reactions "${r.id}"`);
+    const modifiers = species.filter((s) => !(s in reactants) && !(s in products));
+    if (modifiers.length) {
+      out.push(`        <listOfModifiers>`);
+      for (const m of modifiers) out.push(`          <modifierSpeciesReference species="${m}"/>`);
+      out.push(`        </listOfModifiers>`);
+    }
+    const kl = isConc ? apply("times", ci(compartment), math) : math;
+    out.push(`        <kineticLaw>`);
+    out.push(`          ${mathElement(kl)}`);
+    out.push(`        </kineticLaw>`);
+    out.push(`      </reaction>`);
+  }
+  out.push(`    </listOfReactions>`);
+  out.push(`  </model>`);
+  out.push(`</sbml>`);
+  return out.join("\n") + "\n";
+}
+
+function modelId(name: string | undefined): string {
+  const base = (name ?? "").replace(/[^A-Za-z0-9_]+/g, "_").replace(/^_+|_+$/g, "");
+  if (!base) return "circuit";
+  return /^[A-Za-z_]/.test(base) ? base.slice(0, 64) : `m_${base}`.slice(0, 64);
+}
+
+const numOrCi = (v: NumberOrParam): string => (typeof v === "number" ? cn(v) : ci(v));
+
+/** MathML of a rate law f (amount per time, in the circuit's units) and the species it reads. */
+function rateMath(
+  rate: RateLaw, reactants: Record<string, number>, speciesIds: Set<string>, params: Record<string, number>, where: string,
+): { math: string; species: string[] } {
+  switch (rate.law) {
+    case "mass_action": {
+      const factors = [numOrCi(rate.k)];
+      for (const [sp, nu] of Object.entries(reactants)) factors.push(nu === 1 ? ci(sp) : apply("power", ci(sp), cn(nu)));
+      return { math: factors.length === 1 ? factors[0] : apply("times", ...factors), species: Object.keys(reactants) };
+    }
+    case "hill_activation":
+    case "hill_repression": {
+      // r = (x/K)^n; activation vmax·r/(1 + r), repression vmax/(1 + r), plus basal.
+      const r = apply("power", apply("divide", ci(rate.input), numOrCi(rate.K)), numOrCi(rate.n));
+      const onePlusR = apply("plus", cn(1), r);
+      const core = rate.law === "hill_activation" ? apply("divide", apply("times", numOrCi(rate.vmax), r), onePlusR) : apply("divide", numOrCi(rate.vmax), onePlusR);
+      const withBasal = rate.basal === undefined ? core : apply("plus", numOrCi(rate.basal), core);
+      return { math: withBasal, species: [rate.input] };
+    }
+    case "expression": {
+      const parsed = parseExpression(rate.expression, {
+        isSpecies: (id) => speciesIds.has(id),
+        isParameter: (id) => Object.prototype.hasOwnProperty.call(params, id) && !speciesIds.has(id),
+      });
+      if (!parsed.ok) throw new RangeError(`${where}.rate.expression: ${parsed.reason}`);
+      const species: string[] = [];
+      const walk = (e: typeof parsed.expr): void => {
+        if (e.kind === "species" && !species.includes(e.id)) species.push(e.id);
+        if (e.kind === "neg") walk(e.arg);
+        if (e.kind === "bin") (walk(e.left), walk(e.right));
+        if (e.kind === "call") e.args.forEach(walk);
+      };
+      walk(parsed.expr);
+      return { math: exprToMathML(parsed.expr), species };
+    }
+  }
+}
+
+function annotation(rate: RateLaw): string {
+  const attrs: string[] = [`law="${rate.law}"`];
+  const put = (k: string, v: NumberOrParam | undefined) => {
+    if (v !== undefined) attrs.push(`${k}="${xmlEscape(String(v))}"`);
+  };
+  if (rate.law === "mass_action") put("k", rate.k);
+  else if (rate.law === "expression") put("expression", rate.expression);
+  else {
+    put("input", rate.input);
+    put("vmax", rate.vmax);
+    put("K", rate.K);
+    put("n", rate.n);
+    put("basal", rate.basal);
+  }
+  return `<${RATE_ANNOTATION} xmlns="${RATE_ANNOTATION_NS}" ${attrs.join(" ")}/>`;
+}

@@ -1,0 +1,484 @@
+/**
+ * MathML (the SBML subset) to and from our formulas. Reading turns the parsed XML of a <math>
+ * element into a small AST (`MathAst`); writing turns a rate law or a parsed `expression`
+ * (ssa/expr.ts) into MathML text. Formulas are printed for the circuit's `expression` law and
+ * re-parsed by ssa/expr.ts there, so user text only ever travels as data. Pure: no I/O.
+ */
+import type { Expr } from "./expr";
+
+/** A node of fast-xml-parser's `preserveOrder` output: { tag: children, ":@"?: attributes }. */
+export type XmlNode = Record<string, unknown>;
+
+export type MathAst =
+  | { t: "num"; v: number }
+  | { t: "ci"; id: string }
+  | { t: "apply"; op: string; args: MathAst[]; degree?: MathAst; logbase?: MathAst }
+  | { t: "call"; fn: string; args: MathAst[] }
+  | { t: "piecewise"; pieces: { value: MathAst; cond: MathAst }[]; otherwise?: MathAst }
+  | { t: "csymbol"; name: string }
+  | { t: "const"; name: string }
+  | { t: "lambda"; params: string[]; body: MathAst };
+
+/** A MathML problem; the caller prefixes where it happened (`reaction "r3" kineticLaw: …`). */
+export class MathError extends Error {
+  constructor(message: string) {
+    super(message);
+    this.name = "MathError";
+  }
+}
+
+export function tagOf(node: XmlNode): string {
+  for (const k of Object.keys(node)) if (k !== ":@") return k;
+  return "";
+}
+
+export function childrenOf(node: XmlNode): XmlNode[] {
+  const v = node[tagOf(node)];
+  return Array.isArray(v) ? (v as XmlNode[]) : [];
+}
+
+export function attrsOf(node: XmlNode): Record<string, string> {
+  const a = node[":@"];
+  return a && typeof a === "object" ? (a as Record<string, string>) : {};
+}
+
+/** Concatenated text of a node's direct text children. */
+export function textOf(node: XmlNode): string {
+  return childrenOf(node)
+    .filter((c) => tagOf(c) === "#text")
+    .map((c) => String(c["#text"]))
+    .join("")
+    .trim();
+}
+
+const elements = (node: XmlNode) => childrenOf(node).filter((c) => tagOf(c) !== "#text" && tagOf(c) !== "#comment");
+
+/** Operators we read (MathML content elements of SBML Level 2/3 core). */
+const OPERATORS = new Set([
+  "plus", "minus", "times", "divide", "power", "exp", "ln", "log", "root", "abs", "min", "max",
+  "floor", "ceiling", "factorial", "rem", "quotient", "implies",
+  "eq", "neq", "gt", "lt", "geq", "leq", "and", "or", "xor", "not",
+  "sin", "cos", "tan", "sec", "csc", "cot", "sinh", "cosh", "tanh", "sech", "csch", "coth",
+  "arcsin", "arccos", "arctan", "arcsec", "arccsc", "arccot", "arcsinh", "arccosh", "arctanh", "arcsech", "arccsch", "arccoth",
+]);
+
+/** Parses the single content child of a <math> element. */
+export function readMath(math: XmlNode): MathAst {
+  const kids = elements(math);
+  if (kids.length !== 1) throw new MathError(`<math> must hold exactly one expression, found ${kids.length}`);
+  return readNode(kids[0], 0);
+}
+
+function readNumber(node: XmlNode): number {
+  const type = attrsOf(node).type ?? "real";
+  const parts = childrenOf(node)
+    .filter((c) => tagOf(c) === "#text")
+    .map((c) => String(c["#text"]).trim());
+  const num = (s: string | undefined): number => {
+    const v = s !== undefined && /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(s) ? Number(s) : NaN;
+    if (!Number.isFinite(v)) {
+      if (s === "INF" || s === "-INF" || s === "NaN") throw new MathError(`<cn> value "${s}" is not a finite number`);
+      throw new MathError(`<cn> holds "${s ?? ""}", not a number`);
+    }
+    return v;
+  };
+  switch (type) {
+    case "real":
+    case "double":
+    case "integer":
+      return num(parts.join(""));
+    case "e-notation":
+      return num(`${parts[0]}e${parts[1]}`);
+    case "rational":
+      return num(parts[0]) / num(parts[1]);
+    default:
+      throw new MathError(`<cn type="${type}"> is not supported`);
+  }
+}
+
+function readNode(node: XmlNode, depth: number): MathAst {
+  if (depth > 200) throw new MathError("formula nested too deeply");
+  const tag = tagOf(node);
+  switch (tag) {
+    case "cn":
+      return { t: "num", v: readNumber(node) };
+    case "ci": {
+      const id = textOf(node);
+      if (!/^[A-Za-z_][A-Za-z0-9_]*$/.test(id)) throw new MathError(`<ci> "${id}" is not a valid identifier`);
+      return { t: "ci", id };
+    }
+    case "csymbol": {
+      const url = attrsOf(node).definitionURL ?? "";
+      const name = url.slice(url.lastIndexOf("/") + 1);
+      return { t: "csymbol", name: name || textOf(node) };
+    }
+    case "pi":
+    case "exponentiale":
+    case "true":
+    case "false":
+    case "infinity":
+    case "notanumber":
+      return { t: "const", name: tag };
+    case "apply":
+      return readApply(node, depth);
+    case "piecewise": {
+      const pieces: { value: MathAst; cond: MathAst }[] = [];
+      let otherwise: MathAst | undefined;
+      for (const k of elements(node)) {
+        const kk = elements(k);
+        if (tagOf(k) === "piece" && kk.length === 2) pieces.push({ value: readNode(kk[0], depth + 1), cond: readNode(kk[1], depth + 1) });
+        else if (tagOf(k) === "otherwise" && kk.length === 1) otherwise = readNode(kk[0], depth + 1);
+        else throw new MathError(`malformed <${tagOf(k)}> in <piecewise>`);
+      }
+      return { t: "piecewise", pieces, otherwise };
+    }
+    case "lambda": {
+      const params: string[] = [];
+      const kids = elements(node);
+      let body: MathAst | undefined;
+      for (const k of kids) {
+        if (tagOf(k) === "bvar") {
+          const ci = elements(k)[0];
+          if (!ci || tagOf(ci) !== "ci") throw new MathError("<bvar> must hold a <ci>");
+          params.push(textOf(ci));
+        } else if (body === undefined) body = readNode(k, depth + 1);
+        else throw new MathError("<lambda> has more than one body");
+      }
+      if (!body) throw new MathError("<lambda> has no body");
+      return { t: "lambda", params, body };
+    }
+    case "semantics": {
+      const kids = elements(node).filter((k) => tagOf(k) !== "annotation" && tagOf(k) !== "annotation-xml");
+      if (kids.length !== 1) throw new MathError("<semantics> must hold one expression");
+      return readNode(kids[0], depth + 1);
+    }
+    default:
+      throw new MathError(`MathML element <${tag}> is not supported`);
+  }
+}
+
+function readApply(node: XmlNode, depth: number): MathAst {
+  const kids = elements(node);
+  if (kids.length === 0) throw new MathError("empty <apply>");
+  const head = kids[0];
+  const op = tagOf(head);
+  let degree: MathAst | undefined;
+  let logbase: MathAst | undefined;
+  const args: MathAst[] = [];
+  for (const k of kids.slice(1)) {
+    const tag = tagOf(k);
+    if (tag === "degree" || tag === "logbase") {
+      const inner = elements(k);
+      if (inner.length !== 1) throw new MathError(`<${tag}> must hold one expression`);
+      if (tag === "degree") degree = readNode(inner[0], depth + 1);
+      else logbase = readNode(inner[0], depth + 1);
+    } else args.push(readNode(k, depth + 1));
+  }
+  if (op === "ci") return { t: "call", fn: textOf(head), args };
+  if (op === "csymbol") {
+    const url = attrsOf(head).definitionURL ?? "";
+    return { t: "call", fn: `csymbol:${url.slice(url.lastIndexOf("/") + 1)}`, args };
+  }
+  if (!OPERATORS.has(op)) throw new MathError(`MathML operator <${op}> is not supported`);
+  return { t: "apply", op, args, degree, logbase };
+}
+
+/** Where a formula's symbols go: each `ci` becomes a formula, or an error. */
+export type SymbolMap = (id: string) => Formula;
+
+/**
+ * Our formula tree, the target of translation: exactly what the `expression` law accepts
+ * (numbers, symbols, + − * / ^, exp log sqrt min max). Printed by printFormula.
+ */
+export type Formula =
+  | { k: "num"; v: number }
+  | { k: "sym"; id: string }
+  | { k: "neg"; a: Formula }
+  | { k: "bin"; op: "+" | "-" | "*" | "/" | "^"; a: Formula; b: Formula }
+  | { k: "fn"; fn: "exp" | "log" | "sqrt" | "min" | "max"; args: Formula[] };
+
+export const num = (v: number): Formula => ({ k: "num", v });
+export const sym = (id: string): Formula => ({ k: "sym", id });
+export const bin = (op: "+" | "-" | "*" | "/" | "^", a: Formula, b: Formula): Formula => ({ k: "bin", op, a, b });
+
+export interface TranslateContext {
+  /** Resolves a `ci` (species, parameter, compartment, …). */
+  symbol: SymbolMap;
+  /** Function definitions by id. */
+  functions: ReadonlyMap<string, { params: string[]; body: MathAst }>;
+}
+
+/**
+ * Translates MathML into our formula language. abs(x) becomes max(x, −x); log with base b
+ * becomes log(x)/log(b); root of degree d becomes x^(1/d) (sqrt for d = 2); pi and e become
+ * numbers; function definitions are expanded in place.
+ * @throws MathError for what the `expression` law cannot say (piecewise, relations, time, …).
+ */
+export function translate(ast: MathAst, ctx: TranslateContext, depth = 0): Formula {
+  if (depth > 500) throw new MathError("formula nested too deeply (recursive function definitions?)");
+  const go = (a: MathAst) => translate(a, ctx, depth + 1);
+  switch (ast.t) {
+    case "num":
+      return num(ast.v);
+    case "ci":
+      return ctx.symbol(ast.id);
+    case "const":
+      if (ast.name === "pi") return num(Math.PI);
+      if (ast.name === "exponentiale") return num(Math.E);
+      throw new MathError(`<${ast.name}/> is not supported in a rate formula`);
+    case "csymbol":
+      if (ast.name === "avogadro") return num(6.02214076e23); // SI 2019 value of N_A
+      if (ast.name === "time") throw new MathError("the time symbol is not supported (rates may depend on amounts only)");
+      throw new MathError(`csymbol "${ast.name}" is not supported`);
+    case "piecewise":
+      throw new MathError("piecewise is not supported (a rate formula has no conditions)");
+    case "lambda":
+      throw new MathError("<lambda> outside a function definition");
+    case "call": {
+      if (ast.fn.startsWith("csymbol:")) throw new MathError(`${ast.fn.slice(8)}() is not supported`);
+      const def = ctx.functions.get(ast.fn);
+      if (!def) throw new MathError(`unknown function "${ast.fn}"`);
+      if (def.params.length !== ast.args.length) {
+        throw new MathError(`function "${ast.fn}" takes ${def.params.length} arguments, got ${ast.args.length}`);
+      }
+      const bound = new Map<string, Formula>();
+      def.params.forEach((p, i) => bound.set(p, go(ast.args[i])));
+      // Inside a function body only its own arguments are visible (SBML lambda semantics).
+      const inner: TranslateContext = {
+        functions: ctx.functions,
+        symbol: (id) => {
+          const v = bound.get(id);
+          if (!v) throw new MathError(`function "${ast.fn}" uses "${id}", which is not one of its arguments`);
+          return v;
+        },
+      };
+      return translate(def.body, inner, depth + 1);
+    }
+    case "apply":
+      return translateApply(ast, go);
+  }
+}
+
+function translateApply(ast: Extract<MathAst, { t: "apply" }>, go: (a: MathAst) => Formula): Formula {
+  const args = ast.args.map(go);
+  const need = (lo: number, hi = lo) => {
+    if (args.length < lo || args.length > hi) throw new MathError(`<${ast.op}> takes ${lo === hi ? lo : `${lo} or more`} argument${hi === 1 ? "" : "s"}, got ${args.length}`);
+  };
+  switch (ast.op) {
+    case "plus":
+      if (args.length === 0) return num(0);
+      return args.reduce((a, b) => bin("+", a, b));
+    case "times":
+      if (args.length === 0) return num(1);
+      return args.reduce((a, b) => bin("*", a, b));
+    case "minus":
+      need(1, 2);
+      return args.length === 1 ? { k: "neg", a: args[0] } : bin("-", args[0], args[1]);
+    case "divide":
+      need(2);
+      return bin("/", args[0], args[1]);
+    case "power":
+      need(2);
+      return bin("^", args[0], args[1]);
+    case "exp":
+      need(1);
+      return { k: "fn", fn: "exp", args };
+    case "ln":
+      need(1);
+      return { k: "fn", fn: "log", args };
+    case "log": {
+      need(1);
+      const base = ast.logbase ? go(ast.logbase) : num(10);
+      return bin("/", { k: "fn", fn: "log", args }, { k: "fn", fn: "log", args: [base] });
+    }
+    case "root": {
+      need(1);
+      const d = ast.degree ? go(ast.degree) : num(2);
+      if (d.k === "num" && d.v === 2) return { k: "fn", fn: "sqrt", args };
+      return bin("^", args[0], bin("/", num(1), d));
+    }
+    case "abs":
+      need(1);
+      return { k: "fn", fn: "max", args: [args[0], { k: "neg", a: args[0] }] };
+    case "min":
+    case "max":
+      if (args.length < 1) throw new MathError(`<${ast.op}> needs at least one argument`);
+      return { k: "fn", fn: ast.op, args };
+    default:
+      throw new MathError(`MathML operator <${ast.op}> is not supported in a rate formula`);
+  }
+}
+
+/** Ids a MathML tree refers to through `ci` (not function names, not lambda arguments). */
+export function mathSymbols(ast: MathAst, out = new Set<string>()): Set<string> {
+  switch (ast.t) {
+    case "ci":
+      out.add(ast.id);
+      break;
+    case "apply":
+      ast.args.forEach((a) => mathSymbols(a, out));
+      if (ast.degree) mathSymbols(ast.degree, out);
+      if (ast.logbase) mathSymbols(ast.logbase, out);
+      break;
+    case "call":
+      ast.args.forEach((a) => mathSymbols(a, out));
+      break;
+    case "piecewise":
+      ast.pieces.forEach((p) => (mathSymbols(p.value, out), mathSymbols(p.cond, out)));
+      if (ast.otherwise) mathSymbols(ast.otherwise, out);
+      break;
+    default:
+      break;
+  }
+  return out;
+}
+
+/** Evaluates a formula numerically, symbols through `value` (used for initial values). */
+export function evaluateFormula(f: Formula, value: (id: string) => number): number {
+  switch (f.k) {
+    case "num":
+      return f.v;
+    case "sym":
+      return value(f.id);
+    case "neg":
+      return -evaluateFormula(f.a, value);
+    case "bin": {
+      const a = evaluateFormula(f.a, value);
+      const b = evaluateFormula(f.b, value);
+      switch (f.op) {
+        case "+":
+          return a + b;
+        case "-":
+          return a - b;
+        case "*":
+          return a * b;
+        case "/":
+          return a / b;
+        case "^":
+          return Math.pow(a, b);
+      }
+      break;
+    }
+    case "fn": {
+      const xs = f.args.map((x) => evaluateFormula(x, value));
+      switch (f.fn) {
+        case "exp":
+          return Math.exp(xs[0]);
+        case "log":
+          return Math.log(xs[0]);
+        case "sqrt":
+          return Math.sqrt(xs[0]);
+        case "min":
+          return Math.min(...xs);
+        case "max":
+          return Math.max(...xs);
+      }
+    }
+  }
+  throw new TypeError("evaluateFormula: bad node");
+}
+
+/** Replaces symbols by formulas (ids not in the map stay). */
+export function substitute(f: Formula, map: (id: string) => Formula | undefined): Formula {
+  switch (f.k) {
+    case "num":
+      return f;
+    case "sym":
+      return map(f.id) ?? f;
+    case "neg":
+      return { k: "neg", a: substitute(f.a, map) };
+    case "bin":
+      return { k: "bin", op: f.op, a: substitute(f.a, map), b: substitute(f.b, map) };
+    case "fn":
+      return { k: "fn", fn: f.fn, args: f.args.map((a) => substitute(a, map)) };
+  }
+}
+
+const PRECEDENCE = { "+": 1, "-": 1, "*": 2, "/": 2, neg: 3, "^": 4 } as const;
+
+/**
+ * Prints a formula in the syntax of the `expression` law (mathjs): minimal parentheses, numbers
+ * in JavaScript's shortest round-trip form, negative literals parenthesised.
+ */
+export function printFormula(f: Formula): string {
+  return print(f, 0);
+}
+
+function print(f: Formula, parentPrec: number): string {
+  switch (f.k) {
+    case "num": {
+      const s = String(f.v);
+      return f.v < 0 || Object.is(f.v, -0) ? `(${s})` : s;
+    }
+    case "sym":
+      return f.id;
+    case "neg": {
+      const s = `-${print(f.a, PRECEDENCE.neg)}`;
+      return parentPrec >= PRECEDENCE.neg ? `(${s})` : s;
+    }
+    case "bin": {
+      const p = PRECEDENCE[f.op];
+      // Left-associative + − * /: the right operand needs parentheses at equal precedence;
+      // ^ is right-associative in mathjs, so its left operand does.
+      const left = print(f.a, f.op === "^" ? p : p - 0.5);
+      const right = print(f.b, f.op === "^" ? p - 0.5 : p);
+      const s = f.op === "^" ? `${left}^${right}` : `${left} ${f.op} ${right}`;
+      return p <= parentPrec ? `(${s})` : s;
+    }
+    case "fn":
+      return `${f.fn}(${f.args.map((a) => print(a, 0)).join(", ")})`;
+  }
+}
+
+const MATHML_NS = "http://www.w3.org/1998/Math/MathML";
+
+/** Formats a number as a MathML <cn> element (e-notation when JavaScript prints an exponent). */
+export function cn(v: number): string {
+  if (!Number.isFinite(v)) throw new RangeError(`cannot write ${v} as MathML`);
+  const s = String(v);
+  const e = s.indexOf("e");
+  if (e < 0) return Number.isInteger(v) ? `<cn type="integer"> ${s} </cn>` : `<cn> ${s} </cn>`;
+  return `<cn type="e-notation"> ${s.slice(0, e)} <sep/> ${s.slice(e + 1)} </cn>`;
+}
+
+export const ci = (id: string): string => `<ci> ${id} </ci>`;
+export const apply = (op: string, ...args: string[]): string => `<apply><${op}/>${args.join("")}</apply>`;
+
+/** Wraps content MathML in a <math> element with the MathML namespace. */
+export function mathElement(content: string): string {
+  return `<math xmlns="${MATHML_NS}">${content}</math>`;
+}
+
+/** A parsed `expression` (ssa/expr.ts) as content MathML. */
+export function exprToMathML(e: Expr): string {
+  switch (e.kind) {
+    case "num":
+      return e.value < 0 ? apply("minus", cn(-e.value)) : cn(e.value);
+    case "species":
+    case "param":
+      return ci(e.id);
+    case "neg":
+      return apply("minus", exprToMathML(e.arg));
+    case "bin": {
+      const op = { "+": "plus", "-": "minus", "*": "times", "/": "divide", "^": "power" }[e.op];
+      return apply(op, exprToMathML(e.left), exprToMathML(e.right));
+    }
+    case "call": {
+      const args = e.args.map(exprToMathML);
+      switch (e.fn) {
+        case "exp":
+          return apply("exp", ...args);
+        case "log":
+          return apply("ln", ...args);
+        case "sqrt":
+          return apply("root", ...args);
+        case "pow":
+          return apply("power", ...args);
+        case "min":
+        case "max":
+          return apply(e.fn, ...args);
+      }
+    }
+  }
+  throw new TypeError("exprToMathML: bad node");
+}
