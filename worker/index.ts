@@ -1,20 +1,45 @@
 // The background worker: pg-boss queues on the app's Postgres. Started by `npm start`
-// (restarted there when it dies) and by `npm run worker` for extra capacity.
+// (restarted there when it dies) and by `npm run worker` for extra capacity; any number of
+// worker processes, on any machines, share the queues through DATABASE_URL.
+import { availableParallelism } from "node:os";
+import { fileURLToPath } from "node:url";
+
+import { Piscina } from "piscina";
+
 import { closeDb } from "../db/client";
 import { env } from "../lib/env";
-import { createBoss, Queues } from "../lib/jobs";
+import { createBoss, ensureQueues, Queues } from "../lib/jobs";
+import type { CellsTask } from "../ssa/node/worker";
+import type { Partial } from "../ssa/stats";
+import { handleChunk, handleFinalize } from "./runs";
+
+const concurrency = env.WORKER_CONCURRENCY ?? availableParallelism();
+const pool = new Piscina<CellsTask, Partial>({
+  filename: fileURLToPath(new URL("../ssa/node/worker.ts", import.meta.url)),
+  minThreads: 1, maxThreads: concurrency, idleTimeout: 60_000,
+  execArgv: ["--import", "tsx"],
+});
 
 const boss = createBoss();
 await boss.start();
-for (const q of Object.values(Queues)) await boss.createQueue(q);
-console.log(`worker ready (pid ${process.pid}, concurrency ${env.WORKER_CONCURRENCY})`);
+await ensureQueues(boss);
+
+const send = (queue: string, data: object, options: { singletonKey: string }) => boss.send(queue, data, options);
+
+await boss.work(Queues.runChunk, { batchSize: 1, localConcurrency: concurrency, pollingIntervalSeconds: 0.5, includeMetadata: true },
+  async ([job]) => handleChunk(job!, { pool, send }));
+await boss.work(Queues.runFinalize, { batchSize: 1, localConcurrency: 1, pollingIntervalSeconds: 0.5, includeMetadata: true },
+  async ([job]) => handleFinalize(job!));
+console.log(`worker ready (pid ${process.pid}, ${concurrency} concurrent chunks)`);
 
 let stopping = false;
 async function shutdown(signal: string) {
   if (stopping) return;
   stopping = true;
-  console.log(`worker: ${signal}, finishing the job in hand`);
-  await boss.stop({ graceful: true, timeout: 15_000 });
+  console.log(`worker: ${signal}, finishing the chunks in hand`);
+  // Graceful: stop fetching, let running chunks finish (or, after the timeout, hand them back).
+  await boss.stop({ graceful: true, timeout: 30_000 });
+  await pool.destroy();
   await closeDb();
   process.exit(0);
 }

@@ -1,0 +1,18 @@
+import { requireUser } from "@/lib/auth/session";
+import { deleteRun } from "@/lib/data/runs";
+import { handle } from "@/lib/http";
+import { requireRun, runToJson } from "@/lib/runs";
+
+type Ctx = { params: Promise<{ id: string }> };
+
+export const GET = handle("GET /api/runs/:id", async (req, ctx: Ctx) => {
+  const user = await requireUser(req);
+  return Response.json(runToJson(await requireRun(user.id, (await ctx.params).id)));
+});
+
+export const DELETE = handle("DELETE /api/runs/:id", async (req, ctx: Ctx) => {
+  const user = await requireUser(req);
+  const run = await requireRun(user.id, (await ctx.params).id, "delete");
+  await deleteRun(run.id);
+  return new Response(null, { status: 204 });
+});

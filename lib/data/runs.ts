@@ -1,0 +1,103 @@
+import { gunzipSync, gzipSync } from "node:zlib";
+
+import type { Knex } from "knex";
+
+import { db } from "@/db/client";
+import type { RunSettings } from "@/lib/schemas/runs";
+import type { Circuit } from "@/ssa/types";
+
+export type RunStatus = "queued" | "running" | "succeeded" | "failed" | "cancelled";
+
+export interface RunRow {
+  id: string; labId: string; versionId: string; circuitId: string; circuitName: string; versionNumber: number;
+  kind: "trace" | "ensemble"; method: "ode" | "ssa" | "tau"; settings: RunSettings; seed: number;
+  status: RunStatus; chunksTotal: number; chunksDone: number; error: string | null; engineVersion: string;
+  createdBy: string | null; createdByEmail: string | null; createdAt: Date; startedAt: Date | null; finishedAt: Date | null;
+  cancelRequestedAt: Date | null; wallS: number | null; events: number | null;
+}
+
+const RUN_COLUMNS = [
+  "r.id", "r.labId", "r.versionId", "v.circuitId", "c.name as circuitName", "v.number as versionNumber", "r.kind", "r.method",
+  "r.settings", "r.seed", "r.status", "r.chunksTotal", "r.chunksDone", "r.error", "r.engineVersion", "r.createdBy",
+  "u.email as createdByEmail", "r.createdAt", "r.startedAt", "r.finishedAt", "r.cancelRequestedAt", "r.wallS", "r.events",
+];
+
+function runsQuery(q: Knex | Knex.Transaction = db) {
+  return q("runs as r").join("circuit_versions as v", "v.id", "r.versionId").join("circuits as c", "c.id", "v.circuitId")
+    .leftJoin("users as u", "u.id", "r.createdBy");
+}
+
+function toRun(r: Record<string, unknown>): RunRow {
+  return {
+    ...(r as unknown as RunRow),
+    id: String(r.id), labId: String(r.labId), versionId: String(r.versionId), circuitId: String(r.circuitId),
+    seed: Number(r.seed), events: r.events == null ? null : Number(r.events),
+  };
+}
+
+export async function getRun(id: string, q: Knex | Knex.Transaction = db): Promise<RunRow | null> {
+  const row = await runsQuery(q).where("r.id", id).first(RUN_COLUMNS);
+  return row ? toRun(row) : null;
+}
+
+export async function listRuns(labId: string, f: { status?: RunStatus; versionId?: string; circuitId?: string; limit: number; offset: number }): Promise<{ runs: RunRow[]; total: number }> {
+  const base = runsQuery().where("r.labId", labId);
+  if (f.status) base.where("r.status", f.status);
+  if (f.versionId) base.where("r.versionId", f.versionId);
+  if (f.circuitId) base.where("v.circuitId", f.circuitId);
+  const [rows, total] = await Promise.all([
+    base.clone().select(RUN_COLUMNS).orderBy("r.createdAt", "desc").orderBy("r.id", "desc").limit(f.limit).offset(f.offset),
+    base.clone().count<{ count: string }[]>("* as count"),
+  ]);
+  return { runs: rows.map(toRun), total: Number(total[0]?.count ?? 0) };
+}
+
+export async function countActiveRuns(labId: string): Promise<number> {
+  const r = await db("runs").where({ labId }).whereIn("status", ["queued", "running"]).count<{ count: string }[]>("* as count");
+  return Number(r[0]?.count ?? 0);
+}
+
+export async function insertRun(row: {
+  labId: string; versionId: string; kind: "trace" | "ensemble"; method: string; settings: RunSettings; seed: number;
+  chunksTotal: number; engineVersion: string; createdBy: string;
+}): Promise<string> {
+  const [r] = await db("runs").insert({ ...row, settings: JSON.stringify(row.settings) }).returning(["id"]);
+  return String(r.id);
+}
+
+/** Marks a queued or running run cancelled; false when it had already finished. */
+export async function cancelRun(id: string): Promise<boolean> {
+  const n = await db("runs").where({ id }).whereIn("status", ["queued", "running"])
+    .update({ status: "cancelled", cancelRequestedAt: db.fn.now(), finishedAt: db.fn.now() });
+  return n > 0;
+}
+
+/** Marks an unfinished run failed with a reason the user can read. */
+export async function failRun(id: string, error: string): Promise<void> {
+  await db("runs").where({ id }).whereIn("status", ["queued", "running"]).update({ status: "failed", error: error.slice(0, 2000), finishedAt: db.fn.now() });
+}
+
+export async function deleteRun(id: string): Promise<void> {
+  await db("runs").where({ id }).delete();
+}
+
+/** The circuit a run ran (its version's stored JSON). */
+export async function getRunCircuit(runId: string): Promise<Circuit> {
+  const row = await db("runs as r").join("circuit_versions as v", "v.id", "r.versionId").where("r.id", runId).first("v.circuit");
+  return row.circuit as Circuit;
+}
+
+export const gzipJson = (value: unknown): Buffer => gzipSync(Buffer.from(JSON.stringify(value)), { level: 6 });
+export const gunzipJson = <T>(buf: Buffer): T => JSON.parse(gunzipSync(buf).toString("utf8")) as T;
+
+/** The stored result of a finished run as JSON texts (summary, and the trace when there is one). */
+export async function getRunSummaryParts(runId: string): Promise<{ summary: string; trace: string | null } | null> {
+  const row = await db("run_results").where({ runId }).first("summaryGz", "traceGz");
+  if (!row) return null;
+  return { summary: gunzipSync(row.summaryGz).toString("utf8"), trace: row.traceGz ? gunzipSync(row.traceGz).toString("utf8") : null };
+}
+
+export async function getRunSampleCells<T>(runId: string): Promise<T | null> {
+  const row = await db("run_results").where({ runId }).first("cellsGz");
+  return row?.cellsGz ? gunzipJson<T>(row.cellsGz) : null;
+}

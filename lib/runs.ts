@@ -1,0 +1,77 @@
+import { randomInt } from "node:crypto";
+
+import { requireLabRole, type Action } from "@/lib/access";
+import { countActiveRuns, failRun, getRun, insertRun, type RunRow } from "@/lib/data/runs";
+import { requireVersion } from "@/lib/data/version-access";
+import { idParam, notFound, tooMany } from "@/lib/http";
+import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
+import { checkOverrides } from "@/lib/schemas/circuit";
+import { RUN_LIMITS, type RunCreate, type RunSettings } from "@/lib/schemas/runs";
+import { ENGINE_VERSION } from "@/ssa/version";
+
+/** A fresh seed for a run that names none (printed back, so the run can be repeated). */
+export const drawSeed = (): number => randomInt(1, 2 ** 31);
+
+/**
+ * Queues a run: checks the circuit version, role, overrides and the lab's queue limit, stores
+ * the run, and sends one job per chunk of cells.
+ * @throws 404/403 (version, role), 422 (overrides), 429 (too many runs waiting).
+ */
+export async function createRun(userId: string, body: RunCreate): Promise<{ id: string; seed: number }> {
+  const version = await requireVersion(userId, body.version_id, "lab:read");
+  await requireLabRole(userId, version.labId, "run:launch", "version");
+  checkOverrides(version.circuit, body.overrides);
+  if ((await countActiveRuns(version.labId)) >= RUN_LIMITS.maxQueuedPerLab) {
+    throw tooMany(`runs: the lab already has ${RUN_LIMITS.maxQueuedPerLab} runs queued or running; wait for them or cancel some`);
+  }
+  const kind = body.method === "ode" ? "trace" : "ensemble";
+  const cells = kind === "trace" ? 1 : (body.runs ?? 1);
+  const settings: RunSettings = {
+    t_end: body.t_end, dt: body.dt, runs: cells,
+    ...(body.burn_in !== undefined ? { burn_in: body.burn_in } : {}),
+    ...(body.overrides && Object.keys(body.overrides).length ? { overrides: body.overrides } : {}),
+    units: body.units ?? (kind === "trace" ? "model" : "molecules"),
+  };
+  const seed = body.seed ?? drawSeed();
+  const chunksTotal = Math.ceil(cells / RUN_LIMITS.chunkCells);
+  const id = await insertRun({
+    labId: version.labId, versionId: version.id, kind, method: body.method, settings, seed, chunksTotal,
+    engineVersion: ENGINE_VERSION, createdBy: userId,
+  });
+  const jobs = Array.from({ length: chunksTotal }, (_, chunkIndex) => ({
+    data: { runId: id, chunkIndex } satisfies RunChunkJob,
+    singletonKey: `${id}:${chunkIndex}`,
+  }));
+  try {
+    await (await getSender()).insert(Queues.runChunk, jobs);
+  } catch (e) {
+    // Without its jobs the run would wait forever: say so on the run, then fail the request.
+    await failRun(id, "queue: the run could not be queued; try again");
+    throw e;
+  }
+  return { id, seed };
+}
+
+/** A run as the API shows it (CONTRACT.md §3 `GET /api/runs/:id`). */
+export function runToJson(r: RunRow) {
+  return {
+    id: r.id, status: r.status, progress: r.status === "succeeded" ? 1 : r.chunksDone / r.chunksTotal,
+    ...(r.error ? { error: r.error } : {}),
+    seed: r.seed, settings: r.settings, version_id: r.versionId, circuit_id: r.circuitId, circuit_name: r.circuitName,
+    version_number: r.versionNumber, lab_id: r.labId, kind: r.kind, method: r.method,
+    chunks_done: r.chunksDone, chunks_total: r.chunksTotal, engine_version: r.engineVersion,
+    created_by: r.createdByEmail, created_at: r.createdAt, started_at: r.startedAt, finished_at: r.finishedAt,
+    wall_s: r.wallS, events: r.events,
+  };
+}
+
+/**
+ * The run named by a URL segment, when the user may do `action` in its lab.
+ * @throws 404 for a bad id, a missing run or one in another lab; 403 for the role.
+ */
+export async function requireRun(userId: string, rawId: string | undefined, action: Action = "lab:read"): Promise<RunRow> {
+  const run = await getRun(idParam(rawId, "run"));
+  if (!run) throw notFound("run");
+  await requireLabRole(userId, run.labId, action, "run");
+  return run;
+}

@@ -1,0 +1,195 @@
+import { readFileSync } from "node:fs";
+
+import type { Knex } from "knex";
+import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
+
+import { Client, newUser } from "../support/client";
+import { testDb } from "../support/db";
+import { runCli, startWorker, stopWorker, waitForOutput } from "../support/worker";
+
+const ringTimer = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
+const STATS = ["times", "mean", "sd", "quantiles", "final", "stationary", "period"] as const;
+
+let db: Knex;
+let modeler: Client;
+let labId: string;
+let versionId: string;
+const workers: ReturnType<typeof startWorker>[] = [];
+
+async function worker(env: Record<string, string> = {}) {
+  const w = startWorker(env);
+  workers.push(w);
+  await waitForOutput(w, /worker ready/);
+  return w;
+}
+
+async function launch(body: Record<string, unknown>, client = modeler) {
+  const r = await client.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 200, dt: 1, ...body });
+  expect(r.status, r.text).toBe(202);
+  return r.json as { id: string; seed: number };
+}
+
+async function waitFor(runId: string, done: (run: any) => boolean, timeoutMs = 90_000, client = modeler) {
+  const until = Date.now() + timeoutMs;
+  let last: any;
+  while (Date.now() < until) {
+    last = (await client.request("GET", `/api/runs/${runId}`)).json;
+    if (done(last)) return last;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`run ${runId} stuck: ${JSON.stringify(last)}`);
+}
+const finished = (r: any) => ["succeeded", "failed", "cancelled"].includes(r.status);
+
+function pick(summary: any) {
+  return Object.fromEntries(STATS.map((k) => [k, summary[k]]));
+}
+
+beforeAll(async () => {
+  db = testDb();
+  modeler = new Client();
+  expect(await modeler.signIn("modeler@sentinel.example", "sentinel-demo")).toBe(true);
+  labId = (await modeler.request("GET", "/api/labs")).json.labs.find((l: any) => l.name === "Soil Sentinel").id;
+  const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: { ...ringTimer, name: `Ring timer runs ${Date.now()}` } });
+  expect(c.status, c.text).toBe(201);
+  versionId = c.json.version_id;
+});
+
+afterEach(async () => {
+  await Promise.all(workers.splice(0).map((w) => stopWorker(w, "SIGKILL")));
+});
+
+afterAll(async () => {
+  await db.destroy();
+});
+
+describe("ensembles through the API and the worker", () => {
+  it("a 200-cell ensemble from the demo modeler equals `cli simulate` with the same seed", async () => {
+    await worker();
+    const { id, seed } = await launch({ runs: 200, seed: 4242 });
+    expect(seed).toBe(4242);
+    const run = await waitFor(id, finished);
+    expect(run.status).toBe("succeeded");
+    expect(run.progress).toBe(1);
+    const summary = (await modeler.request("GET", `/api/runs/${id}/summary`)).json;
+    const cli = runCli(["simulate", "examples/ring-timer.circuit.json", "--runs", "200", "--seed", "4242", "--t-end", "200", "--dt", "1", "--threads", "1"]);
+    expect(cli.status, cli.stderr).toBe(0);
+    expect(JSON.stringify(pick(summary))).toBe(JSON.stringify(pick(cli.json)));
+    expect(summary.trace.A).toHaveLength(201); // mean-field trace on the same grid
+    const chunks = await db("run_chunks").where({ run_id: id }).select("chunk_index");
+    expect(chunks.map((c) => c.chunk_index).sort((a, b) => a - b)).toEqual([0, 1, 2, 3]);
+
+    // Cell 7 replayed alone from (seed, 7), and a cell past the end is a 404.
+    const cell = await modeler.request("GET", `/api/runs/${id}/cells/7`);
+    const cliCell = runCli(["trajectory", "examples/ring-timer.circuit.json", "--seed", "4242", "--index", "7", "--t-end", "200", "--dt", "1"]);
+    expect(cell.json.values).toEqual(cliCell.json.values);
+    expect((await modeler.request("GET", `/api/runs/${id}/cells/200`)).status).toBe(404);
+  });
+
+  it("a worker killed with SIGKILL mid-run is replaced and the run finishes with identical numbers, each chunk once", async () => {
+    const first = await worker({ WORKER_CONCURRENCY: "1" });
+    const { id } = await launch({ runs: 400, seed: 99, t_end: 1000 });
+    await waitFor(id, (r) => r.chunks_done >= 1 && r.status === "running", 60_000);
+    await stopWorker(first, "SIGKILL");
+    const atKill = (await modeler.request("GET", `/api/runs/${id}`)).json;
+    expect(atKill.status).toBe("running");
+    await worker();
+    const run = await waitFor(id, finished, 120_000);
+    expect(run.status).toBe("succeeded");
+    const rows = await db("run_chunks").where({ run_id: id }).select("chunk_index");
+    expect(rows).toHaveLength(8);
+    expect(new Set(rows.map((r) => r.chunk_index)).size).toBe(8);
+    const summary = (await modeler.request("GET", `/api/runs/${id}/summary`)).json;
+    const cli = runCli(["simulate", "examples/ring-timer.circuit.json", "--runs", "400", "--seed", "99", "--t-end", "1000", "--dt", "1"]);
+    expect(JSON.stringify(pick(summary))).toBe(JSON.stringify(pick(cli.json)));
+  });
+
+  it("two workers at once share one run and give the same numbers", async () => {
+    const [a, b] = [await worker({ WORKER_CONCURRENCY: "1" }), await worker({ WORKER_CONCURRENCY: "1" })];
+    const { id } = await launch({ runs: 300, seed: 7, t_end: 500 });
+    const run = await waitFor(id, finished);
+    expect(run.status).toBe("succeeded");
+    const by = await db("run_chunks").where({ run_id: id }).select("worker");
+    expect(new Set(by.map((r) => r.worker)).size).toBe(2);
+    expect(a.output.join("") + b.output.join("")).not.toMatch(/Error/);
+    const summary = (await modeler.request("GET", `/api/runs/${id}/summary`)).json;
+    const cli = runCli(["simulate", "examples/ring-timer.circuit.json", "--runs", "300", "--seed", "7", "--t-end", "500", "--dt", "1"]);
+    expect(JSON.stringify(pick(summary))).toBe(JSON.stringify(pick(cli.json)));
+  });
+
+  it("a deterministic trace run stores the mean-field path", async () => {
+    await worker();
+    const { id } = await launch({ method: "ode" });
+    const run = await waitFor(id, finished);
+    expect(run).toMatchObject({ status: "succeeded", kind: "trace" });
+    const summary = (await modeler.request("GET", `/api/runs/${id}/summary`)).json;
+    const cli = runCli(["simulate", "examples/ring-timer.circuit.json", "--method", "ode", "--t-end", "200", "--dt", "1"]);
+    expect(summary.trace).toEqual(cli.json.trace);
+    expect(summary.runs).toBe(1);
+  });
+});
+
+describe("cancel, roles and limits", () => {
+  it("cancelling mid-run stops it; a second cancel is a 409", async () => {
+    await worker({ WORKER_CONCURRENCY: "1" });
+    const { id } = await launch({ runs: 2000, seed: 5, t_end: 2000 });
+    await waitFor(id, (r) => r.status === "running", 60_000);
+    const c = await modeler.request("POST", `/api/runs/${id}/cancel`);
+    expect(c.status).toBe(200);
+    expect(c.json.status).toBe("cancelled");
+    await new Promise((r) => setTimeout(r, 2500));
+    const run = (await modeler.request("GET", `/api/runs/${id}`)).json;
+    expect(run.status).toBe("cancelled");
+    expect(run.chunks_done).toBeLessThan(run.chunks_total);
+    expect((await modeler.request("POST", `/api/runs/${id}/cancel`)).status).toBe(409);
+    expect((await modeler.request("GET", `/api/runs/${id}/summary`)).status).toBe(409);
+  });
+
+  it("a reviewer cannot create or cancel a run (403); another lab's run is a 404", async () => {
+    const reviewer = new Client();
+    await reviewer.signIn("reviewer@sentinel.example", "sentinel-demo");
+    const create = await reviewer.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 10, dt: 1 });
+    expect(create.status).toBe(403);
+    const { id } = await launch({ runs: 10 });
+    expect((await reviewer.request("POST", `/api/runs/${id}/cancel`)).status).toBe(403);
+    expect((await reviewer.request("GET", `/api/runs/${id}`)).status).toBe(200);
+    const stranger = await newUser("stranger");
+    for (const path of [`/api/runs/${id}`, `/api/runs/${id}/summary`, `/api/runs/${id}/cells/0`]) {
+      expect((await stranger.client.request("GET", path)).status).toBe(404);
+    }
+    expect((await stranger.client.request("POST", `/api/runs/${id}/cancel`)).status).toBe(404);
+    expect((await stranger.client.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 10, dt: 1 })).status).toBe(404);
+    await modeler.request("POST", `/api/runs/${id}/cancel`);
+  });
+
+  const bad: [string, Record<string, unknown>, number, RegExp][] = [
+    ["an unknown circuit version", { version_id: "987654321" }, 404, /^version: /],
+    ["a negative cell count", { runs: -5 }, 422, /^runs: /],
+    ["t_end below dt", { t_end: 1, dt: 5 }, 422, /^dt: must be <= t_end/],
+    ["10^9 cells", { runs: 1e9 }, 422, /^runs: at most 20000/],
+    ["an unknown method", { method: "euler" }, 422, /^method: /],
+    ["an override of an unknown parameter", { overrides: { Kc: 3 } }, 422, /^overrides\.Kc: unknown parameter/],
+    ["a grid of a billion points", { t_end: 1e9, dt: 1 }, 422, /^dt: gives more than/],
+  ];
+  it.each(bad)("%s is a clear %i and stores no run", async (_label, body, status, message) => {
+    const before = Number((await db("runs").count("* as n").first())!.n);
+    const r = await modeler.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 100, dt: 1, ...body });
+    expect(r.status).toBe(status);
+    expect(r.json.error).toMatch(message);
+    expect(Number((await db("runs").count("* as n").first())!.n)).toBe(before);
+  });
+
+  it("a cell that exceeds the event cap fails its run with the reason (not a stuck run)", async () => {
+    const runaway = {
+      format: "burstwise.circuit/1", name: `Runaway ${Date.now()}`, units: { time: "min", amount: "molecules" },
+      species: [{ id: "X", initial: 0 }], parameters: { k: 1e9 },
+      reactions: [{ id: "make", products: { X: 1 }, rate: { law: "mass_action", k: "k" } }, { id: "lose", reactants: { X: 1 }, rate: { law: "mass_action", k: 1 } }],
+    };
+    const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: runaway });
+    await worker();
+    const r = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 100, dt: 1, runs: 2 });
+    const run = await waitFor(r.json.id, finished, 120_000);
+    expect(run.status).toBe("failed");
+    expect(run.error).toMatch(/event/i);
+  });
+});
