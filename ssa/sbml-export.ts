@@ -91,7 +91,7 @@ export function circuitToSbml(c: Circuit): string {
   out.push(`<?xml version="1.0" encoding="UTF-8"?>`);
   out.push(`<sbml xmlns="${SBML_NS}" level="3" version="2">`);
   const modelAttrs = [
-    `id="${modelId(c.name)}"`,
+    c.name ? `id="${modelId(c.name)}"` : "", // the model id is optional in Level 3
     c.name ? `name="${xmlEscape(c.name)}"` : "",
     `substanceUnits="${substanceId}"`,
     `timeUnits="${timeId}"`,

@@ -237,7 +237,7 @@ class SbmlReader {
     const description = notesText(child(model, "notes"));
     const circuit: Circuit = {
       format: CIRCUIT_FORMAT,
-      name: (ma.name || ma.id || "Imported SBML model").slice(0, 200),
+      ...(ma.name || ma.id ? { name: (ma.name || ma.id).slice(0, 200) } : {}),
       ...(description ? { description: description.slice(0, 10000) } : {}),
       units: { time: this.timeUnit, amount: this.amountUnit },
       ...(this.volumeFL !== undefined ? { volume_fL: this.volumeFL } : {}),
