@@ -6,9 +6,10 @@
  * every statistic, is independent of chunking and threads. Pure: no I/O, no clock.
  */
 import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type DirectKernel } from "./kernel";
-import type { Model } from "./model";
+import type { Model } from "./model-core";
+import { outputGrid } from "./ode";
 import { cellRngState } from "./rng";
-import { HistogramBuilder, PARTIAL_FORMAT, cellPeriods, finalizeSummary, mergePartials, type Partial, type SimulateSummary } from "./stats";
+import { PARTIAL_FORMAT, cellPeriods, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
 import { tauKernel } from "./tau";
 import { ModelInputError } from "./types";
 
@@ -34,15 +35,16 @@ export interface EnsembleOptions {
 
 const DEFAULT_MAX_EVENTS = 2e9;
 
-/** Grid 0, dt, 2dt, …, ⌊tEnd/dt⌋·dt, each time computed as g·dt (no accumulated round-off). */
+/**
+ * The sampling grid 0, dt, 2dt, …, the same points as the mean-field trace (ssa/ode.ts outputGrid:
+ * k·dt for k ≤ ⌊tEnd/dt⌋, plus tEnd when dt does not divide it).
+ * @throws RangeError unless 0 < dt ≤ tEnd and the grid has at most 1e7 points.
+ */
 export function makeGrid(tEnd: number, dt: number): Float64Array {
-  if (!(tEnd > 0 && Number.isFinite(tEnd))) throw new RangeError(`tEnd must be a positive number, got ${tEnd}`);
-  if (!(dt > 0 && dt <= tEnd)) throw new RangeError(`dt must be in (0, tEnd], got ${dt}`);
-  const n = Math.floor(tEnd / dt + 1e-9) + 1;
-  if (n > 1e7) throw new RangeError(`tEnd/dt gives ${n} grid points; at most 1e7`);
-  const grid = new Float64Array(n);
-  for (let g = 0; g < n; g++) grid[g] = g * dt;
-  return grid;
+  if (Number.isFinite(tEnd) && Number.isFinite(dt) && dt > 0 && tEnd / dt > 1e7) {
+    throw new RangeError(`tEnd/dt gives more than 1e7 grid points`);
+  }
+  return outputGrid(tEnd, dt);
 }
 
 /** Burn-in actually used: the option, else tEnd/5 (CONTRACT.md §2). */
@@ -93,8 +95,10 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
   while (gStart < nT - 1 && grid[gStart] < burnIn) gStart++;
   const minBand = o.minPeriodBand ?? 2;
 
-  const out = new Float64Array(nPoints * B);
-  const hist = new HistogramBuilder(nPoints, B);
+  // The sample block is reused across calls on the same model (simulateCells is synchronous).
+  const need = nPoints * B;
+  const out = m.scratch.block && m.scratch.block.length >= need ? m.scratch.block : (m.scratch.block = new Float64Array(need));
+  let hist: HistogramCSR | null = null;
   const scratch = new Float64Array(nT);
   const x = new Float64Array(nS);
   const periods: number[][] = Array.from({ length: nS }, () => []);
@@ -117,13 +121,10 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
         cellPtr[i].push(periods[i].length);
       }
     }
-    for (let p = 0; p < nPoints; p++) {
-      const seg = out.subarray(p * B, p * B + nb);
-      seg.sort();
-      hist.addSorted(p, seg);
-    }
+    const h = histogramsOfBlock(out, nPoints, B, nb);
+    hist = hist ? mergeHistograms(hist, h, nPoints) : h;
   }
-  const csr = hist.toCSR();
+  const csr = hist as HistogramCSR;
   return {
     format: PARTIAL_FORMAT,
     nSpecies: nS,

@@ -16,8 +16,8 @@
  * Grid sampling: the sample at grid time t_g is the state just before the first event after t_g.
  * Pure: no I/O.
  */
-import { expressionSource, formatNumber } from "./expr";
-import { LawCode, hillActivation, hillRepression, type KernelFn, type Model } from "./model";
+import { expressionSource, formatNumber } from "./expr-ast";
+import { LawCode, hillActivation, hillRepression, type KernelFn, type Model } from "./model-core";
 import { CellRng, TWO_POW_M32, TYCHEI_STEP_SOURCE } from "./rng";
 
 /**

@@ -15,7 +15,7 @@
  * g_i ≥ 1 for species read by a formula. Pure: no I/O.
  */
 import type { DirectKernel } from "./kernel";
-import { LawCode, hillActivation, type Model } from "./model";
+import { LawCode, hillActivation, type Model } from "./model-core";
 import { poisson } from "./poisson";
 import { CellRng } from "./rng";
 

@@ -1,0 +1,152 @@
+/**
+ * `bench`: throughput of the stochastic engine on the shipped benchmark circuits, in reaction events
+ * per second per thread (CONTRACT.md §2), plus optional ensemble, tau-leaping and generator figures.
+ */
+import { readFileSync } from "node:fs";
+import { performance } from "node:perf_hooks";
+
+import seedrandom from "seedrandom";
+
+import { parseCircuit } from "@/lib/schemas/circuit";
+import { simulateCells } from "@/ssa/ensemble";
+import { compileModel } from "@/ssa/model";
+import { runSimulation } from "@/ssa/node/run";
+import type { Circuit } from "@/ssa/types";
+
+import { CliError, numberFlag, parseFlags, writeJson, type Command } from "../common";
+
+const BENCH_CIRCUITS = [
+  { name: "ring timer, 1 fL", file: "ring-timer.circuit.json", tEnd: 20000, dt: 10, cells: 4 },
+  { name: "ring timer, 10 fL", file: "ring-timer-10fL.circuit.json", tEnd: 2000, dt: 10, cells: 4 },
+  { name: "two-stage reporter", file: "two-stage-reporter.circuit.json", tEnd: 2000, dt: 10, cells: 20 },
+];
+
+function loadExample(file: string): Circuit {
+  return parseCircuit(JSON.parse(readFileSync(new URL(`../../examples/${file}`, import.meta.url), "utf8")));
+}
+
+interface Timing {
+  events: number;
+  wallS: number;
+}
+
+function timeCells(circuit: Circuit, method: "ssa" | "tau", tEnd: number, dt: number, cells: number, seed: number): Timing {
+  const model = compileModel(circuit);
+  const t0 = performance.now();
+  const p = simulateCells(model, { method, tEnd, dt, seed }, 0, cells);
+  return { events: p.events, wallS: (performance.now() - t0) / 1000 };
+}
+
+function median(xs: number[]): number {
+  const s = xs.slice().sort((a, b) => a - b);
+  const m = s.length >> 1;
+  return s.length % 2 ? (s[m] as number) : ((s[m - 1] as number) + (s[m] as number)) / 2;
+}
+
+function throughput(repeat: number) {
+  return BENCH_CIRCUITS.map((b) => {
+    const circuit = loadExample(b.file);
+    timeCells(circuit, "ssa", b.tEnd / 10, b.dt, 1, 999); // warm-up: compile and optimise the kernel
+    const rates: number[] = [];
+    let events = 0;
+    for (let r = 0; r < repeat; r++) {
+      const t = timeCells(circuit, "ssa", b.tEnd, b.dt, b.cells, 1 + r);
+      rates.push(t.events / t.wallS);
+      events = t.events;
+    }
+    return {
+      circuit: b.name,
+      file: `examples/${b.file}`,
+      method: "ssa",
+      cells: b.cells,
+      t_end: b.tEnd,
+      dt: b.dt,
+      events_per_run: events,
+      events_per_s_per_thread: Math.max(...rates),
+      events_per_s_per_thread_median: median(rates),
+      repeats: repeat,
+    };
+  });
+}
+
+async function ensemble(threads: number) {
+  const circuit = loadExample("ring-timer.circuit.json");
+  const t0 = performance.now();
+  const s = await runSimulation(circuit, { method: "ssa", tEnd: 2000, dt: 1, runs: 1000, seed: 7, threads });
+  return {
+    circuit: "ring timer, 1 fL",
+    runs: 1000,
+    t_end: 2000,
+    dt: 1,
+    threads,
+    wall_s: (performance.now() - t0) / 1000,
+    events: s.events,
+    peak_rss_mb: process.resourceUsage().maxRSS / 1024,
+  };
+}
+
+function tauVersusDirect(volumeFL: number, cells: number, tEnd: number) {
+  const base = loadExample("ring-timer.circuit.json");
+  const circuit: Circuit = { ...base, volume_fL: volumeFL, name: `${base.name ?? "ring timer"} (${volumeFL} fL)` };
+  const out: Record<string, unknown> = { circuit: `ring timer, ${volumeFL} fL`, cells, t_end: tEnd, dt: 1 };
+  const model = compileModel(circuit);
+  for (const method of ["ssa", "tau"] as const) {
+    const t0 = performance.now();
+    const p = simulateCells(model, { method, tEnd, dt: 1, seed: 11 }, 0, cells);
+    const wallS = (performance.now() - t0) / 1000;
+    out[method] = { wall_s: wallS, events: p.events };
+  }
+  const d = out.ssa as { wall_s: number };
+  const t = out.tau as { wall_s: number };
+  out.speedup = d.wall_s / t.wall_s;
+  return out;
+}
+
+function generators(n: number) {
+  const names = ["alea", "xor128", "xorwow", "xorshift7", "xor4096", "tychei", "arc4"] as const;
+  const lib = seedrandom as unknown as Record<string, (seed: string) => () => number>;
+  return names.map((name) => {
+    const make = (s: string) => (name === "arc4" ? seedrandom(s) : (lib[name] as (seed: string) => () => number)(s));
+    const g = make("bench:1");
+    let acc = 0;
+    for (let k = 0; k < 1e6; k++) acc += g();
+    const t0 = performance.now();
+    for (let k = 0; k < n; k++) acc += g();
+    const wall = (performance.now() - t0) / 1000;
+    const s0 = performance.now();
+    for (let k = 0; k < 10000; k++) make(`bench:${k}`)();
+    const seedUs = ((performance.now() - s0) / 10000) * 1000;
+    return { generator: name, uniforms_per_s: n / wall, seed_us: seedUs, checksum: acc > 0 };
+  });
+}
+
+export const command: Command = {
+  summary: "engine throughput on the shipped benchmark circuits, in events per second per thread",
+  help: `Usage: bench [options]
+
+Runs the direct method on the shipped benchmark circuits (ring timer at 1 fL and 10 fL, sampled
+every 10 minutes, and the two-stage reporter) on one thread and prints reaction events per second
+per thread as JSON (best and median of --repeat runs).
+
+Options:
+  --repeat N     runs per circuit (default 3)
+  --ensemble     also time 1,000 cells of the ring timer for 2,000 min at dt 1 (wall time, peak RSS)
+  --threads K    threads for --ensemble (default 2)
+  --tau          also compare tau-leaping with the direct method on the ring timer at 100 fL
+  --rng          also measure the seeded generators of seedrandom (uniforms per second)
+  --all          all of the above
+  --out FILE     write the JSON there instead of stdout`,
+  async run(argv) {
+    const flags = parseFlags(argv, { repeat: "string", ensemble: "boolean", tau: "boolean", rng: "boolean", all: "boolean", threads: "string", out: "string" }, "bench");
+    const repeat = numberFlag(flags, "repeat") ?? 3;
+    if (!Number.isInteger(repeat) || repeat < 1 || repeat > 100) throw new CliError("--repeat: must be an integer from 1 to 100");
+    const threads = numberFlag(flags, "threads") ?? 2;
+    if (!Number.isInteger(threads) || threads < 1 || threads > 256) throw new CliError("--threads: must be an integer from 1 to 256");
+    const all = flags.values.all === true;
+    const result: Record<string, unknown> = { unit: "reaction events per second per thread", node: process.version, circuits: throughput(repeat) };
+    if (all || flags.values.tau) result.tau = tauVersusDirect(100, 4, 500);
+    if (all || flags.values.rng) result.generators = generators(5e7);
+    if (all || flags.values.ensemble) result.ensemble = await ensemble(threads);
+    writeJson(result, flags.values.out as string | undefined);
+  },
+};

@@ -1,0 +1,444 @@
+/**
+ * Circuit with parsed formulas → compiled model: typed arrays for stoichiometry and constants,
+ * deterministic rates in model units and stochastic propensities in molecules (CONTRACT.md §1,
+ * SCIENCE.md "Units and molecule counts"). Pure: no I/O. The circuit is assumed valid
+ * (lib/schemas/circuit.ts). This file never loads the formula parser: ssa/model.ts parses and
+ * calls compileParsedModel, and worker threads receive formulas already parsed.
+ */
+import { compileExpression, expressionParameters, expressionSpecies, type Expr, type ExprEvaluator } from "./expr-ast";
+import { ModelInputError, type AmountUnit, type Circuit, type NumberOrParam, type TimeUnit } from "./types";
+
+/** Avogadro's number, mol⁻¹, exact in the 2019 SI. */
+export const AVOGADRO = 6.02214076e23;
+
+/** Litres per femtolitre. */
+const LITRES_PER_FL = 1e-15;
+
+/** Molar units in mol/L. */
+const MOLAR: Record<Exclude<AmountUnit, "molecules">, number> = { nM: 1e-9, uM: 1e-6 };
+
+/**
+ * Ω: molecules per model amount unit. Ω = V · N_A · unit for concentrations (1 nM in 1 fL ≈ 0.602214);
+ * 1 when amounts are already molecules (SCIENCE.md "Units and molecule counts").
+ * @throws ModelInputError when a concentration unit has no positive volume.
+ */
+export function omegaFor(amount: AmountUnit, volumeFL: number | undefined): number {
+  if (amount === "molecules") return 1;
+  if (!(volumeFL !== undefined && volumeFL > 0 && Number.isFinite(volumeFL))) {
+    throw new ModelInputError(`volume_fL: is required when units.amount is "${amount}"`);
+  }
+  return volumeFL * LITRES_PER_FL * AVOGADRO * MOLAR[amount];
+}
+
+/**
+ * Molecule count nearest to a (non-negative) number of molecules; halves round up.
+ * The one place where amounts become integer counts (CONTRACT.md: "initial amounts convert by
+ * rounding to the nearest integer").
+ */
+export function roundToCount(molecules: number): number {
+  if (!(molecules >= 0)) return 0;
+  return Math.floor(molecules + 0.5);
+}
+
+/** Rate-law codes of `Model.law`. */
+export const LawCode = { MassAction: 0, HillActivation: 1, HillRepression: 2, Expression: 3 } as const;
+
+export interface Model {
+  species: string[];
+  reactionIds: string[];
+  nSpecies: number;
+  nReactions: number;
+  /** Molecules per model amount unit (1 when amount is molecules). */
+  omega: number;
+  timeUnit: TimeUnit;
+  amountUnit: AmountUnit;
+  /** Parameter values after overrides. */
+  parameters: Record<string, number>;
+  /** Initial amounts in model units. */
+  initialAmounts: Float64Array;
+  /** Initial molecule counts (integers, via roundToCount). */
+  initialCounts: Float64Array;
+  /** Net stoichiometry, dense row-major nReactions × nSpecies. */
+  netStoich: Float64Array;
+  /** Reactant stoichiometry, dense row-major nReactions × nSpecies. */
+  reactantStoich: Float64Array;
+  /** Total reactant order of each reaction (Σν). */
+  reactantOrder: Int32Array;
+  /** Reactants in CSR form: reaction r consumes reactantNu[p] of reactantIdx[p], reactantPtr[r] ≤ p < reactantPtr[r+1]. */
+  reactantPtr: Int32Array;
+  reactantIdx: Int32Array;
+  reactantNu: Int32Array;
+  /** Net changes in CSR form (zeros dropped), same layout as the reactants. */
+  changePtr: Int32Array;
+  changeIdx: Int32Array;
+  changeDelta: Int32Array;
+  /** Species each propensity reads, CSR. */
+  readsPtr: Int32Array;
+  readsIdx: Int32Array;
+  /** Dependency graph (Cao, Li & Petzold 2004): after reaction r fires, recompute dependents depIdx[depPtr[r]..depPtr[r+1]). */
+  depPtr: Int32Array;
+  depIdx: Int32Array;
+  /** Rate law of each reaction. */
+  law: Int8Array;
+  /** Mass action: k in model units, and c = k·Πν!/Ω^(order−1) in molecules. */
+  k: Float64Array;
+  c: Float64Array;
+  /** Hill laws: input species index, vmax, K, n, basal (model units). */
+  hillInput: Int32Array;
+  vmax: Float64Array;
+  K: Float64Array;
+  n: Float64Array;
+  basal: Float64Array;
+  /** Parsed expressions (null for other laws). */
+  expressions: (Expr | null)[];
+  speciesIndex: ReadonlyMap<string, number>;
+  /** Deterministic rate of each reaction (model amount per model time) at amounts y. */
+  rates(y: Float64Array, out: Float64Array): void;
+  /** Propensity of each reaction (molecules per model time) at counts x. */
+  propensities(x: Float64Array, out: Float64Array): void;
+  /** Propensity of reaction j alone (molecules per model time) at counts x. */
+  propensity(j: number, x: Float64Array): number;
+  /** Kernels compiled on first use for this model (see ssa/ensemble.ts kernelFor). */
+  kernels: { direct?: KernelFn; generic?: KernelFn; tau?: KernelFn };
+  /** Scratch buffers reused by successive synchronous calls on this model (ssa/ensemble.ts). */
+  scratch: { block?: Float64Array };
+}
+
+/** Signature of a one-cell kernel (ssa/kernel.ts DirectKernel), repeated here to avoid an import cycle. */
+export type KernelFn = (
+  x: Float64Array,
+  rs: Int32Array,
+  grid: Float64Array,
+  nGrid: number,
+  out: Float64Array,
+  o: number,
+  B: number,
+  maxEvents: number,
+) => number;
+
+/** x^n for a non-negative base; repeated squaring for integer n (SCIENCE.md: integer powers). */
+export function powNonNeg(x: number, n: number): number {
+  if (Number.isInteger(n) && n >= 0 && n <= 64) {
+    let result = 1;
+    let base = x;
+    let e = n;
+    while (e > 0) {
+      if (e & 1) result *= base;
+      base *= base;
+      e >>= 1;
+    }
+    return result;
+  }
+  return Math.pow(x, n);
+}
+
+/**
+ * Hill functions in ratio form, r = (x/K)^n: h⁺ = r/(1+r), h⁻ = 1/(1+r) = 1 − h⁺ (Hill 1910).
+ * The ratio form never overflows to ∞/∞ for large x or n.
+ */
+export function hillActivation(x: number, K: number, n: number): number {
+  const r = powNonNeg(x / K, n);
+  return r === Infinity ? 1 : r / (1 + r);
+}
+
+export function hillRepression(x: number, K: number, n: number): number {
+  const r = powNonNeg(x / K, n);
+  return 1 / (1 + r);
+}
+
+function factorial(n: number): number {
+  let f = 1;
+  for (let i = 2; i <= n; i++) f *= i;
+  return f;
+}
+
+/** Falling-factorial binomial C(x, ν) for integer x ≥ 0; 0 when x < ν. */
+export function binomialCount(x: number, nu: number): number {
+  if (nu === 1) return x;
+  if (x < nu) return 0;
+  let num = 1;
+  for (let i = 0; i < nu; i++) num *= x - i;
+  return num / factorial(nu);
+}
+
+function resolveParameters(c: Circuit, overrides: Record<string, number> | undefined): Record<string, number> {
+  const params: Record<string, number> = { ...(c.parameters ?? {}) };
+  for (const [name, value] of Object.entries(overrides ?? {})) {
+    if (!Object.prototype.hasOwnProperty.call(params, name)) {
+      throw new ModelInputError(`overrides.${name}: unknown parameter "${name}"`);
+    }
+    if (typeof value !== "number" || !Number.isFinite(value)) {
+      throw new ModelInputError(`overrides.${name}: must be a finite number`);
+    }
+    params[name] = value;
+  }
+  return params;
+}
+
+function resolveValue(v: NumberOrParam | undefined, params: Record<string, number>, field: string, fallback?: number): number {
+  if (v === undefined) {
+    if (fallback !== undefined) return fallback;
+    throw new ModelInputError(`${field}: is required`);
+  }
+  if (typeof v === "number") return v;
+  if (!Object.prototype.hasOwnProperty.call(params, v)) throw new ModelInputError(`${field}: unknown parameter "${v}"`);
+  return params[v];
+}
+
+function checkBound(value: number, field: string, min: number, strict: boolean): void {
+  if (!Number.isFinite(value) || (strict ? !(value > min) : !(value >= min))) {
+    throw new ModelInputError(`${field}: must be ${strict ? ">" : ">="} ${min} (got ${value})`);
+  }
+}
+
+/**
+ * Compiles a validated circuit whose formulas are already parsed (`expressions[j]` for reaction j,
+ * null for other laws), with optional parameter overrides.
+ * @throws ModelInputError naming the field when an override is unknown or breaks a bound.
+ */
+export function compileParsedModel(c: Circuit, overrides: Record<string, number> | undefined, parsed: (Expr | null)[]): Model {
+  const params = resolveParameters(c, overrides);
+  const omega = omegaFor(c.units.amount, c.volume_fL);
+  const species = c.species.map((s) => s.id);
+  const speciesIndex = new Map<string, number>();
+  species.forEach((id, i) => speciesIndex.set(id, i));
+  const nS = species.length;
+  const nR = c.reactions.length;
+
+  const initialAmounts = new Float64Array(nS);
+  const initialCounts = new Float64Array(nS);
+  c.species.forEach((s, i) => {
+    initialAmounts[i] = s.initial;
+    initialCounts[i] = roundToCount(s.initial * omega);
+  });
+
+  const netStoich = new Float64Array(nR * nS);
+  const reactantStoich = new Float64Array(nR * nS);
+  const reactantOrder = new Int32Array(nR);
+  const law = new Int8Array(nR);
+  const k = new Float64Array(nR);
+  const cc = new Float64Array(nR);
+  const hillInput = new Int32Array(nR).fill(-1);
+  const vmax = new Float64Array(nR);
+  const K = new Float64Array(nR);
+  const n = new Float64Array(nR);
+  const basal = new Float64Array(nR);
+  const expressions: (Expr | null)[] = [];
+  const reads: number[][] = [];
+
+  c.reactions.forEach((r, j) => {
+    for (const [id, nu] of Object.entries(r.reactants ?? {})) {
+      const i = speciesIndex.get(id);
+      if (i === undefined) throw new ModelInputError(`reactions[${j}].reactants.${id}: unknown species "${id}"`);
+      reactantStoich[j * nS + i] += nu;
+      netStoich[j * nS + i] -= nu;
+      reactantOrder[j] += nu;
+    }
+    for (const [id, nu] of Object.entries(r.products ?? {})) {
+      const i = speciesIndex.get(id);
+      if (i === undefined) throw new ModelInputError(`reactions[${j}].products.${id}: unknown species "${id}"`);
+      netStoich[j * nS + i] += nu;
+    }
+    const at = `reactions[${j}].rate`;
+    const rate = r.rate;
+    const readSet: number[] = [];
+    if (rate.law === "mass_action") {
+      law[j] = LawCode.MassAction;
+      k[j] = resolveValue(rate.k, params, `${at}.k`);
+      checkBound(k[j], `${at}.k`, 0, false);
+      let nuFact = 1;
+      for (let i = 0; i < nS; i++) {
+        const nu = reactantStoich[j * nS + i];
+        if (nu > 0) {
+          nuFact *= factorial(nu);
+          readSet.push(i);
+        }
+      }
+      // c = k · Πν! / Ω^(order−1) (Gillespie 1977; SCIENCE.md "Conversions").
+      cc[j] = (k[j] * nuFact) / Math.pow(omega, reactantOrder[j] - 1);
+      expressions.push(null);
+    } else if (rate.law === "expression") {
+      law[j] = LawCode.Expression;
+      const expr = parsed[j];
+      if (!expr) throw new ModelInputError(`${at}.expression: not parsed`);
+      for (const id of expressionSpecies(expr)) {
+        const i = speciesIndex.get(id);
+        if (i === undefined) throw new ModelInputError(`${at}.expression: unknown species "${id}"`);
+        readSet.push(i);
+      }
+      for (const id of expressionParameters(expr)) {
+        if (!Object.prototype.hasOwnProperty.call(params, id)) throw new ModelInputError(`${at}.expression: unknown parameter "${id}"`);
+      }
+      expressions.push(expr);
+    } else {
+      law[j] = rate.law === "hill_activation" ? LawCode.HillActivation : LawCode.HillRepression;
+      const input = speciesIndex.get(rate.input);
+      if (input === undefined) throw new ModelInputError(`${at}.input: unknown species "${rate.input}"`);
+      hillInput[j] = input;
+      vmax[j] = resolveValue(rate.vmax, params, `${at}.vmax`);
+      K[j] = resolveValue(rate.K, params, `${at}.K`);
+      n[j] = resolveValue(rate.n, params, `${at}.n`);
+      basal[j] = resolveValue(rate.basal, params, `${at}.basal`, 0);
+      checkBound(vmax[j], `${at}.vmax`, 0, false);
+      checkBound(K[j], `${at}.K`, 0, true);
+      checkBound(n[j], `${at}.n`, 0, true);
+      checkBound(basal[j], `${at}.basal`, 0, false);
+      readSet.push(input);
+      expressions.push(null);
+    }
+    // A non-mass-action law with reactants is switched off while a reactant is short (no negative counts).
+    if (rate.law !== "mass_action") {
+      for (let i = 0; i < nS; i++) if (reactantStoich[j * nS + i] > 0 && !readSet.includes(i)) readSet.push(i);
+    }
+    reads.push(readSet.sort((a, b) => a - b));
+  });
+
+  const csr = (rows: number[][]): [Int32Array, Int32Array] => {
+    const ptr = new Int32Array(rows.length + 1);
+    rows.forEach((row, r) => (ptr[r + 1] = ptr[r] + row.length));
+    const idx = new Int32Array(ptr[rows.length]);
+    rows.forEach((row, r) => idx.set(row, ptr[r]));
+    return [ptr, idx];
+  };
+
+  const reactantRows: number[][] = [];
+  const reactantNuRows: number[][] = [];
+  const changeRows: number[][] = [];
+  const deltaRows: number[][] = [];
+  for (let j = 0; j < nR; j++) {
+    const rr: number[] = [];
+    const rn: number[] = [];
+    const cr: number[] = [];
+    const cd: number[] = [];
+    for (let i = 0; i < nS; i++) {
+      const nu = reactantStoich[j * nS + i];
+      if (nu > 0) {
+        rr.push(i);
+        rn.push(nu);
+      }
+      const d = netStoich[j * nS + i];
+      if (d !== 0) {
+        cr.push(i);
+        cd.push(d);
+      }
+    }
+    reactantRows.push(rr);
+    reactantNuRows.push(rn);
+    changeRows.push(cr);
+    deltaRows.push(cd);
+  }
+  const [reactantPtr, reactantIdx] = csr(reactantRows);
+  const reactantNu = Int32Array.from(reactantNuRows.flat());
+  const [changePtr, changeIdx] = csr(changeRows);
+  const changeDelta = Int32Array.from(deltaRows.flat());
+  const [readsPtr, readsIdx] = csr(reads);
+
+  // Reaction r affects reaction q when r changes a species q reads.
+  const depRows: number[][] = [];
+  for (let r = 0; r < nR; r++) {
+    const changed = new Set(changeRows[r]);
+    const row: number[] = [];
+    for (let q = 0; q < nR; q++) if (reads[q].some((i) => changed.has(i))) row.push(q);
+    depRows.push(row);
+  }
+  const [depPtr, depIdx] = csr(depRows);
+
+  const amountEval: (ExprEvaluator | null)[] = expressions.map((e) =>
+    e ? compileExpression(e, speciesIndex, new Map(Object.entries(params))) : null,
+  );
+  const countEval: (ExprEvaluator | null)[] = expressions.map((e) =>
+    e ? compileExpression(e, speciesIndex, new Map(Object.entries(params)), 1 / omega) : null,
+  );
+
+  const rates = (y: Float64Array, out: Float64Array): void => {
+    for (let j = 0; j < nR; j++) {
+      switch (law[j]) {
+        case LawCode.MassAction: {
+          // k · Π [X]^ν over reactants (CONTRACT.md §1).
+          let v = k[j];
+          for (let p = reactantPtr[j]; p < reactantPtr[j + 1]; p++) v *= powNonNeg(y[reactantIdx[p]], reactantNu[p]);
+          out[j] = v;
+          break;
+        }
+        case LawCode.HillActivation:
+          out[j] = basal[j] + vmax[j] * hillActivation(Math.max(0, y[hillInput[j]]), K[j], n[j]);
+          break;
+        case LawCode.HillRepression:
+          out[j] = basal[j] + vmax[j] * hillRepression(Math.max(0, y[hillInput[j]]), K[j], n[j]);
+          break;
+        default:
+          out[j] = (amountEval[j] as ExprEvaluator)(y);
+      }
+    }
+  };
+
+  const KOmega = K.map((v) => v * omega);
+  const propensity = (j: number, x: Float64Array): number => {
+    let a: number;
+    switch (law[j]) {
+      case LawCode.MassAction: {
+        // c · Π C(x, ν) (Gillespie 1977).
+        a = cc[j];
+        for (let p = reactantPtr[j]; p < reactantPtr[j + 1]; p++) a *= binomialCount(x[reactantIdx[p]], reactantNu[p]);
+        return a;
+      }
+      case LawCode.HillActivation:
+        // Ω · (basal + vmax · h⁺(x/Ω)), with x/Ω over K written as x over K·Ω.
+        a = omega * (basal[j] + vmax[j] * hillActivation(x[hillInput[j]], KOmega[j], n[j]));
+        break;
+      case LawCode.HillRepression:
+        a = omega * (basal[j] + vmax[j] * hillRepression(x[hillInput[j]], KOmega[j], n[j]));
+        break;
+      default:
+        a = omega * (countEval[j] as ExprEvaluator)(x);
+        if (!(a > 0)) a = 0; // a negative or undefined formula value cannot fire
+    }
+    for (let p = reactantPtr[j]; p < reactantPtr[j + 1]; p++) if (x[reactantIdx[p]] < reactantNu[p]) return 0;
+    return a;
+  };
+  const propensities = (x: Float64Array, out: Float64Array): void => {
+    for (let j = 0; j < nR; j++) out[j] = propensity(j, x);
+  };
+
+  return {
+    species,
+    reactionIds: c.reactions.map((r) => r.id),
+    nSpecies: nS,
+    nReactions: nR,
+    omega,
+    timeUnit: c.units.time,
+    amountUnit: c.units.amount,
+    parameters: params,
+    initialAmounts,
+    initialCounts,
+    netStoich,
+    reactantStoich,
+    reactantOrder,
+    reactantPtr,
+    reactantIdx,
+    reactantNu,
+    changePtr,
+    changeIdx,
+    changeDelta,
+    readsPtr,
+    readsIdx,
+    depPtr,
+    depIdx,
+    law,
+    k,
+    c: cc,
+    hillInput,
+    vmax,
+    K,
+    n,
+    basal,
+    expressions,
+    speciesIndex,
+    rates,
+    propensity,
+    propensities,
+    kernels: {},
+    scratch: {},
+  };
+}
+
