@@ -9,13 +9,12 @@ import { Piscina } from "piscina";
 import { closeDb } from "../db/client";
 import { env } from "../lib/env";
 import { createBoss, ensureQueues, Queues } from "../lib/jobs";
-import type { CellsTask } from "../ssa/node/worker";
-import type { Partial } from "../ssa/stats";
 import { handleChunk, handleFinalize } from "./runs";
+import type { ChunkResult, ChunkTask } from "./tasks/cells";
 
 const concurrency = env.WORKER_CONCURRENCY ?? availableParallelism();
-const pool = new Piscina<CellsTask, Partial>({
-  filename: fileURLToPath(new URL("../ssa/node/worker.ts", import.meta.url)),
+const pool = new Piscina<ChunkTask, ChunkResult>({
+  filename: fileURLToPath(new URL("./tasks/cells.ts", import.meta.url)),
   minThreads: 1, maxThreads: concurrency, idleTimeout: 60_000,
   execArgv: ["--import", "tsx"],
 });

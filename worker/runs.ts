@@ -13,16 +13,19 @@ import { Queues, RunChunkJob, RunFinalizeJob } from "../lib/jobs";
 import { RUN_LIMITS } from "../lib/schemas/runs";
 import { burnInOf, summarize, trajectory, type EnsembleOptions } from "../ssa/ensemble";
 import { compileModel, parseCircuitExpressions } from "../ssa/model";
-import type { CellsTask } from "../ssa/node/worker";
 import { runSimulation } from "../ssa/node/run";
 import { solveOde } from "../ssa/ode";
 import { mergePartials, type Partial } from "../ssa/stats";
 import { onRunFinished } from "./hooks";
+import type { ChunkResult, ChunkTask } from "./tasks/cells";
 
 const WORKER_ID = `${hostname()}:${process.pid}`;
 
-/** Errors that retrying cannot fix (bad input, a runaway cell): the run fails at once. */
-const isPermanent = (e: unknown) => e instanceof Error && ["ModelInputError", "RangeError", "TypeError", "OdeError", "CircuitError"].includes(e.name);
+/** A chunk that cannot be computed whatever the retries (bad input, a runaway cell). */
+class InputError extends Error {}
+
+/** Errors that retrying cannot fix: the run fails at once with the reason. */
+const isPermanent = (e: unknown) => e instanceof InputError || e instanceof RangeError || e instanceof TypeError || (e instanceof Error && ["OdeError", "CircuitError", "SteadyStateError"].includes(e.name));
 const reasonOf = (e: unknown) => (e instanceof Error ? e.message : String(e));
 
 export function ensembleOptions(run: RunRow): EnsembleOptions {
@@ -35,7 +38,7 @@ export function ensembleOptions(run: RunRow): EnsembleOptions {
 }
 
 export interface RunDeps {
-  pool: Piscina<CellsTask, Partial>;
+  pool: Piscina<ChunkTask, ChunkResult>;
   send: (queue: string, data: object, options: { singletonKey: string }) => Promise<unknown>;
 }
 
@@ -72,9 +75,11 @@ export async function handleChunk(job: Job<unknown> & { retryCount?: number; ret
       const t0 = performance.now();
       const overrides = run.settings.overrides;
       const expressions = parseCircuitExpressions(circuit, overrides);
-      const partial = await whileNotCancelled(runId, (signal) =>
+      const result = await whileNotCancelled(runId, (signal) =>
         deps.pool.run({ circuit, overrides, expressions, options: ensembleOptions(run), first, last }, { signal }));
-      if (!partial) return; // cancelled while computing
+      if (!result) return; // cancelled while computing
+      if ("inputError" in result) throw new InputError(result.inputError);
+      const { partial } = result;
       const blob = gzipSync(serialize(partial), { level: 1 });
       // The primary key (run_id, chunk_index) makes a retried or duplicated chunk land once.
       await db("run_chunks").insert({

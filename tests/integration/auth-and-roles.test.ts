@@ -9,7 +9,7 @@ import { testDb } from "../support/db";
 type Role = "owner" | "modeler" | "reviewer";
 interface Ctx {
   labId: string; reviewerId: string; circuitId: string; versionId: string;
-  spareEmail: () => Promise<string>; disposableCircuit: () => Promise<string>;
+  spareEmail: () => Promise<string>; disposableCircuit: () => Promise<string>; disposableRun: (keepQueued?: boolean) => Promise<string>;
 }
 interface RouteCase { name: string; method: string; path: (c: Ctx) => string | Promise<string>; body?: (c: Ctx) => Promise<unknown> | unknown; allowed: Role[] }
 
@@ -35,6 +35,11 @@ export const LAB_ROUTES: RouteCase[] = [
   { name: "read a version", method: "GET", path: (c) => `/api/versions/${c.versionId}`, allowed: ["owner", "modeler", "reviewer"] },
   { name: "read a version's counts", method: "GET", path: (c) => `/api/versions/${c.versionId}/counts`, allowed: ["owner", "modeler", "reviewer"] },
   { name: "read a version's analysis", method: "GET", path: (c) => `/api/versions/${c.versionId}/analysis`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "list runs", method: "GET", path: (c) => `/api/runs?lab_id=${c.labId}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "launch a run", method: "POST", path: () => "/api/runs", body: (c) => ({ version_id: c.versionId, method: "ssa", t_end: 10, dt: 1, runs: 1 }), allowed: ["owner", "modeler"] },
+  { name: "read a run", method: "GET", path: async (c) => `/api/runs/${await c.disposableRun()}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "cancel a run", method: "POST", path: async (c) => `/api/runs/${await c.disposableRun(true)}/cancel`, allowed: ["owner", "modeler"] },
+  { name: "delete a run", method: "DELETE", path: async (c) => `/api/runs/${await c.disposableRun()}`, allowed: ["owner"] },
 ];
 
 let db: Knex;
@@ -42,6 +47,7 @@ let owner: Awaited<ReturnType<typeof newUser>>;
 let outsider: Awaited<ReturnType<typeof newUser>>;
 const members: Partial<Record<Role, Client>> = {};
 let ctx: Ctx;
+const queuedRuns: string[] = [];
 
 beforeAll(async () => {
   db = testDb();
@@ -62,10 +68,18 @@ beforeAll(async () => {
     labId: owner.labId, reviewerId: reviewer.userId, circuitId: created.json.id, versionId: created.json.version_id,
     spareEmail: async () => (await newUser("spare")).email,
     disposableCircuit: async () => (await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: uniqueCircuit() })).json.id,
+    disposableRun: async (keepQueued = false) => {
+      const r = await owner.client.request("POST", "/api/runs", { version_id: created.json.version_id, method: "ssa", t_end: 10, dt: 1, runs: 1 });
+      // No worker runs in this file: cancel at once, or at the end, so nothing is left waiting.
+      if (keepQueued) queuedRuns.push(r.json.id);
+      else await owner.client.request("POST", `/api/runs/${r.json.id}/cancel`);
+      return r.json.id;
+    },
   };
 });
 
 afterAll(async () => {
+  await db("runs").whereIn("lab_id", [owner.labId]).whereIn("status", ["queued", "running"]).update({ status: "cancelled" });
   await db.destroy();
 });
 
