@@ -85,6 +85,14 @@ export function circuitToSbml(c: Circuit): string {
     }
   }
   for (const [p, set] of roles) if (set.size !== 1 || exprParams.has(p)) roles.delete(p);
+  // Units of literal numbers in rate laws (sbml:units on <cn>), so unit checks can follow them.
+  const literalUnits: LiteralUnits = {
+    concentration: () => {
+      units.set(concUnitId, conc);
+      return concUnitId;
+    },
+    rate: (concPower) => unitFor(concPower),
+  };
   if ([...roles.values()].some((s) => s.has(concUnitId))) units.set(concUnitId, conc);
 
   const out: string[] = [];
@@ -118,7 +126,10 @@ export function circuitToSbml(c: Circuit): string {
   out.push(`    <listOfCompartments>`);
   const size = c.volume_fL ?? 1;
   out.push(
-    `      <compartment id="${compartment}" spatialDimensions="3" size="${size}"${hasVolume || isConc ? ` units="femtolitre"` : ""} constant="true"/>`,
+    hasVolume || isConc
+      ? `      <compartment id="${compartment}" spatialDimensions="3" size="${size}" units="femtolitre" constant="true"/>`
+      : // No volume given: a unit-free container of size 1 (molecule amounts never divide by it).
+        `      <compartment id="${compartment}" size="1" units="dimensionless" constant="true"/>`,
   );
   out.push(`    </listOfCompartments>`);
   out.push(`    <listOfSpecies>`);
@@ -154,7 +165,7 @@ export function circuitToSbml(c: Circuit): string {
     };
     refs("listOfReactants", reactants);
     refs("listOfProducts", products);
-    const { math, species } = rateMath(r.rate, r.reactants ?? {}, speciesIds, params, `reactions "${r.id}"`);
+    const { math, species } = rateMath(r.rate, r.reactants ?? {}, speciesIds, params, `reactions "${r.id}"`, literalUnits);
     const modifiers = species.filter((s) => !(s in reactants) && !(s in products));
     if (modifiers.length) {
       out.push(`        <listOfModifiers>`);
@@ -179,25 +190,36 @@ function modelId(name: string | undefined): string {
   return /^[A-Za-z_]/.test(base) ? base.slice(0, 64) : `m_${base}`.slice(0, 64);
 }
 
-const numOrCi = (v: NumberOrParam): string => (typeof v === "number" ? cn(v) : ci(v));
+interface LiteralUnits {
+  /** Unit id of a concentration (or molecule count) literal. */
+  concentration(): string;
+  /** Unit id of concentration^p per time. */
+  rate(concPower: number): string;
+}
+
+const numOrCi = (v: NumberOrParam, units: string): string => (typeof v === "number" ? cn(v, units) : ci(v));
 
 /** MathML of a rate law f (amount per time, in the circuit's units) and the species it reads. */
 function rateMath(
-  rate: RateLaw, reactants: Record<string, number>, speciesIds: Set<string>, params: Record<string, number>, where: string,
+  rate: RateLaw, reactants: Record<string, number>, speciesIds: Set<string>, params: Record<string, number>, where: string, lit: LiteralUnits,
 ): { math: string; species: string[] } {
   switch (rate.law) {
     case "mass_action": {
-      const factors = [numOrCi(rate.k)];
-      for (const [sp, nu] of Object.entries(reactants)) factors.push(nu === 1 ? ci(sp) : apply("power", ci(sp), cn(nu)));
+      const order = Object.values(reactants).reduce((a, b) => a + b, 0);
+      const factors = [typeof rate.k === "number" ? cn(rate.k, lit.rate(1 - order)) : ci(rate.k)];
+      for (const [sp, nu] of Object.entries(reactants)) factors.push(nu === 1 ? ci(sp) : apply("power", ci(sp), cn(nu, "dimensionless")));
       return { math: factors.length === 1 ? factors[0] : apply("times", ...factors), species: Object.keys(reactants) };
     }
     case "hill_activation":
     case "hill_repression": {
       // r = (x/K)^n; activation vmax·r/(1 + r), repression vmax/(1 + r), plus basal.
-      const r = apply("power", apply("divide", ci(rate.input), numOrCi(rate.K)), numOrCi(rate.n));
-      const onePlusR = apply("plus", cn(1), r);
-      const core = rate.law === "hill_activation" ? apply("divide", apply("times", numOrCi(rate.vmax), r), onePlusR) : apply("divide", numOrCi(rate.vmax), onePlusR);
-      const withBasal = rate.basal === undefined ? core : apply("plus", numOrCi(rate.basal), core);
+      const K = typeof rate.K === "number" ? cn(rate.K, lit.concentration()) : ci(rate.K);
+      const r = apply("power", apply("divide", ci(rate.input), K), numOrCi(rate.n, "dimensionless"));
+      const onePlusR = apply("plus", cn(1, "dimensionless"), r);
+      const vmax = typeof rate.vmax === "number" ? cn(rate.vmax, lit.rate(1)) : ci(rate.vmax);
+      const core = rate.law === "hill_activation" ? apply("divide", apply("times", vmax, r), onePlusR) : apply("divide", vmax, onePlusR);
+      const basal = rate.basal === undefined ? undefined : typeof rate.basal === "number" ? cn(rate.basal, lit.rate(1)) : ci(rate.basal);
+      const withBasal = basal === undefined ? core : apply("plus", basal, core);
       return { math: withBasal, species: [rate.input] };
     }
     case "expression": {

@@ -432,21 +432,27 @@ function print(f: Formula, parentPrec: number): string {
 
 const MATHML_NS = "http://www.w3.org/1998/Math/MathML";
 
-/** Formats a number as a MathML <cn> element (e-notation when JavaScript prints an exponent). */
-export function cn(v: number): string {
+/**
+ * Formats a number as a MathML <cn> element (e-notation when JavaScript prints an exponent),
+ * with an SBML Level 3 `sbml:units` attribute when the unit is known.
+ */
+export function cn(v: number, units?: string): string {
   if (!Number.isFinite(v)) throw new RangeError(`cannot write ${v} as MathML`);
   const s = String(v);
   const e = s.indexOf("e");
-  if (e < 0) return Number.isInteger(v) ? `<cn type="integer"> ${s} </cn>` : `<cn> ${s} </cn>`;
-  return `<cn type="e-notation"> ${s.slice(0, e)} <sep/> ${s.slice(e + 1)} </cn>`;
+  const u = units ? ` sbml:units="${units}"` : "";
+  if (e < 0) return Number.isInteger(v) ? `<cn type="integer"${u}> ${s} </cn>` : `<cn${u}> ${s} </cn>`;
+  return `<cn type="e-notation"${u}> ${s.slice(0, e)} <sep/> ${s.slice(e + 1)} </cn>`;
 }
 
 export const ci = (id: string): string => `<ci> ${id} </ci>`;
 export const apply = (op: string, ...args: string[]): string => `<apply><${op}/>${args.join("")}</apply>`;
 
-/** Wraps content MathML in a <math> element with the MathML namespace. */
+const SBML_L3V2_NS = "http://www.sbml.org/sbml/level3/version2/core";
+
+/** Wraps content MathML in a <math> element (MathML namespace; `sbml:` prefix for cn units). */
 export function mathElement(content: string): string {
-  return `<math xmlns="${MATHML_NS}">${content}</math>`;
+  return `<math xmlns="${MATHML_NS}" xmlns:sbml="${SBML_L3V2_NS}">${content}</math>`;
 }
 
 /** A parsed `expression` (ssa/expr.ts) as content MathML. */

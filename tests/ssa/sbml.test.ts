@@ -1,4 +1,7 @@
-import { readFileSync } from "node:fs";
+import { spawnSync } from "node:child_process";
+import { mkdtempSync, readdirSync, readFileSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
 
 import { describe, expect, it } from "vitest";
 
@@ -126,6 +129,37 @@ describe("SBML round trip", () => {
     expect(xml).toContain("<apply><power/><apply><divide/><ci> C </ci><ci> K </ci></apply><ci> n </ci></apply>");
     expect(isSbmlText(xml)).toBe(true);
     expect(isSbmlText("  {\"format\": 1}")).toBe(false);
+  });
+});
+
+// libSBML's own consistency checks (including units), when its Perl binding is installed
+// (Debian: apt-get install libsbml5-perl). Skipped elsewhere; see ssa/README.md for the last run.
+const LIBSBML_CHECK = `use LibSBML; my $doc = LibSBML::readSBMLFromFile($ARGV[0]);
+$doc->setConsistencyChecks($LibSBML::LIBSBML_CAT_UNITS_CONSISTENCY, 1); $doc->checkConsistency();
+for (my $i = 0; $i < $doc->getNumErrors(); $i++) { my $e = $doc->getError($i);
+  print $e->getSeverityAsString(), " ", $e->getErrorId(), ": ", (split /\n/, $e->getMessage())[0], "\n"; }`;
+const hasLibsbml = spawnSync("perl", ["-MLibSBML", "-e", "1"]).status === 0;
+
+describe("SBML export passes libSBML's consistency checks", () => {
+  it.skipIf(!hasLibsbml)("circuitToSbml(every shipped example) has no libSBML error or warning, unit checks included", () => {
+    const dir = mkdtempSync(join(tmpdir(), "bw-sbml-"));
+    for (const f of readdirSync("examples").filter((x) => x.endsWith(".circuit.json"))) {
+      const file = join(dir, f.replace(".json", ".xml"));
+      writeFileSync(file, circuitToSbml(load(`examples/${f}`)));
+      const r = spawnSync("perl", ["-e", LIBSBML_CHECK, file], { encoding: "utf8" });
+      expect(r.status).toBe(0);
+      expect(`${f}: ${r.stdout}`).toBe(`${f}: `);
+    }
+  });
+
+  it.skipIf(!hasLibsbml)("circuitToSbml(a circuit with free formulas) has no libSBML error (unit warnings from the formula itself are allowed)", () => {
+    const dir = mkdtempSync(join(tmpdir(), "bw-sbml-"));
+    for (const [i, c] of extraCircuits.entries()) {
+      const file = join(dir, `extra-${i}.xml`);
+      writeFileSync(file, circuitToSbml(c));
+      const r = spawnSync("perl", ["-e", LIBSBML_CHECK, file], { encoding: "utf8" });
+      expect(r.stdout.split("\n").filter((l) => /^(Error|Fatal)/.test(l))).toEqual([]);
+    }
   });
 });
 
