@@ -168,6 +168,35 @@ describe("analyze: linear noise approximation", () => {
     expect(Math.max(...trace) - Math.min(...trace)).toBeGreaterThan(0.5 * out.steady_state.A);
   });
 
+  it("analyze(bistable toggle) reports the stable state the trajectory goes to, not the saddle between (worked by hand)", () => {
+    // du/dt = a/(1+v²) − u, dv/dt = a/(1+u²) − v with a = 10: two stable states and a saddle at
+    // u = v (u³ + u = 10 gives u = 2). Starting from u = 5, v = 0.1 the high-u state is reached.
+    const toggle = (u0: number, v0: number) =>
+      parseCircuit({
+        format: "burstwise.circuit/1",
+        units: { time: "min", amount: "molecules" },
+        species: [{ id: "u", initial: u0 }, { id: "v", initial: v0 }],
+        parameters: { a: 10, K: 1, n: 2, one: 1 },
+        reactions: [
+          { id: "make_u", products: { u: 1 }, rate: { law: "hill_repression", input: "v", vmax: "a", K: "K", n: "n" } },
+          { id: "make_v", products: { v: 1 }, rate: { law: "hill_repression", input: "u", vmax: "a", K: "K", n: "n" } },
+          { id: "lose_u", reactants: { u: 1 }, rate: { law: "mass_action", k: "one" } },
+          { id: "lose_v", reactants: { v: 1 }, rate: { law: "mass_action", k: "one" } },
+        ],
+      });
+    const high = analyze(compileModel(toggle(5, 0.1)));
+    expect(high.stable).toBe(true);
+    expect(high.steady_state.u).toBeGreaterThan(9);
+    expect(high.steady_state.u * (1 + high.steady_state.v ** 2)).toBeCloseTo(10, 9);
+    const low = analyze(compileModel(toggle(0.1, 5)));
+    expect(low.steady_state.v).toBeCloseTo(high.steady_state.u, 9); // mirror image
+    // Started exactly on the symmetric line, the trajectory stays there and reaches the saddle.
+    const saddle = analyze(compileModel(toggle(0, 0)));
+    expect(saddle.steady_state.u).toBeCloseTo(2, 9);
+    expect(saddle.stable).toBe(false);
+    expect(saddle.oscillatory).toBe(false);
+  });
+
   it("findSteadyState throws a clear error for unbounded growth", () => {
     const c = parseCircuit({
       format: "burstwise.circuit/1",
