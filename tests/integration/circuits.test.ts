@@ -109,6 +109,8 @@ describe("version views", () => {
     const r = await me.client.request("POST", "/api/circuits", { lab_id: me.labId, circuit: { ...ringTimer, name: "Analysis" } });
     const a = await me.client.request("GET", `/api/versions/${r.json.version_id}/analysis`);
     expect(a.status).toBe(200);
-    expect(a.json).toEqual(JSON.parse(JSON.stringify(analyze(compileModel({ ...ringTimer, name: "Analysis" })))));
+    const stored = (await me.client.request("GET", `/api/versions/${r.json.version_id}`)).json;
+    expect(a.json).toEqual(JSON.parse(JSON.stringify(analyze(compileModel(stored)))));
+    expect(a.json.oscillatory).toBe(true); // the CONTRACT.md ring timer (n = 4, K = 20 nM) has a complex pair in the right half-plane
   });
 });
