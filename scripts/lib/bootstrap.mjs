@@ -2,7 +2,7 @@
 // Plain Node (no dependencies): it must run on a fresh clone before `npm ci`.
 import { spawnSync, spawn } from "node:child_process";
 import { createHash, randomBytes } from "node:crypto";
-import { existsSync, mkdirSync, readFileSync, writeFileSync, readdirSync, statSync, chmodSync } from "node:fs";
+import { existsSync, mkdirSync, readFileSync, writeFileSync, readdirSync, statSync, chmodSync, rmSync } from "node:fs";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { userInfo } from "node:os";
@@ -13,6 +13,7 @@ export const PG_DIR = join(LOCAL, "pg");
 export const PG_DATA = join(PG_DIR, "data");
 export const PG_SOCK = join(PG_DIR, "sock");
 export const PG_PORT = Number(process.env.BURSTWISE_PG_PORT ?? 55432);
+export const DIST_DIR = process.env.BURSTWISE_DIST_DIR ?? ".next";
 export const IS_ROOT = process.getuid?.() === 0;
 
 const quietEnv = { ...process.env, NEXT_TELEMETRY_DISABLED: "1", DEBIAN_FRONTEND: "noninteractive" };
@@ -122,11 +123,26 @@ export function pgIsRunning() {
   return r.status === 0;
 }
 
+// Processes using the local cluster register here, so the last one out stops it.
+const PG_CLIENTS = join(PG_DIR, "clients");
+const alive = (pid) => {
+  try { process.kill(pid, 0); return true; } catch (e) { return e.code === "EPERM"; }
+};
+function registerPgClient() {
+  mkdirSync(PG_CLIENTS, { recursive: true });
+  writeFileSync(join(PG_CLIENTS, String(process.pid)), "");
+}
+function otherPgClients() {
+  if (!existsSync(PG_CLIENTS)) return [];
+  return readdirSync(PG_CLIENTS).map(Number).filter((pid) => pid !== process.pid && alive(pid));
+}
+
 /**
  * Creates (once) and starts the project-local cluster under .local/pg, listening on
  * 127.0.0.1 only. Returns true when this call started it (so the caller stops it).
  */
 export function ensureLocalCluster() {
+  registerPgClient();
   ensurePostgresInstalled();
   const bin = findPgBin();
   mkdirSync(PG_DIR, { recursive: true });
@@ -149,6 +165,12 @@ export function ensureLocalCluster() {
 }
 
 export function stopLocalCluster() {
+  try { rmSync(join(PG_CLIENTS, String(process.pid)), { force: true }); } catch { /* gone */ }
+  const others = otherPgClients();
+  if (others.length) {
+    log(`PostgreSQL left running for ${others.length} other process(es) using it`);
+    return;
+  }
   const bin = findPgBin();
   if (!bin || !pgIsRunning()) return;
   log("stopping PostgreSQL");
@@ -215,8 +237,8 @@ export function ensureBuild() {
   const files = [...BUILD_FILES];
   for (const d of BUILD_INPUTS) listFiles(join(ROOT, d), files);
   const want = hashFiles(files);
-  const stamp = join(LOCAL, "build-hash");
-  if (existsSync(join(ROOT, ".next", "BUILD_ID")) && existsSync(stamp) && readFileSync(stamp, "utf8") === want) {
+  const stamp = join(LOCAL, `build-hash${DIST_DIR === ".next" ? "" : `-${DIST_DIR.replace(/[^A-Za-z0-9_-]/g, "_")}`}`);
+  if (existsSync(join(ROOT, DIST_DIR, "BUILD_ID")) && existsSync(stamp) && readFileSync(stamp, "utf8") === want) {
     log("app build is up to date");
     return;
   }
