@@ -20,10 +20,16 @@ export type JacobianModel = Pick<
  * (n/K)·(x/K)^(n−1)/(1+(x/K)^n)²; repression is its negative. Expressions: dual numbers.
  */
 export function rateJacobian(model: JacobianModel, y: Float64Array): Float64Array {
+  const out = new Float64Array(model.nReactions * model.nSpecies);
+  rateJacobianInto(model, y, out, new Map(Object.entries(model.parameters)));
+  return out;
+}
+
+/** rateJacobian writing into `out` (overwritten), with the parameter map supplied by the caller. */
+function rateJacobianInto(model: JacobianModel, y: Float64Array, out: Float64Array, paramMap: ReadonlyMap<string, number>): void {
   const nS = model.nSpecies;
   const nR = model.nReactions;
-  const out = new Float64Array(nR * nS);
-  const paramMap = new Map(Object.entries(model.parameters));
+  out.fill(0);
   for (let r = 0; r < nR; r++) {
     const law = model.law[r];
     if (law === LawCode.MassAction) {
@@ -54,7 +60,6 @@ export function rateJacobian(model: JacobianModel, y: Float64Array): Float64Arra
       for (let i = 0; i < nS; i++) out[r * nS + i] = dual(expr, y, i, model.speciesIndex, paramMap)[1];
     }
   }
-  return out;
 }
 
 /** Value and derivative along species `dir` of an expression (forward-mode AD). */
@@ -129,18 +134,43 @@ function powDual(a: number, da: number, b: number, db: number): [number, number]
 
 /** J = S·∂f/∂y (nSpecies × nSpecies, row-major), the Jacobian of dy/dt = Sᵀf(y) in 1/time. */
 export function meanFieldJacobian(model: JacobianModel, y: Float64Array): Float64Array {
+  const J = new Float64Array(model.nSpecies * model.nSpecies);
+  meanFieldJacobianEvaluator(model)(y, J);
+  return J;
+}
+
+/**
+ * A reusable J = S·∂f/∂y evaluator that writes into `out` (nSpecies × nSpecies) and allocates
+ * nothing per call, for the stiff ODE solver.
+ */
+export function meanFieldJacobianEvaluator(model: JacobianModel): (y: Float64Array, out: Float64Array) => void {
   const nS = model.nSpecies;
   const nR = model.nReactions;
-  const df = rateJacobian(model, y);
-  const J = new Float64Array(nS * nS);
+  const df = new Float64Array(nR * nS);
+  const paramMap = new Map(Object.entries(model.parameters));
+  const rIdx: number[] = [];
+  const sIdx: number[] = [];
+  const coef: number[] = [];
   for (let r = 0; r < nR; r++) {
     for (let i = 0; i < nS; i++) {
-      const s = model.netStoich[r * nS + i];
-      if (s === 0) continue;
-      for (let j = 0; j < nS; j++) J[i * nS + j] += s * df[r * nS + j];
+      const v = model.netStoich[r * nS + i];
+      if (v !== 0) {
+        rIdx.push(r);
+        sIdx.push(i);
+        coef.push(v);
+      }
     }
   }
-  return J;
+  return (y, out) => {
+    rateJacobianInto(model, y, df, paramMap);
+    out.fill(0);
+    for (let p = 0; p < rIdx.length; p++) {
+      const r = rIdx[p];
+      const i = sIdx[p];
+      const c = coef[p];
+      for (let j = 0; j < nS; j++) out[i * nS + j] += c * df[r * nS + j];
+    }
+  };
 }
 
 /** Species × reactions stoichiometry S (row-major) from a model's reactions × species netStoich. */

@@ -2,6 +2,7 @@
  * Mean-field trace of a compiled circuit: dy/dt = Sᵀ·f(y) (SCIENCE.md "Deterministic model"),
  * integrated by ode-solvers.ts and sampled on the grid 0, dt, 2dt, …, tEnd. Pure: no I/O.
  */
+import { meanFieldJacobianEvaluator, type JacobianModel } from "./lna";
 import type { Model } from "./model";
 import { integrate, type IntegrateStats, type OdeMethod, type OdeRhs } from "./ode-solvers";
 
@@ -96,11 +97,14 @@ export function solveOde(model: MeanFieldModel, options: SolveOdeOptions): OdeSo
   const grid = outputGrid(options.tEnd, options.dt);
   const y0 = options.y0 ?? model.initialAmounts;
   if (y0.length !== model.nSpecies) throw new RangeError(`y0 must have ${model.nSpecies} entries, got ${y0.length}`);
+  // A compiled Model knows its rate laws, so the stiff method gets the exact Jacobian.
+  const exact = "law" in model && "expressions" in model ? meanFieldJacobianEvaluator(model as MeanFieldModel & JacobianModel) : undefined;
   const { values, stats } = integrate(meanFieldRhs(model), y0, grid, {
     method: options.method,
     rtol: options.rtol,
     atol: options.atol,
     maxSteps: options.maxSteps,
+    jacobian: exact,
   });
   const nS = model.nSpecies;
   const scale = units === "molecules" ? model.omega : 1;
