@@ -647,6 +647,7 @@ class SbmlReader {
         throw this.mathError(`${where} kineticLaw`, e);
       }
       const name = a.name ? { name: a.name.slice(0, 200) } : {};
+      if (a.fast === "true") this.warnings.push(`${where} is marked fast; simulated at its kinetic law's rate like the others`);
       const reversible = a.reversible === undefined ? this.level === 2 : a.reversible === "true";
       const halves = reversible ? splitNetRate(ast) : null;
       const split = halves !== null;
@@ -874,6 +875,7 @@ function notesText(notes: XmlNode | undefined): string {
     for (const c of childrenOf(n)) {
       const t = tagOf(c);
       if (t === "#text") acc.push(String(c["#text"]));
+      else if (t === "head" || t === "style" || t === "script") continue;
       else if (t === "p" || t === "div" || t === "li" || t === "h1" || t === "h2" || t === "h3") {
         const inner: string[] = [];
         walk(c, inner);

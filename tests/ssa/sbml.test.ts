@@ -207,6 +207,20 @@ describe("SBML import of hand-written files", () => {
     expect(f.make_R).toBeCloseTo(3, 12);
   });
 
+  it("sbmlToCircuit(Level 2 file with RDF, SBO terms, XHTML notes, redefined substance/volume/time) gives a µM circuit in minutes", () => {
+    const { circuit, warnings } = sbmlToCircuit(fixture("sbml-l2v3-annotated.xml"));
+    const c = parseCircuit(circuit);
+    // substance = µmol, volume = L, so concentrations are µM; time = 60 s; size 2e-15 L = 2 fL.
+    expect(c.units).toEqual({ time: "min", amount: "uM" });
+    expect(c.volume_fL).toBe(2);
+    expect(c.description).toBe("Negative autoregulation.\n\nProtein P represses its own gene.");
+    expect(c.species).toEqual([{ id: "P", name: "repressor", initial: 0.01 }]);
+    expect(warnings).toEqual(['reaction "synthesis" is marked fast; simulated at its kinetic law\'s rate like the others']);
+    const f = ratesById(c, [0.03]);
+    expect(f.synthesis).toBeCloseTo((0.05 * 0.02) / (0.02 + 0.03), 15); // nucleus·β·K/(K+P) over the volume
+    expect(f.degradation).toBeCloseTo(0.1 * 0.03, 15);
+  });
+
   it("sbmlToCircuit reads a substance unit of item as molecules and converts minutes", () => {
     const xml = `<?xml version="1.0"?>
 <sbml xmlns="http://www.sbml.org/sbml/level3/version2/core" level="3" version="2">
