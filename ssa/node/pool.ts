@@ -34,6 +34,13 @@ export interface PoolRunOptions {
   threads?: number;
   /** Cells per chunk; default about eight chunks per thread, between 1 and 250 cells. */
   chunk?: number;
+  /**
+   * Whether the calling thread simulates too (default true: K threads = caller + K − 1 workers).
+   * A server keeps it false so its event loop stays free; then K workers run.
+   */
+  useCallingThread?: boolean;
+  /** Filled in after the run: cells simulated by worker threads (the rest ran on the caller). */
+  report?: { workerCells: number; workers: number };
   /** Called now and then with the fraction of cells done. */
   onProgress?: (fraction: number) => void;
   signal?: AbortSignal;
@@ -69,35 +76,43 @@ export async function simulateCellsPooled(
   o.signal?.addEventListener("abort", onAbort, { once: true });
   const report = () => o.onProgress?.(Atomics.load(shared, SLOT_DONE_CELLS) / runs);
 
+  const useCaller = o.useCallingThread ?? true;
+  const workers = useCaller ? (ranges.length > 1 ? threads - 1 : 0) : threads;
   let pool: Piscina<CellsTask, Partial | null> | null = null;
   const workerResults: Promise<Partial | null>[] = [];
   try {
-    if (threads > 1 && ranges.length > 1) {
+    if (workers > 0) {
       pool = new Piscina<CellsTask, Partial | null>({
         filename: fileURLToPath(new URL("./worker.ts", import.meta.url)),
-        minThreads: threads - 1,
-        maxThreads: threads - 1,
+        minThreads: workers,
+        maxThreads: workers,
         idleTimeout: 1000,
         execArgv: workerExecArgv(),
       });
-      for (let w = 0; w < threads - 1; w++) {
+      for (let w = 0; w < workers; w++) {
         workerResults.push(pool.run({ circuit, overrides, expressions, options, ranges, shared }));
       }
     }
     // The calling thread claims chunks one at a time, yielding between them so that the pool's
     // messages (workers starting, results arriving) are handled while it works.
     let acc: Partial | null = null;
-    for (;;) {
+    let callerCells = 0;
+    while (useCaller) {
       await nextTick();
       const p = runOneChunk(model, { options, ranges, shared });
       if (!p) break;
       acc = acc ? mergePartials(acc, p) : p;
+      callerCells += p.cells;
       report();
     }
     for (const r of await Promise.all(workerResults)) if (r) acc = acc ? mergePartials(acc, r) : r;
     report();
     if (Atomics.load(shared, SLOT_CANCEL) !== 0) throw new CancelledError();
     if (!acc || acc.cells !== runs) throw new Error(`internal: merged ${acc?.cells ?? 0} of ${runs} cells`);
+    if (o.report) {
+      o.report.workerCells = runs - callerCells;
+      o.report.workers = workers;
+    }
     return acc;
   } finally {
     o.signal?.removeEventListener("abort", onAbort);
