@@ -2,7 +2,7 @@
 // database, a built app served on a spare port), run every suite, clean up, exit non-zero on failure.
 import { spawnSync } from "node:child_process";
 import {
-  ensureNodeModules, ensureLocalCluster, ensureChromium, ensureDatabase, dropDatabase, localUrl, migrate,
+  ensureNodeModules, ensureLocalCluster, ensureChromium, ensureDebianPackages, ensureDatabase, dropDatabase, localUrl, migrate,
   seedDemo, ensureBuild, startChild, stopChild, stopLocalCluster, log, ROOT,
 } from "./lib/bootstrap.mjs";
 
@@ -12,6 +12,8 @@ const extraArgs = process.argv.slice(2); // e.g. `npm test -- --project unit`
 
 ensureNodeModules();
 const chromium = ensureChromium();
+// libSBML's Perl binding checks the SBML we write (CONTRACT.md: it passes libSBML's consistency checks).
+ensureDebianPackages(["libsbml5-perl"]);
 const startedPg = ensureLocalCluster();
 const dbName = `burstwise_test_${process.pid}`;
 ensureDatabase(dbName);
@@ -29,7 +31,7 @@ try {
   log(`suites starting (${((Date.now() - started) / 1000).toFixed(0)} s of setup)`);
   const r = spawnSync(process.execPath, ["node_modules/vitest/vitest.mjs", "run", ...extraArgs], {
     cwd: ROOT, stdio: "inherit",
-    env: { ...process.env, ...env, NODE_ENV: "test", TEST_DATABASE_URL: databaseUrl, BURSTWISE_TEST_URL: baseUrl, CHROMIUM_PATH: chromium },
+    env: { ...process.env, ...env, NODE_ENV: "test", BURSTWISE_REQUIRE_LIBSBML: "1", TEST_DATABASE_URL: databaseUrl, BURSTWISE_TEST_URL: baseUrl, CHROMIUM_PATH: chromium },
   });
   code = r.status ?? 1;
 } catch (e) {

@@ -70,6 +70,12 @@ export function ensurePostgresInstalled() {
   if (!findPgBin()) throw new Error("postgresql was installed but no initdb was found under /usr/lib/postgresql");
 }
 
+/** Installs the Debian packages among `packages` that dpkg does not list as installed. */
+export function ensureDebianPackages(packages) {
+  const missing = packages.filter((p) => spawnSync("dpkg", ["-s", p], { stdio: "ignore" }).status !== 0);
+  if (missing.length) aptInstall(missing);
+}
+
 export function ensureChromium() {
   const path = process.env.CHROMIUM_PATH ?? "/usr/bin/chromium";
   if (existsSync(path)) return path;

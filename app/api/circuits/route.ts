@@ -22,7 +22,7 @@ export const POST = handle("POST /api/circuits", async (req) => {
   const user = await requireUser(req);
   const body = CircuitCreate.parse(await readJson(req, 6 * 1024 * 1024));
   await requireLabRole(user.id, body.lab_id, "circuit:write");
-  const { circuit, sourceFormat } = await circuitFromBody(body);
+  const { circuit, sourceFormat, warnings } = await circuitFromBody(body);
   const { id, versionId } = await createCircuit(body.lab_id, user.id, circuit, sourceFormat);
-  return Response.json({ id, version_id: versionId }, { status: 201 });
+  return Response.json({ id, version_id: versionId, ...(warnings.length ? { warnings } : {}) }, { status: 201 });
 });

@@ -1,0 +1,113 @@
+// Service benchmark (issue: ensembles as background work): a 1,000-cell ring-timer ensemble
+// through the API and worker against the same `cli simulate`, summary read latency, and what a
+// run costs in rows and bytes. Run with `npm run bench:service`; prints JSON.
+import { spawnSync } from "node:child_process";
+import { readFileSync } from "node:fs";
+import { performance } from "node:perf_hooks";
+
+import {
+  dropDatabase, ensureBuild, ensureDatabase, ensureLocalCluster, localUrl, migrate, psql, seedDemo, startChild, stopChild, stopLocalCluster,
+} from "../lib/bootstrap.mjs";
+
+const PORT = Number(process.env.BENCH_PORT ?? 3400);
+const base = `http://127.0.0.1:${PORT}`;
+const CELLS = Number(process.env.BENCH_CELLS ?? 1000);
+const T_END = 2000;
+const DT = 1;
+const SEED = 20261201;
+
+const cookies = new Map<string, string>();
+async function call(method: string, path: string, body?: unknown, form?: URLSearchParams) {
+  const headers: Record<string, string> = { cookie: [...cookies].map(([k, v]) => `${k}=${v}`).join("; ") };
+  if (body) headers["content-type"] = "application/json";
+  if (form) headers["content-type"] = "application/x-www-form-urlencoded";
+  const res = await fetch(base + path, { method, headers, body: form ?? (body ? JSON.stringify(body) : undefined), redirect: "manual" });
+  for (const c of res.headers.getSetCookie()) {
+    const [pair] = c.split(";");
+    const i = pair!.indexOf("=");
+    cookies.set(pair!.slice(0, i), pair!.slice(i + 1));
+  }
+  const text = await res.text();
+  return { status: res.status, text, json: (() => { try { return JSON.parse(text); } catch { return null; } })() };
+}
+
+const median = (xs: number[]) => { const s = [...xs].sort((a, b) => a - b); return s[Math.floor(s.length / 2)]!; };
+
+async function main() {
+  const startedPg = ensureLocalCluster();
+  const dbName = "burstwise_bench";
+  dropDatabase(dbName);
+  ensureDatabase(dbName);
+  const databaseUrl = localUrl(dbName);
+  migrate(databaseUrl);
+  seedDemo(databaseUrl);
+  ensureBuild();
+  const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: "bench", NEXTAUTH_URL: base, NODE_ENV: "production" };
+  const web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(PORT)], env);
+  const worker = startChild("worker", process.execPath, ["--import", "tsx", "worker/index.ts"], { ...env, WORKER_CONCURRENCY: "2" });
+  try {
+    for (let i = 0; i < 200; i++) { try { if ((await fetch(`${base}/api/health`)).ok) break; } catch { /* starting */ } await new Promise((r) => setTimeout(r, 250)); }
+    const csrf = await call("GET", "/api/auth/csrf");
+    await call("POST", "/api/auth/callback/credentials", undefined,
+      new URLSearchParams({ csrfToken: csrf.json.csrfToken, email: "modeler@sentinel.example", password: "sentinel-demo", json: "true" }));
+    const lab = (await call("GET", "/api/labs")).json.labs[0];
+    const circuit = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
+    const c = await call("POST", "/api/circuits", { lab_id: lab.id, circuit: { ...circuit, name: "Bench ring timer" } });
+    // Warm the worker's thread pool and compiled kernel with a small run first (as a live worker would be).
+    const warm = await call("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 100, dt: 1, runs: 100, seed: 1 });
+    while (!["succeeded", "failed"].includes((await call("GET", `/api/runs/${warm.json.id}`)).json.status)) await new Promise((r) => setTimeout(r, 50));
+
+    const t0 = performance.now();
+    const run = await call("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: T_END, dt: DT, runs: CELLS, seed: SEED });
+    let status = "";
+    while (!["succeeded", "failed", "cancelled"].includes(status)) {
+      await new Promise((r) => setTimeout(r, 50));
+      status = (await call("GET", `/api/runs/${run.json.id}`)).json.status;
+    }
+    const apiWallS = (performance.now() - t0) / 1000;
+    if (status !== "succeeded") throw new Error(`bench run ${status}`);
+
+    const reads: number[] = [];
+    let summaryText = "";
+    for (let i = 0; i < 30; i++) {
+      const r0 = performance.now();
+      summaryText = (await call("GET", `/api/runs/${run.json.id}/summary`)).text;
+      reads.push(performance.now() - r0);
+    }
+
+    const c0 = performance.now();
+    const cli = spawnSync(process.execPath, ["--import", "tsx", "cli/index.ts", "simulate", "examples/ring-timer.circuit.json",
+      "--runs", String(CELLS), "--t-end", String(T_END), "--dt", String(DT), "--seed", String(SEED), "--threads", "2"], { encoding: "utf8", maxBuffer: 1 << 30 });
+    const cliWallS = (performance.now() - c0) / 1000;
+    const cliJson = JSON.parse(cli.stdout);
+    const api = JSON.parse(summaryText);
+    const keys = ["mean", "sd", "quantiles", "final", "stationary", "period"];
+    const identical = keys.every((k) => JSON.stringify(api[k]) === JSON.stringify(cliJson[k]));
+
+    const q = (sql: string) => psql(sql, dbName);
+    const id = run.json.id;
+    const out = {
+      cells: CELLS, t_end: T_END, dt: DT, grid_points: Math.floor(T_END / DT) + 1, species: 3,
+      api_wall_s: +apiWallS.toFixed(2), cli_wall_s: +cliWallS.toFixed(2), cli_engine_wall_s: +cliJson.wall_s.toFixed(2),
+      api_over_cli: +(apiWallS / cliWallS).toFixed(2), identical_statistics: identical,
+      summary_read_ms_median: +median(reads).toFixed(1), summary_read_ms_max: +Math.max(...reads).toFixed(1), summary_json_bytes: summaryText.length,
+      storage: {
+        run_rows: 1,
+        chunk_rows: Number(q(`select count(*) from run_chunks where run_id = ${id}`)),
+        chunk_partial_bytes: Number(q(`select coalesce(sum(octet_length(partial)),0) from run_chunks where run_id = ${id}`)),
+        result_rows: 1,
+        summary_gz_bytes: Number(q(`select octet_length(summary_gz) from run_results where run_id = ${id}`)),
+        trace_gz_bytes: Number(q(`select octet_length(trace_gz) from run_results where run_id = ${id}`)),
+        cells_gz_bytes: Number(q(`select octet_length(cells_gz) from run_results where run_id = ${id}`)),
+      },
+    };
+    console.log(JSON.stringify(out, null, 2));
+  } finally {
+    await stopChild(worker);
+    await stopChild(web);
+    dropDatabase(dbName);
+    if (startedPg) stopLocalCluster();
+  }
+}
+
+await main();
