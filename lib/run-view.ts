@@ -1,0 +1,224 @@
+/**
+ * What the run pages show, derived from the API's JSON: types of the run, summary and cell
+ * bodies (CONTRACT.md §2, §3), and small pure helpers (ETA, durations, histogram rows). Pure: no
+ * I/O; the browser and tests import it.
+ */
+
+export type RunStatus = "queued" | "running" | "succeeded" | "failed" | "cancelled";
+export type RunMethod = "ode" | "ssa" | "tau";
+
+/** `GET /api/runs/:id` (lib/runs.ts runToJson), as JSON. */
+export interface RunJson {
+  id: string;
+  status: RunStatus;
+  progress: number;
+  error?: string;
+  seed: number;
+  settings: { t_end: number; dt: number; runs: number; burn_in?: number; overrides?: Record<string, number>; units: "molecules" | "model" };
+  version_id: string;
+  circuit_id: string;
+  circuit_name: string;
+  version_number: number;
+  lab_id: string;
+  kind: "trace" | "ensemble";
+  method: RunMethod;
+  chunks_done: number;
+  chunks_total: number;
+  engine_version: string;
+  created_by: string | null;
+  created_at: string;
+  started_at: string | null;
+  finished_at: string | null;
+  wall_s: number | null;
+  events: number | null;
+}
+
+export interface MomentsJson { mean: number | null; variance: number | null; cv: number | null; fano: number | null }
+export interface PeriodJson {
+  count: number; mean: number | null; sd: number | null; cv: number | null;
+  histogram: { edges: number[]; counts: number[] };
+  cells?: number; amplitude?: { mean: number | null; sd: number | null }; oscillating?: boolean;
+  crossings?: { count: number; mean: number | null; cv: number | null };
+}
+export type QuantileKey = "p05" | "p25" | "p50" | "p75" | "p95";
+export const QUANTILE_KEYS: readonly QuantileKey[] = ["p05", "p25", "p50", "p75", "p95"];
+
+/** `GET /api/runs/:id/summary`: the `simulate` JSON plus trace, burn-in and units. NaN arrives as null. */
+export interface SummaryJson {
+  method: RunMethod;
+  seed: number | null;
+  runs: number;
+  units: "molecules" | "model";
+  species: string[];
+  times: number[];
+  mean: Record<string, (number | null)[]>;
+  sd: Record<string, (number | null)[]>;
+  quantiles: Record<string, Record<QuantileKey, (number | null)[]>>;
+  final: Record<string, MomentsJson>;
+  stationary: Record<string, MomentsJson>;
+  period: Record<string, PeriodJson>;
+  events: number;
+  wall_s: number;
+  events_per_s?: number;
+  burn_in?: number;
+  time_unit?: string;
+  amount_unit?: string;
+  omega?: number;
+  trace?: Record<string, (number | null)[]>;
+}
+
+/** `GET /api/runs/:id/cells/:index`: one replayed cell. */
+export interface CellJson {
+  seed: number;
+  index: number;
+  units: "molecules" | "model";
+  species: string[];
+  times: number[];
+  values: Record<string, number[]>;
+  events: number;
+  method?: string;
+  time_unit?: string;
+  amount_unit?: string;
+}
+
+/** `GET /api/versions/:id/analysis` (CONTRACT.md §2 `analyze`). */
+export interface AnalysisJson {
+  steady_state: Record<string, number>;
+  eigenvalues: { re: number; im: number }[];
+  stable: boolean;
+  oscillatory: boolean;
+  lna: { covariance: number[][]; cv: Record<string, number | null>; fano: Record<string, number | null> } | null;
+}
+
+export const isActive = (s: RunStatus): boolean => s === "queued" || s === "running";
+
+export const METHOD_LABEL: Record<RunMethod, string> = {
+  ode: "Trace (deterministic ODE)",
+  ssa: "Direct Gillespie",
+  tau: "Tau-leaping",
+};
+
+/** The amount unit a run's numbers are in: molecules, or the circuit's own unit for `units: "model"`. */
+export function amountUnitOf(units: "molecules" | "model", modelAmountUnit: string | undefined): string {
+  return units === "model" ? (modelAmountUnit ?? "model units") : "molecules";
+}
+
+/** Burn-in actually used: the run's setting, else CONTRACT.md's default t_end / 5. */
+export const burnInOf = (s: { t_end: number; burn_in?: number }): number => s.burn_in ?? s.t_end / 5;
+
+/**
+ * Seconds left for a running run, from the fraction done and the time since it started:
+ * elapsed · (1 − p) / p. Null before any progress (nothing to extrapolate from) or when not running.
+ */
+export function etaSeconds(run: Pick<RunJson, "status" | "progress" | "started_at">, nowMs: number): number | null {
+  if (run.status !== "running" || !run.started_at) return null;
+  const p = run.progress;
+  if (!(p > 0 && p < 1)) return null;
+  const elapsedS = Math.max(0, (nowMs - Date.parse(run.started_at)) / 1000);
+  return (elapsedS * (1 - p)) / p;
+}
+
+/** A duration for people: "0.4 s", "12 s", "3 min 5 s", "2 h 10 min". */
+export function formatDuration(seconds: number | null | undefined): string {
+  if (seconds == null || !Number.isFinite(seconds)) return "—";
+  if (seconds < 10) return `${Math.max(0, seconds).toFixed(1)} s`;
+  if (seconds < 60) return `${Math.round(seconds)} s`;
+  if (seconds < 3600) {
+    const m = Math.floor(seconds / 60);
+    const s = Math.round(seconds - m * 60);
+    return s ? `${m} min ${s} s` : `${m} min`;
+  }
+  const h = Math.floor(seconds / 3600);
+  const m = Math.round((seconds - h * 3600) / 60);
+  return m ? `${h} h ${m} min` : `${h} h`;
+}
+
+/** A number with `digits` significant digits, without exponent noise for ordinary sizes; "—" for null/NaN. */
+export function formatNumber(v: number | null | undefined, digits = 4): string {
+  if (v == null || !Number.isFinite(v)) return "—";
+  if (v === 0) return "0";
+  const a = Math.abs(v);
+  if (a >= 1e6 || a < 1e-3) return v.toExponential(Math.max(0, digits - 1)).replace("e+", "e");
+  return String(Number(v.toPrecision(digits)));
+}
+
+/** Large counts with thin grouping: 12 345 678. */
+export function formatCount(v: number | null | undefined): string {
+  if (v == null || !Number.isFinite(v)) return "—";
+  return Math.round(v).toLocaleString("en-US").replace(/,/g, "\u2009");
+}
+
+/** Histogram bars from edges (n + 1) and counts (n): [{ x0, x1, count }]. */
+export function histogramRows(edges: number[], counts: number[]): { x0: number; x1: number; count: number }[] {
+  if (edges.length !== counts.length + 1) return [];
+  return counts.map((count, b) => ({ x0: edges[b], x1: edges[b + 1], count }));
+}
+
+/**
+ * A histogram of values: one bin per integer when the values are whole numbers spanning at most
+ * 60 of them (molecule counts), otherwise ⌈√n⌉ equal bins (at most 40). Bins are [x0, x1), the last closed.
+ */
+export function histogramOf(values: number[]): { edges: number[]; counts: number[] } {
+  const finite = values.filter((v) => Number.isFinite(v));
+  if (finite.length === 0) return { edges: [], counts: [] };
+  let lo = Infinity;
+  let hi = -Infinity;
+  for (const v of finite) {
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
+  }
+  const integers = finite.every((v) => Number.isInteger(v));
+  if (integers && hi - lo <= 60) {
+    // One bin per count, centred on it: [k − ½, k + ½).
+    const counts = new Array<number>(hi - lo + 1).fill(0);
+    for (const v of finite) counts[v - lo]++;
+    return { edges: Array.from({ length: counts.length + 1 }, (_, k) => lo - 0.5 + k), counts };
+  }
+  if (hi === lo) return { edges: [lo - 0.5, hi + 0.5], counts: [finite.length] };
+  const bins = Math.min(40, Math.max(1, Math.ceil(Math.sqrt(finite.length))));
+  const w = (hi - lo) / bins;
+  const counts = new Array<number>(bins).fill(0);
+  for (const v of finite) counts[Math.min(bins - 1, Math.floor((v - lo) / w))]++;
+  return { edges: Array.from({ length: bins + 1 }, (_, b) => (b === bins ? hi : lo + b * w)), counts };
+}
+
+/** Values of one species in the given cells at grid times ≥ burnIn (pooled, cell by cell). */
+export function valuesAfterBurnIn(cells: CellJson[], species: string, burnIn: number): number[] {
+  const out: number[] = [];
+  for (const c of cells) {
+    const v = c.values[species];
+    if (!v) continue;
+    c.times.forEach((t, g) => {
+      if (t >= burnIn) out.push(v[g]);
+    });
+  }
+  return out;
+}
+
+/** Sample mean, SD (n − 1), CV and Fano of plain numbers; nulls where undefined. */
+export function momentsOf(values: number[]): { n: number; mean: number | null; sd: number | null; cv: number | null; fano: number | null } {
+  const n = values.length;
+  if (n === 0) return { n, mean: null, sd: null, cv: null, fano: null };
+  let s = 0;
+  for (const v of values) s += v;
+  const mean = s / n;
+  let ss = 0;
+  for (const v of values) ss += (v - mean) * (v - mean);
+  const variance = n > 1 ? ss / (n - 1) : 0;
+  const sd = Math.sqrt(variance);
+  return { n, mean, sd, cv: mean !== 0 ? sd / mean : null, fano: mean !== 0 ? variance / mean : null };
+}
+
+/** Standard deviation from a variance that may be null. */
+export const sdOf = (variance: number | null | undefined): number | null =>
+  variance == null || !Number.isFinite(variance) ? null : Math.sqrt(Math.max(0, variance));
+
+/**
+ * The API error `"<field>: <reason>"` split into the field and the reason (CONTRACT.md §3).
+ * "body" and messages without a field prefix give field null.
+ */
+export function splitApiError(error: string): { field: string | null; reason: string } {
+  const m = /^([A-Za-z_][\w.[\]]*): (.*)$/s.exec(error);
+  if (!m || m[1] === "body") return { field: null, reason: error };
+  return { field: m[1], reason: m[2] };
+}
