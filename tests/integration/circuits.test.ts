@@ -114,3 +114,34 @@ describe("version views", () => {
     expect(a.json.oscillatory).toBe(true); // the CONTRACT.md ring timer (n = 4, K = 20 nM) has a complex pair in the right half-plane
   });
 });
+
+describe("SBML in and out", () => {
+  it("POST /api/circuits with SBML stores a circuit marked as imported from SBML", async () => {
+    const sbml = readFileSync("tests/fixtures/sbml-l3v1-gene.xml", "utf8");
+    const r = await me.client.request("POST", "/api/circuits", { lab_id: me.labId, sbml });
+    expect(r.status, r.text).toBe(201);
+    const c = await me.client.request("GET", `/api/circuits/${r.json.id}`);
+    expect(c.json.versions[0].source_format).toBe("sbml");
+  });
+
+  it("bad SBML is a 422 naming the SBML problem, and nothing is stored", async () => {
+    const before = await countCircuits(me.labId);
+    const r = await me.client.request("POST", "/api/circuits", { lab_id: me.labId, sbml: "<sbml><model><listOfReactions><reaction id='r1'/></listOfReactions></model></sbml>" });
+    expect(r.status).toBe(422);
+    expect(r.json.error).toMatch(/^sbml/);
+    expect(await countCircuits(me.labId)).toBe(before);
+  });
+
+  it("GET /api/versions/:id/sbml exports SBML L3V2 that imports back to the same circuit", async () => {
+    const circuit = { ...ringTimer, name: "Round trip" };
+    const r = await me.client.request("POST", "/api/circuits", { lab_id: me.labId, circuit });
+    const sbml = await me.client.request("GET", `/api/versions/${r.json.version_id}/sbml`);
+    expect(sbml.status).toBe(200);
+    expect(sbml.text).toMatch(/<sbml[^>]*level="3"[^>]*version="2"/);
+    const other = await newUser("roundtrip");
+    const back = await other.client.request("POST", "/api/circuits", { lab_id: other.labId, sbml: sbml.text });
+    expect(back.status, back.text).toBe(201);
+    const stored = await other.client.request("GET", `/api/versions/${back.json.version_id}`);
+    expect(stored.json).toEqual(circuit);
+  });
+});
