@@ -1,0 +1,354 @@
+/**
+ * The circuit editor's form model: a circuit as the text the modeler types (numbers as strings,
+ * stoichiometry as "A + 2 B"), the conversion back to circuit JSON for parseCircuit, and the map
+ * from an issue like `reactions[3].rate.K: unknown parameter "Kc"` to the input it concerns.
+ * Pure and isomorphic (the editor runs it on every keystroke).
+ */
+import { circuitSemanticIssues, CircuitSchema, describeIssue, formatPath } from "@/lib/schemas/circuit";
+import { CIRCUIT_FORMAT } from "@/ssa/types";
+
+export const RATE_LAWS = ["mass_action", "hill_activation", "hill_repression", "expression"] as const;
+export type RateLawName = (typeof RATE_LAWS)[number];
+
+export interface SpeciesRow {
+  /** Stable React key and field address; never saved. */
+  key: string;
+  id: string;
+  initial: string;
+  /** Fields the form does not edit (name, notes), kept as they were. */
+  extra: Record<string, unknown>;
+}
+
+export interface ParameterRow {
+  key: string;
+  name: string;
+  value: string;
+}
+
+export interface ReactionRow {
+  key: string;
+  id: string;
+  /** Stoichiometry as text: "A + 2 B"; empty for none. */
+  reactants: string;
+  products: string;
+  law: RateLawName;
+  /** Every law's fields stay in the row, so switching laws and back loses nothing. */
+  k: string;
+  input: string;
+  vmax: string;
+  K: string;
+  n: string;
+  basal: string;
+  expression: string;
+  /** Whether the file spelled an empty side as `{}` (kept so an untouched circuit saves unchanged). */
+  emptyReactants: boolean;
+  emptyProducts: boolean;
+  extra: Record<string, unknown>;
+}
+
+export interface CircuitForm {
+  name: string;
+  description: string;
+  time: string;
+  amount: string;
+  volumeFL: string;
+  species: SpeciesRow[];
+  parameters: ParameterRow[];
+  reactions: ReactionRow[];
+  /** Whether the file had `parameters: {}` (kept so an untouched circuit saves unchanged). */
+  emptyParameters: boolean;
+  /** Top-level fields the form does not edit (notes), kept as they were. */
+  extra: Record<string, unknown>;
+}
+
+/** A problem found while turning the form into JSON, addressed by a field key (see `fieldKey`). */
+export interface FormIssue {
+  field: string;
+  message: string;
+}
+
+let keyCounter = 0;
+/** A fresh row key (unique within the page's lifetime). */
+export const newRowKey = (prefix: string): string => `${prefix}${++keyCounter}`;
+
+const isRecord = (v: unknown): v is Record<string, unknown> => typeof v === "object" && v !== null && !Array.isArray(v);
+const text = (v: unknown): string => (v === undefined || v === null ? "" : typeof v === "string" ? v : typeof v === "number" ? String(v) : JSON.stringify(v));
+const omit = (o: Record<string, unknown>, keys: string[]): Record<string, unknown> =>
+  Object.fromEntries(Object.entries(o).filter(([k]) => !keys.includes(k)));
+
+/** Stoichiometry as the editor writes it: `{ A: 1, B: 2 }` → "A + 2 B"; empty → "". */
+export function formatStoichiometry(s: unknown): string {
+  if (!isRecord(s)) return "";
+  return Object.entries(s)
+    .map(([id, nu]) => (nu === 1 ? id : `${text(nu)} ${id}`))
+    .join(" + ");
+}
+
+/**
+ * "A + 2 B" (also "2B", "2*B", "∅" or "" for none) → `{ A: 1, B: 2 }`; a species named twice adds up.
+ * Returns an error phrase for anything else.
+ */
+export function parseStoichiometry(input: string): { ok: true; value: Record<string, number> } | { ok: false; reason: string } {
+  const t = input.trim();
+  if (t === "" || t === "∅" || t === "0") return { ok: true, value: {} };
+  const value: Record<string, number> = {};
+  for (const term of t.split("+")) {
+    const m = /^\s*(?:(\d+)\s*\*?\s*)?([A-Za-z_][A-Za-z0-9_]*)\s*$/.exec(term);
+    if (!m) return { ok: false, reason: `cannot read "${term.trim()}": write species as "A + 2 B"` };
+    const id = m[2];
+    const nu = m[1] === undefined ? 1 : Number(m[1]);
+    if (!(nu >= 1)) return { ok: false, reason: `"${term.trim()}": a stoichiometry must be a positive integer` };
+    value[id] = (value[id] ?? 0) + nu;
+  }
+  return { ok: true, value };
+}
+
+/**
+ * A circuit (or any JSON, read leniently: the raw view may hold a half-written file) as form text.
+ * Unknown fields of species, reactions and the file are carried in `extra`.
+ */
+export function circuitToForm(json: unknown): CircuitForm {
+  const c = isRecord(json) ? json : {};
+  const units = isRecord(c.units) ? c.units : {};
+  const params = isRecord(c.parameters) ? c.parameters : {};
+  const species = Array.isArray(c.species) ? c.species : [];
+  const reactions = Array.isArray(c.reactions) ? c.reactions : [];
+  return {
+    name: text(c.name),
+    description: text(c.description),
+    time: text(units.time),
+    amount: text(units.amount),
+    volumeFL: text(c.volume_fL),
+    species: species.map((s) => {
+      const o = isRecord(s) ? s : {};
+      return { key: newRowKey("s"), id: text(o.id), initial: text(o.initial), extra: omit(o, ["id", "initial"]) };
+    }),
+    parameters: Object.entries(params).map(([name, value]) => ({ key: newRowKey("p"), name, value: text(value) })),
+    reactions: reactions.map((r) => {
+      const o = isRecord(r) ? r : {};
+      const rate = isRecord(o.rate) ? o.rate : {};
+      const law = (RATE_LAWS as readonly string[]).includes(String(rate.law)) ? (rate.law as RateLawName) : "mass_action";
+      return {
+        key: newRowKey("r"),
+        id: text(o.id),
+        reactants: formatStoichiometry(o.reactants),
+        products: formatStoichiometry(o.products),
+        law,
+        k: text(rate.k),
+        input: text(rate.input),
+        vmax: text(rate.vmax),
+        K: text(rate.K),
+        n: text(rate.n),
+        basal: text(rate.basal),
+        expression: text(rate.expression),
+        emptyReactants: isRecord(o.reactants) && Object.keys(o.reactants).length === 0,
+        emptyProducts: isRecord(o.products) && Object.keys(o.products).length === 0,
+        extra: omit(o, ["id", "reactants", "products", "rate"]),
+      };
+    }),
+    emptyParameters: isRecord(c.parameters) && Object.keys(c.parameters).length === 0,
+    extra: omit(c, ["format", "name", "description", "units", "volume_fL", "species", "parameters", "reactions"]),
+  };
+}
+
+/** A number typed in a numeric field: the number when it reads as one, else the text (the schema names the field). */
+function numberText(t: string): number | string | undefined {
+  const s = t.trim();
+  if (s === "") return undefined;
+  const v = Number(s);
+  return Number.isFinite(v) ? v : s;
+}
+
+/** A rate-law field: a number, or else a parameter name. */
+const numberOrParam = numberText;
+
+/** Field keys, the address of each input: `species.<rowKey>.initial`, `reactions.<rowKey>.rate.K`, … */
+export const fieldKey = {
+  species: (row: string, field?: "id" | "initial") => `species.${row}${field ? `.${field}` : ""}`,
+  parameter: (row: string, field?: "name" | "value") => `parameters.${row}${field ? `.${field}` : ""}`,
+  reaction: (row: string, field?: string) => `reactions.${row}${field ? `.${field}` : ""}`,
+};
+
+/**
+ * The form as circuit JSON (not yet validated: run parseCircuit on `json`), plus the problems only
+ * the form can see: unreadable stoichiometry and repeated parameter names.
+ */
+export function formToCircuitJson(form: CircuitForm): { json: Record<string, unknown>; issues: FormIssue[] } {
+  const issues: FormIssue[] = [];
+  const parameters: Record<string, unknown> = {};
+  for (const p of form.parameters) {
+    const name = p.name.trim();
+    if (name === "") {
+      issues.push({ field: fieldKey.parameter(p.key, "name"), message: "is required" });
+      continue;
+    }
+    if (Object.prototype.hasOwnProperty.call(parameters, name)) {
+      issues.push({ field: fieldKey.parameter(p.key, "name"), message: `duplicate parameter name "${name}"` });
+      continue;
+    }
+    parameters[name] = numberText(p.value);
+  }
+  const reactions = form.reactions.map((r) => {
+    const side = (which: "reactants" | "products", t: string, keepEmpty: boolean) => {
+      const res = parseStoichiometry(t);
+      if (!res.ok) {
+        issues.push({ field: fieldKey.reaction(r.key, which), message: res.reason });
+        return undefined;
+      }
+      return Object.keys(res.value).length === 0 && !keepEmpty ? undefined : res.value;
+    };
+    const rate: Record<string, unknown> =
+      r.law === "mass_action"
+        ? { law: r.law, k: numberOrParam(r.k) }
+        : r.law === "expression"
+          ? { law: r.law, expression: r.expression }
+          : { law: r.law, input: r.input.trim() || undefined, vmax: numberOrParam(r.vmax), K: numberOrParam(r.K), n: numberOrParam(r.n), basal: numberOrParam(r.basal) };
+    return dropUndefined({
+      ...r.extra,
+      id: r.id.trim(),
+      reactants: side("reactants", r.reactants, r.emptyReactants),
+      products: side("products", r.products, r.emptyProducts),
+      rate: dropUndefined(rate),
+    });
+  });
+  const json = dropUndefined({
+    ...form.extra,
+    format: CIRCUIT_FORMAT,
+    name: form.name.trim() === "" ? undefined : form.name,
+    description: form.description === "" ? undefined : form.description,
+    units: { time: form.time || undefined, amount: form.amount || undefined },
+    volume_fL: numberText(form.volumeFL),
+    species: form.species.map((s) => dropUndefined({ ...s.extra, id: s.id.trim(), initial: numberText(s.initial) })),
+    parameters: form.parameters.length === 0 && !form.emptyParameters ? undefined : parameters,
+    reactions,
+  });
+  return { json, issues };
+}
+
+function dropUndefined(o: Record<string, unknown>): Record<string, unknown> {
+  return Object.fromEntries(Object.entries(o).filter(([, v]) => v !== undefined));
+}
+
+/** `reactions[3].rate.K: unknown parameter "Kc"` → path ["reactions", 3, "rate", "K"] and the reason. */
+export function splitIssue(issue: string): { path: (string | number)[]; message: string } {
+  if (issue.startsWith("(root): ")) return { path: [], message: issue.slice(8) };
+  const path: (string | number)[] = [];
+  let i = 0;
+  const readName = () => {
+    const start = i;
+    while (i < issue.length && issue[i] !== "." && issue[i] !== "[" && issue[i] !== ":") i++;
+    return issue.slice(start, i);
+  };
+  const first = readName();
+  if (!first) return { path: [], message: issue };
+  path.push(first);
+  while (i < issue.length) {
+    const ch = issue[i];
+    if (ch === ":" && issue[i + 1] === " ") return { path, message: issue.slice(i + 2) };
+    if (ch === "[") {
+      const close = issue.indexOf("]", i);
+      const n = Number(issue.slice(i + 1, close));
+      if (close < 0 || !Number.isInteger(n)) break;
+      path.push(n);
+      i = close + 1;
+    } else if (ch === ".") {
+      i++;
+      path.push(readName());
+    } else break;
+  }
+  return { path: [], message: issue };
+}
+
+/**
+ * The field key of the input an issue concerns, given the form it was found in. Paths with no input
+ * of their own land on the nearest row (`reactions.<rowKey>`) or on "circuit" (the whole file).
+ */
+export function issueField(path: readonly (string | number)[], form: CircuitForm, message = ""): string {
+  const [head, second, third, fourth] = path;
+  switch (head) {
+    case "name":
+    case "description":
+    case "volume_fL":
+      return head;
+    case "units":
+      return second === "time" || second === "amount" ? `units.${second}` : "units.time";
+    case "species": {
+      const row = typeof second === "number" ? form.species[second] : undefined;
+      if (!row) return "species";
+      return third === "id" || third === "initial" ? fieldKey.species(row.key, third) : fieldKey.species(row.key);
+    }
+    case "parameters": {
+      const row = form.parameters.find((p) => p.name.trim() === second);
+      if (!row) return "parameters";
+      const aboutName = /identifier|already used|duplicate|name/.test(message) && !/finite number/.test(message);
+      return fieldKey.parameter(row.key, aboutName ? "name" : "value");
+    }
+    case "reactions": {
+      const row = typeof second === "number" ? form.reactions[second] : undefined;
+      if (!row) return "reactions";
+      if (third === "id" || third === "reactants" || third === "products") return fieldKey.reaction(row.key, third);
+      if (third === "rate") {
+        const f = typeof fourth === "string" ? fourth : "law";
+        return fieldKey.reaction(row.key, `rate.${["k", "input", "vmax", "K", "n", "basal", "expression"].includes(f) ? f : "law"}`);
+      }
+      return fieldKey.reaction(row.key);
+    }
+    default:
+      return "circuit";
+  }
+}
+
+/**
+ * Every problem of the form, by field key: the form's own and those of parseCircuit (strings
+ * `<path>: <reason>`), each message once.
+ */
+export function indexIssues(form: CircuitForm, formIssues: FormIssue[], schemaIssues: string[]): Map<string, string[]> {
+  const byField = new Map<string, string[]>();
+  const add = (field: string, message: string) => {
+    const list = byField.get(field) ?? [];
+    if (!list.includes(message)) list.push(message);
+    byField.set(field, list);
+  };
+  for (const i of formIssues) add(i.field, i.message);
+  for (const s of schemaIssues) {
+    const { path, message } = splitIssue(s);
+    add(issueField(path, form, message), message);
+  }
+  return byField;
+}
+
+/**
+ * Every problem parseCircuit would report, as `<path>: <reason>` strings, and more: the schema
+ * checks references only once the structure is right, so while a field is half-typed the
+ * reference rules run here on the raw file too (non-numeric parameter values read as 1), minus
+ * anything at a path the structural check already flags.
+ */
+export function circuitIssues(json: unknown): string[] {
+  const res = CircuitSchema.safeParse(json);
+  if (res.success) return [];
+  const issues = res.error.issues.map(describeIssue);
+  if (res.error.issues.every((i) => i.code === "custom")) return issues;
+  const flagged = res.error.issues.map((i) => formatPath(i.path));
+  const overlaps = (p: string) => flagged.some((f) => related(f, p));
+  try {
+    const raw = json as Record<string, unknown>;
+    const params = isRecord(raw.parameters) ? raw.parameters : {};
+    const readable = Object.fromEntries(Object.entries(params).map(([k, v]) => [k, typeof v === "number" && Number.isFinite(v) ? v : 1]));
+    const semantic = circuitSemanticIssues({ ...raw, parameters: readable } as Parameters<typeof circuitSemanticIssues>[0]);
+    for (const i of semantic) {
+      const text = describeIssue(i);
+      if (!overlaps(formatPath(i.path)) && !issues.includes(text)) issues.push(text);
+    }
+  } catch {
+    // A shape too broken for the reference rules (no units, a rate that is not an object…):
+    // the structural issues already say what to fix first.
+  }
+  return issues;
+}
+
+/** Whether one path is the other or lies inside it (`reactions[1]` and `reactions[1].rate.K`). */
+function related(a: string, b: string): boolean {
+  const inside = (outer: string, inner: string) =>
+    inner === outer || outer === "" || (inner.startsWith(outer) && (inner[outer.length] === "." || inner[outer.length] === "["));
+  return inside(a, b) || inside(b, a);
+}

@@ -1,0 +1,158 @@
+import { readdirSync, readFileSync } from "node:fs";
+import { join } from "node:path";
+
+import { describe, expect, it } from "vitest";
+
+import { circuitIssues, circuitToForm, fieldKey, formToCircuitJson, indexIssues, parseStoichiometry, splitIssue } from "@/lib/circuit-form";
+import { blankCircuit, CIRCUIT_TEMPLATES, getTemplate } from "@/lib/circuit-templates";
+import { CircuitError, parseCircuit } from "@/lib/schemas/circuit";
+
+const EXAMPLES = join(process.cwd(), "examples");
+
+/** What parseCircuit itself reports. */
+function parseIssues(json: unknown): string[] {
+  try {
+    parseCircuit(json);
+    return [];
+  } catch (e) {
+    if (e instanceof CircuitError) return e.issues;
+    throw e;
+  }
+}
+const schemaIssues = circuitIssues;
+
+describe("form round trip", () => {
+  for (const file of readdirSync(EXAMPLES).filter((f) => f.endsWith(".circuit.json"))) {
+    it(`formToCircuitJson(circuitToForm(c)) gives back ${file} unchanged`, () => {
+      const c = parseCircuit(JSON.parse(readFileSync(join(EXAMPLES, file), "utf8")));
+      const { json, issues } = formToCircuitJson(circuitToForm(c));
+      expect(issues).toEqual([]);
+      expect(parseCircuit(json)).toEqual(c);
+    });
+  }
+
+  it("keeps fields the form does not edit (names, notes, empty sides, basal) through a round trip", () => {
+    const c = parseCircuit({
+      format: "burstwise.circuit/1", name: "n", notes: "top notes", description: "d",
+      units: { time: "h", amount: "uM" }, volume_fL: 2.5,
+      species: [{ id: "X", name: "Repressor", initial: 0.1, notes: "tetR" }],
+      parameters: {},
+      reactions: [
+        { id: "r", name: "make", notes: "leaky", reactants: {}, products: { X: 2 }, rate: { law: "hill_repression", input: "X", vmax: 1e-3, K: 0.5, n: 2, basal: 0 } },
+      ],
+    });
+    expect(parseCircuit(formToCircuitJson(circuitToForm(c)).json)).toEqual(c);
+  });
+
+  it("every template is a valid circuit, and the blank one is the smallest the schema accepts", () => {
+    expect(CIRCUIT_TEMPLATES.map((t) => t.id)).toEqual(["blank", "birth-death", "two-stage-reporter", "ring-timer"]);
+    for (const t of CIRCUIT_TEMPLATES) expect(() => parseCircuit(t.circuit)).not.toThrow();
+    expect(blankCircuit().species).toHaveLength(1);
+    expect(getTemplate("nope")).toBeNull();
+    const a = getTemplate("ring-timer")!;
+    a.parameters!.n = 99;
+    expect(getTemplate("ring-timer")!.parameters!.n).toBe(4);
+  });
+});
+
+describe("parseStoichiometry", () => {
+  it('parseStoichiometry("A + 2 B") is { A: 1, B: 2 }, and "2*A + A" adds up', () => {
+    expect(parseStoichiometry("A + 2 B")).toEqual({ ok: true, value: { A: 1, B: 2 } });
+    expect(parseStoichiometry("2*A + A")).toEqual({ ok: true, value: { A: 3 } });
+    expect(parseStoichiometry("3B")).toEqual({ ok: true, value: { B: 3 } });
+  });
+
+  it('parseStoichiometry("") and "∅" are empty; junk is an error naming the term', () => {
+    expect(parseStoichiometry("  ")).toEqual({ ok: true, value: {} });
+    expect(parseStoichiometry("∅")).toEqual({ ok: true, value: {} });
+    const bad = parseStoichiometry("A + 2.5 B");
+    expect(bad.ok).toBe(false);
+    if (!bad.ok) expect(bad.reason).toContain('"2.5 B"');
+  });
+});
+
+describe("issues land on the field they concern", () => {
+  it('splitIssue("reactions[3].rate.K: unknown parameter \\"Kc\\"") gives the path and reason', () => {
+    expect(splitIssue('reactions[3].rate.K: unknown parameter "Kc"')).toEqual({ path: ["reactions", 3, "rate", "K"], message: 'unknown parameter "Kc"' });
+    expect(splitIssue("(root): must be an object")).toEqual({ path: [], message: "must be an object" });
+    expect(splitIssue("volume_fL: is required when units.amount is \"nM\"")).toEqual({ path: ["volume_fL"], message: 'is required when units.amount is "nM"' });
+    expect(splitIssue("no path here")).toEqual({ path: [], message: "no path here" });
+  });
+
+  it("an unknown parameter in a Hill field is reported at that reaction's field", () => {
+    const form = circuitToForm(getTemplate("ring-timer")!);
+    form.reactions[1].K = "Kc";
+    const { json, issues } = formToCircuitJson(form);
+    const byField = indexIssues(form, issues, schemaIssues(json));
+    expect([...byField.entries()]).toEqual([[fieldKey.reaction(form.reactions[1].key, "rate.K"), ['unknown parameter "Kc"']]]);
+  });
+
+  it("a negative rate, an unknown species, a broken formula and a missing volume each reach their own input", () => {
+    const form = circuitToForm(getTemplate("ring-timer")!);
+    form.parameters.find((p) => p.name === "g")!.value = "-1";
+    form.reactions[3].reactants = "Q";
+    form.reactions[0].law = "expression";
+    form.reactions[0].expression = "vA / (1 + C^";
+    form.volumeFL = "";
+    form.species[2].initial = "lots";
+    const { json, issues } = formToCircuitJson(form);
+    const byField = indexIssues(form, issues, schemaIssues(json));
+    const keys = [...byField.keys()];
+    expect(keys).toContain("volume_fL");
+    expect(keys).toContain(fieldKey.species(form.species[2].key, "initial"));
+    expect(keys).toContain(fieldKey.reaction(form.reactions[3].key, "reactants"));
+    expect(keys).toContain(fieldKey.reaction(form.reactions[0].key, "rate.expression"));
+    // a negative parameter breaks k >= 0 where it is used: the schema names the reaction's field
+    expect(byField.get(fieldKey.reaction(form.reactions[4].key, "rate.k"))).toEqual(['must be >= 0 (parameter "g" is -1)']);
+    expect(byField.get(fieldKey.species(form.species[2].key, "initial"))).toEqual(["must be a finite number"]);
+  });
+
+  it("a repeated or empty parameter name is reported at the name input of that row", () => {
+    const form = circuitToForm(getTemplate("birth-death")!);
+    form.parameters[1].name = "k";
+    form.parameters.push({ key: "extra", name: "", value: "1" });
+    const { issues } = formToCircuitJson(form);
+    expect(issues).toEqual([
+      { field: fieldKey.parameter(form.parameters[1].key, "name"), message: 'duplicate parameter name "k"' },
+      { field: fieldKey.parameter("extra", "name"), message: "is required" },
+    ]);
+  });
+
+  it("a parameter named like a species is reported at its name input", () => {
+    const form = circuitToForm(getTemplate("birth-death")!);
+    form.parameters[0].name = "X";
+    const { json, issues } = formToCircuitJson(form);
+    const byField = indexIssues(form, issues, schemaIssues(json));
+    expect(byField.get(fieldKey.parameter(form.parameters[0].key, "name"))).toEqual(['name already used by species "X"']);
+  });
+});
+
+describe("circuitIssues", () => {
+  it("circuitIssues(valid circuit) is empty and equals parseCircuit's issues once the structure is right", () => {
+    expect(circuitIssues(getTemplate("ring-timer"))).toEqual([]);
+    const c = getTemplate("ring-timer")!;
+    c.reactions[1].rate = { law: "hill_activation", input: "Q", vmax: "vB", K: "Kc", n: "n" };
+    expect(circuitIssues(c)).toEqual(parseIssues(c));
+    expect(circuitIssues(c)).toEqual(['reactions[1].rate.input: unknown species "Q"', 'reactions[1].rate.K: unknown parameter "Kc"']);
+  });
+
+  it("circuitIssues reports a bad reference while another field is half-typed, which parseCircuit alone hides", () => {
+    const c = JSON.parse(JSON.stringify(getTemplate("ring-timer"))) as Record<string, unknown> & { species: { initial: unknown }[]; reactions: { id: string; rate: Record<string, unknown> }[]; parameters: Record<string, unknown> };
+    c.species[0].initial = "lots";
+    c.parameters.g = "fast";
+    c.reactions[1].rate.K = "Kc";
+    c.reactions[2].id = "";
+    expect(parseIssues(c)).not.toContain('reactions[1].rate.K: unknown parameter "Kc"');
+    expect(circuitIssues(c)).toEqual([
+      "species[0].initial: must be a finite number",
+      "parameters.g: must be a finite number",
+      "reactions[2].id: must be a valid identifier (letters, digits and _, not starting with a digit)",
+      'reactions[1].rate.K: unknown parameter "Kc"',
+    ]);
+  });
+
+  it("circuitIssues of junk is the structural complaint only", () => {
+    expect(circuitIssues(42)).toEqual(parseIssues(42));
+    expect(circuitIssues({ format: "burstwise.circuit/1" }).length).toBeGreaterThan(0);
+  });
+});
