@@ -4,8 +4,16 @@
  */
 import { readFileSync, writeFileSync } from "node:fs";
 
-import { CircuitError, parseCircuit } from "@/lib/schemas/circuit";
+import { CircuitError, hasFormulas, noFormulas, parseCircuitWith, type FormulaChecker } from "@/lib/schemas/circuit-rules";
 import type { Circuit } from "@/ssa/types";
+
+/**
+ * The formula parser when the document has `expression` laws, else a stub: the parser (mathjs)
+ * costs about a second and 70 MB to load, which a circuit without formulas never pays.
+ */
+export async function formulaCheckerFor(json: unknown): Promise<FormulaChecker> {
+  return hasFormulas(json) ? (await import("@/ssa/expr")).parseExpression : noFormulas;
+}
 
 /** An error the dispatcher prints as one line and exits with `exitCode`. */
 export class CliError extends Error {
@@ -121,8 +129,9 @@ export async function readCircuit(path: string | undefined, command: string): Pr
   } catch (e) {
     throw new CliError(`${path}: not valid JSON (${(e as Error).message})`);
   }
+  const checker = await formulaCheckerFor(json);
   try {
-    return parseCircuit(json);
+    return parseCircuitWith(json, checker);
   } catch (e) {
     if (e instanceof CircuitError) throw new CliError(e.message);
     throw e;
@@ -141,7 +150,8 @@ async function readSbml(text: string, path: string): Promise<Circuit> {
   if (typeof fn !== "function") throw new CliError(`${path}: SBML input is not available in this build`, 1);
   try {
     const c = fn(text);
-    return parseCircuit((c as { circuit?: unknown }).circuit ?? c);
+    const json = (c as { circuit?: unknown }).circuit ?? c;
+    return parseCircuitWith(json, await formulaCheckerFor(json));
   } catch (e) {
     if (e instanceof CircuitError) throw new CliError(e.message);
     const msg = e instanceof Error ? e.message : String(e);

@@ -4,7 +4,7 @@
  * line to COMMANDS below; nothing else changes. Errors become one line on stderr: exit 2 for bad
  * input, 1 for a failure of the tool, never a stack trace.
  */
-import { CircuitError } from "@/lib/schemas/circuit";
+import { CircuitError } from "@/lib/schemas/circuit-rules";
 import { ModelInputError } from "@/ssa/types";
 
 import { CliError, type Command } from "./common";

@@ -4,10 +4,10 @@
  */
 import { randomInt } from "node:crypto";
 
-import { checkOverrides, CircuitError, formatPath, SimulateOptions } from "@/lib/schemas/circuit";
+import { checkOverridesWith, CircuitError, formatPath, SimulateOptions } from "@/lib/schemas/circuit-rules";
 import type { Circuit } from "@/ssa/types";
 
-import { CliError, numberFlag, overridesFlag, type FlagSpec, type ParsedFlags } from "../common";
+import { CliError, formulaCheckerFor, numberFlag, overridesFlag, type FlagSpec, type ParsedFlags } from "../common";
 
 export const RUN_FLAGS: FlagSpec = {
   method: "string",
@@ -46,7 +46,7 @@ const FLAG_OF: Record<string, string> = {
 };
 
 /** Validated run options from flags; draws a random seed when none is given. @throws CliError exit 2. */
-export function runOptionsFromFlags(flags: ParsedFlags, circuit: Circuit): SimulateOptions & { seed: number } {
+export async function runOptionsFromFlags(flags: ParsedFlags, circuit: Circuit): Promise<SimulateOptions & { seed: number }> {
   const tEnd = numberFlag(flags, "t-end");
   if (tEnd === undefined) throw new CliError("--t-end: is required");
   const raw = {
@@ -68,7 +68,7 @@ export function runOptionsFromFlags(flags: ParsedFlags, circuit: Circuit): Simul
     throw new CliError(`${flag}${tail.length ? " " + formatPath(tail) : ""}: ${i?.message ?? "invalid"}`);
   }
   try {
-    checkOverrides(circuit, res.data.overrides);
+    checkOverridesWith(circuit, res.data.overrides, await formulaCheckerFor(circuit));
   } catch (e) {
     if (e instanceof CircuitError) throw new CliError(e.message.replace(/^overrides\./, "--set "));
     throw e;

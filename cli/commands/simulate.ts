@@ -18,7 +18,7 @@ Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of t
   async run(argv) {
     const flags = parseFlags(argv, RUN_FLAGS, "simulate");
     const circuit = await readCircuit(flags.positional[0], "simulate");
-    const o = runOptionsFromFlags(flags, circuit);
+    const o = await runOptionsFromFlags(flags, circuit);
     const summary = await runSimulation(circuit, {
       method: o.method,
       tEnd: o.tEnd,

@@ -24,9 +24,9 @@ Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of t
     const index = numberFlag(flags, "index");
     if (index === undefined) throw new CliError("--index: is required");
     if (!Number.isSafeInteger(index) || index < 0) throw new CliError("--index: must be a non-negative integer");
-    const o = runOptionsFromFlags(flags, circuit);
+    const o = await runOptionsFromFlags(flags, circuit);
     if (o.method === "ode") throw new CliError(`--method: must be "ssa" or "tau" for a trajectory`);
-    const result = runTrajectory(circuit, {
+    const result = await runTrajectory(circuit, {
       method: o.method,
       tEnd: o.tEnd,
       dt: o.dt,

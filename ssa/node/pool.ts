@@ -10,8 +10,8 @@ import { fileURLToPath } from "node:url";
 import { Piscina } from "piscina";
 
 import { chunkRanges, type EnsembleOptions } from "../ensemble";
-import { parseCircuitExpressions } from "../model";
-import { compileParsedModel } from "../model-core";
+import type { Expr } from "../expr-ast";
+import { compileParsedModel, type Model } from "../model-core";
 import { mergePartials, type Partial } from "../stats";
 import type { Circuit } from "../types";
 import { runOneChunk, SLOT_CANCEL, SLOT_DONE_CELLS, type CellsTask } from "./worker";
@@ -53,6 +53,21 @@ export class CancelledError extends Error {
   }
 }
 
+/**
+ * Parsed formulas of a circuit (null for other laws), loading the parser (mathjs, about a second)
+ * only when there is a formula.
+ * @throws ModelInputError naming the field of a bad formula.
+ */
+export async function parseExpressionsLazily(circuit: Circuit, overrides?: Record<string, number>): Promise<(Expr | null)[]> {
+  if (!circuit.reactions.some((r) => r.rate.law === "expression")) return circuit.reactions.map(() => null);
+  return (await import("../model")).parseCircuitExpressions(circuit, overrides);
+}
+
+/** compileModel without loading the parser for circuits that have no formulas. */
+export async function compileModelLazily(circuit: Circuit, overrides?: Record<string, number>): Promise<Model> {
+  return compileParsedModel(circuit, overrides, await parseExpressionsLazily(circuit, overrides));
+}
+
 const nextTick = () => new Promise<void>((resolve) => setImmediate(resolve));
 
 /**
@@ -69,7 +84,7 @@ export async function simulateCellsPooled(
   const threads = Math.max(1, Math.min(o.threads ?? defaultThreads(), runs));
   const chunk = o.chunk ?? Math.max(1, Math.min(250, Math.ceil(runs / (threads * 8))));
   const ranges = chunkRanges(runs, chunk);
-  const expressions = parseCircuitExpressions(circuit, overrides);
+  const expressions = await parseExpressionsLazily(circuit, overrides);
   const model = compileParsedModel(circuit, overrides, expressions); // bad input fails here, before any thread starts
   const shared = new Int32Array(new SharedArrayBuffer(3 * Int32Array.BYTES_PER_ELEMENT));
   const onAbort = () => Atomics.store(shared, SLOT_CANCEL, 1);

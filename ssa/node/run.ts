@@ -6,11 +6,10 @@
 import { performance } from "node:perf_hooks";
 
 import { burnInOf, makeGrid, summarize, trajectory, type EnsembleOptions, type TrajectoryResult } from "../ensemble";
-import { compileModel } from "../model";
 import { solveOde } from "../ode";
 import { cellPeriods, periodSummary, sparseMoments, type SimulateSummary, type SpeciesMoments } from "../stats";
 import type { Circuit } from "../types";
-import { simulateCellsPooled, type PoolRunOptions } from "./pool";
+import { compileModelLazily, simulateCellsPooled, type PoolRunOptions } from "./pool";
 
 export interface RunOptions {
   method: "ode" | "ssa" | "tau";
@@ -39,8 +38,8 @@ function momentsOf(values: number[]): SpeciesMoments {
  * `stationary` pools the path's grid values after burn-in; periods come from the same crossing
  * rule as for cells.
  */
-function odeSummary(circuit: Circuit, o: RunOptions, t0: number): SimulateSummary {
-  const model = compileModel(circuit, o.overrides);
+async function odeSummary(circuit: Circuit, o: RunOptions, t0: number): Promise<SimulateSummary> {
+  const model = await compileModelLazily(circuit, o.overrides);
   const units = o.units ?? "model";
   const sol = solveOde(model, { tEnd: o.tEnd, dt: o.dt, units });
   const times = Float64Array.from(sol.times);
@@ -110,7 +109,7 @@ export async function runSimulation(circuit: Circuit, o: RunOptions, pool: PoolR
   makeGrid(o.tEnd, o.dt); // validates before any thread starts
   const runs = o.runs ?? 1;
   const partial = await simulateCellsPooled(circuit, o.overrides, options, runs, { threads: o.threads, ...pool });
-  const model = compileModel(circuit, o.overrides);
+  const model = await compileModelLazily(circuit, o.overrides);
   const wallS = (performance.now() - t0) / 1000;
   const summary = summarize(model, options, partial, { units: o.units ?? "molecules", wallS });
   if (o.includeTrace) summary.trace = solveOde(model, { tEnd: o.tEnd, dt: o.dt, units: o.units ?? "molecules" }).trace;
@@ -118,8 +117,8 @@ export async function runSimulation(circuit: Circuit, o: RunOptions, pool: PoolR
 }
 
 /** `trajectory`: cell `index` of the ensemble drawn with `seed`, alone. */
-export function runTrajectory(circuit: Circuit, o: RunOptions & { seed: number; index: number }): TrajectoryResult {
+export async function runTrajectory(circuit: Circuit, o: RunOptions & { seed: number; index: number }): Promise<TrajectoryResult> {
   if (o.method === "ode") throw new RangeError(`method must be "ssa" or "tau" for a trajectory`);
-  const model = compileModel(circuit, o.overrides);
+  const model = await compileModelLazily(circuit, o.overrides);
   return trajectory(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.index, o.units ?? "molecules");
 }

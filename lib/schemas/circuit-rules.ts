@@ -1,0 +1,295 @@
+/**
+ * The rules of the circuit file `burstwise.circuit/1` (CONTRACT.md §1) and the simulation options,
+ * as zod schemas, with the formula parser handed in. lib/schemas/circuit.ts binds the parser
+ * (mathjs) and is what the app, the API and the worker use; the command line uses these rules
+ * directly and loads the parser only for a circuit that has formulas (it costs about a second).
+ * Every rejection names the field: `reactions[3].rate.K: unknown parameter "Kc"`.
+ */
+import { z } from "zod";
+
+import type { ExprScope, ParseResult } from "@/ssa/expr";
+import { CIRCUIT_FORMAT, type Circuit } from "@/ssa/types";
+
+/** Parses and checks one rate formula (ssa/expr.ts parseExpression). */
+export type FormulaChecker = (text: string, scope: ExprScope) => ParseResult;
+
+/** Whether a (decoded, not yet validated) document has any `expression` rate law. */
+export function hasFormulas(json: unknown): boolean {
+  const reactions = (json as { reactions?: unknown } | null)?.reactions;
+  return Array.isArray(reactions) && reactions.some((r) => (r as { rate?: { law?: unknown } } | null)?.rate?.law === "expression");
+}
+
+/** A circuit file that breaks a rule; `issues` lists every problem as `<field>: <reason>`. */
+export class CircuitError extends Error {
+  readonly issues: string[];
+  constructor(issues: string[]) {
+    super(issues[0] ?? "invalid circuit");
+    this.name = "CircuitError";
+    this.issues = issues;
+  }
+}
+
+type PathKey = PropertyKey;
+
+/** Formats a path the CONTRACT.md way: `reactions[3].rate.K`. */
+export const formatPath = (path: readonly PathKey[]): string =>
+  path.map((k, n) => (typeof k === "number" ? `[${k}]` : (n ? "." : "") + String(k))).join("");
+
+/** One zod issue as `<field>: <reason>` (the field is `(root)` for the whole document). */
+export const describeIssue = (i: { path: readonly PathKey[]; message: string }): string =>
+  `${i.path.length ? formatPath(i.path) : "(root)"}: ${i.message}`;
+
+const IDENTIFIER = /^[A-Za-z_][A-Za-z0-9_]*$/;
+const MAX_SPECIES = 2000;
+const MAX_REACTIONS = 20000;
+
+const required = (what: string) => (iss: { input?: unknown }) =>
+  iss.input === undefined ? "is required" : `must be ${what}`;
+
+const finiteNumber = () => z.number({ error: required("a finite number") });
+const identifier = (what: string) =>
+  z
+    .string({ error: required(`a ${what} id (a string)`) })
+    .regex(IDENTIFIER, `must be a valid identifier (letters, digits and _, not starting with a digit)`)
+    .max(128, "must be at most 128 characters");
+
+const NumberOrParam = z.union([finiteNumber(), z.string().min(1, "must be a number or a parameter name")], {
+  error: required("a number or a parameter name"),
+});
+
+const Stoichiometry = z.record(
+  z.string(),
+  z.number({ error: "must be a positive integer" }).int("must be a positive integer").positive("must be a positive integer").max(1000, "must be at most 1000"),
+  { error: required("an object of species ids to positive integers") },
+);
+
+const MassAction = z.strictObject({ law: z.literal("mass_action"), k: NumberOrParam });
+const Hill = z.strictObject({
+  law: z.enum(["hill_activation", "hill_repression"]),
+  input: z.string({ error: required("a species id") }),
+  vmax: NumberOrParam,
+  K: NumberOrParam,
+  n: NumberOrParam,
+  basal: NumberOrParam.optional(),
+});
+const Expression = z.strictObject({
+  law: z.literal("expression"),
+  expression: z.string({ error: required("a formula (a string)") }),
+});
+
+const RateLaw = z.discriminatedUnion("law", [MassAction, Hill, Expression], {
+  error: (iss) =>
+    iss.input === undefined
+      ? "is required"
+      : `must be one of "mass_action", "hill_activation", "hill_repression", "expression"`,
+});
+
+const Species = z.strictObject({
+  id: identifier("species"),
+  name: z.string().max(200).optional(),
+  initial: finiteNumber().nonnegative("must be >= 0"),
+  notes: z.string().max(10000).optional(),
+});
+
+const Reaction = z.strictObject({
+  id: identifier("reaction"),
+  name: z.string().max(200).optional(),
+  reactants: Stoichiometry.optional(),
+  products: Stoichiometry.optional(),
+  rate: RateLaw,
+  notes: z.string().max(10000).optional(),
+});
+
+export const CircuitShape = z.strictObject({
+  format: z.literal(CIRCUIT_FORMAT, { error: `must be "${CIRCUIT_FORMAT}"` }),
+  name: z.string().max(200).optional(),
+  description: z.string().max(10000).optional(),
+  notes: z.string().max(10000).optional(),
+  units: z.strictObject(
+    {
+      time: z.enum(["s", "min", "h"], { error: required(`"s", "min" or "h"`) }),
+      amount: z.enum(["nM", "uM", "molecules"], { error: required(`"nM", "uM" or "molecules"`) }),
+    },
+    { error: required("an object { time, amount }") },
+  ),
+  volume_fL: finiteNumber().positive("must be > 0").optional(),
+  species: z
+    .array(Species, { error: required("a list of species") })
+    .min(1, "must list at least one species")
+    .max(MAX_SPECIES, `must list at most ${MAX_SPECIES} species`),
+  parameters: z.record(z.string(), finiteNumber(), { error: required("an object of names to numbers") }).optional(),
+  reactions: z
+    .array(Reaction, { error: required("a list of reactions") })
+    .min(1, "must list at least one reaction")
+    .max(MAX_REACTIONS, `must list at most ${MAX_REACTIONS} reactions`),
+});
+
+export type Issue = { path: PathKey[]; message: string };
+
+/** Lower bounds of the numeric rate-law fields, checked on literal and parameter values alike. */
+const FIELD_BOUNDS: Record<string, { min: number; strict: boolean }> = {
+  k: { min: 0, strict: false },
+  vmax: { min: 0, strict: false },
+  K: { min: 0, strict: true },
+  n: { min: 0, strict: true },
+  basal: { min: 0, strict: false },
+};
+
+/**
+ * Checks the rules zod cannot express field by field: references, uniqueness, units, formulas.
+ * Exported for the SBML importer and the overrides check, which reuse the same rules.
+ */
+export function circuitSemanticIssuesWith(c: z.infer<typeof CircuitShape>, parseExpression: FormulaChecker): Issue[] {
+  const issues: Issue[] = [];
+  const add = (path: PathKey[], message: string) => issues.push({ path, message });
+
+  if ((c.units.amount === "nM" || c.units.amount === "uM") && c.volume_fL === undefined) {
+    add(["volume_fL"], `is required when units.amount is "${c.units.amount}"`);
+  }
+
+  const speciesIds = new Set<string>();
+  c.species.forEach((s, i) => {
+    if (speciesIds.has(s.id)) add(["species", i, "id"], `duplicate species id "${s.id}"`);
+    speciesIds.add(s.id);
+  });
+
+  const params = c.parameters ?? {};
+  for (const name of Object.keys(params)) {
+    if (!IDENTIFIER.test(name)) add(["parameters", name], "must be a valid identifier (letters, digits and _, not starting with a digit)");
+    else if (speciesIds.has(name)) add(["parameters", name], `name already used by species "${name}"`);
+  }
+  const isParameter = (id: string) => Object.prototype.hasOwnProperty.call(params, id) && !speciesIds.has(id);
+
+  const reactionIds = new Set<string>();
+  c.reactions.forEach((r, i) => {
+    if (reactionIds.has(r.id)) add(["reactions", i, "id"], `duplicate reaction id "${r.id}"`);
+    reactionIds.add(r.id);
+    for (const side of ["reactants", "products"] as const) {
+      for (const sp of Object.keys(r[side] ?? {})) {
+        if (!speciesIds.has(sp)) add(["reactions", i, side, sp], `unknown species "${sp}"`);
+      }
+    }
+    if (Object.keys(r.reactants ?? {}).length === 0 && Object.keys(r.products ?? {}).length === 0) {
+      add(["reactions", i], "has neither reactants nor products");
+    }
+    const rate = r.rate;
+    if (rate.law === "expression") {
+      const parsed = parseExpression(rate.expression, { isSpecies: (id) => speciesIds.has(id), isParameter });
+      if (!parsed.ok) add(["reactions", i, "rate", "expression"], parsed.reason);
+      return;
+    }
+    if (rate.law !== "mass_action" && !speciesIds.has(rate.input)) {
+      add(["reactions", i, "rate", "input"], `unknown species "${rate.input}"`);
+    }
+    const fields: [string, string | number | undefined][] =
+      rate.law === "mass_action"
+        ? [["k", rate.k]]
+        : [["vmax", rate.vmax], ["K", rate.K], ["n", rate.n], ["basal", rate.basal]];
+    for (const [field, v] of fields) {
+      if (v === undefined) continue;
+      const path = ["reactions", i, "rate", field];
+      let value: number;
+      if (typeof v === "string") {
+        if (!isParameter(v)) {
+          add(path, speciesIds.has(v) ? `"${v}" is a species, not a parameter` : `unknown parameter "${v}"`);
+          continue;
+        }
+        value = params[v] as number;
+      } else value = v;
+      const bound = FIELD_BOUNDS[field];
+      if (bound && (bound.strict ? !(value > bound.min) : !(value >= bound.min))) {
+        const via = typeof v === "string" ? ` (parameter "${v}" is ${value})` : ` (got ${value})`;
+        add(path, `must be ${bound.strict ? ">" : ">="} ${bound.min}${via}`);
+      }
+    }
+  });
+  return issues;
+}
+
+/** The zod schema of a circuit file, structure and cross-references, with a given formula parser. */
+export function makeCircuitSchema(parseExpression: FormulaChecker) {
+  return CircuitShape.superRefine((c, ctx) => {
+    for (const i of circuitSemanticIssuesWith(c, parseExpression)) ctx.addIssue({ code: "custom", path: i.path, message: i.message });
+  });
+}
+
+/** A checker for documents without formulas; reaching it means hasFormulas was not consulted. */
+export const noFormulas: FormulaChecker = () => ({ ok: false, reason: "formulas need the expression parser (internal)" });
+
+/**
+ * Parses and validates a circuit file (already JSON-decoded) with a given formula parser.
+ * @throws CircuitError naming the first bad field in `.message` and every problem in `.issues`.
+ */
+export function parseCircuitWith(json: unknown, parseExpression: FormulaChecker): Circuit {
+  const res = makeCircuitSchema(parseExpression).safeParse(json);
+  if (!res.success) throw new CircuitError(res.error.issues.map(describeIssue));
+  return res.data as Circuit;
+}
+
+/**
+ * Checks parameter overrides (`--set name=value`) against a valid circuit, re-applying the bounds
+ * of every rate-law field that uses an overridden parameter.
+ * @throws CircuitError like `overrides.Kc: unknown parameter "Kc"`.
+ */
+export function checkOverridesWith(c: Circuit, overrides: Record<string, number> | undefined, parseExpression: FormulaChecker): void {
+  if (!overrides) return;
+  const issues: string[] = [];
+  const params = c.parameters ?? {};
+  for (const [name, value] of Object.entries(overrides)) {
+    if (!Object.prototype.hasOwnProperty.call(params, name)) issues.push(`overrides.${name}: unknown parameter "${name}"`);
+    else if (typeof value !== "number" || !Number.isFinite(value)) issues.push(`overrides.${name}: must be a finite number`);
+  }
+  if (issues.length === 0) {
+    const merged = { ...c, parameters: { ...params, ...overrides } };
+    for (const i of circuitSemanticIssuesWith(merged as z.infer<typeof CircuitShape>, parseExpression)) {
+      issues.push(`${formatPath(i.path)}: ${i.message} after overrides`);
+    }
+  }
+  if (issues.length) throw new CircuitError(issues);
+}
+
+export const SIMULATE_LIMITS = {
+  maxRuns: 100_000,
+  maxGridPoints: 1_000_000,
+  maxThreads: 256,
+} as const;
+
+/** Options of `simulate` / `trajectory` (CLI flags, API body and job payload), in model time units. */
+export const SimulateOptions = z
+  .strictObject({
+    method: z.enum(["ode", "ssa", "tau"], { error: `must be "ode", "ssa" or "tau"` }).default("ssa"),
+    tEnd: z.number({ error: required("a positive number") }).positive("must be > 0"),
+    dt: z.number({ error: required("a positive number") }).positive("must be > 0"),
+    runs: z
+      .number({ error: "must be a positive integer" })
+      .int("must be a positive integer")
+      .min(1, "must be >= 1")
+      .max(SIMULATE_LIMITS.maxRuns, `must be at most ${SIMULATE_LIMITS.maxRuns}`)
+      .default(1),
+    seed: z
+      .number({ error: "must be an integer" })
+      .int("must be an integer")
+      .min(0, "must be >= 0")
+      .max(Number.MAX_SAFE_INTEGER, "must be at most 2^53 - 1")
+      .optional(),
+    burnIn: z.number({ error: "must be a number" }).nonnegative("must be >= 0").optional(),
+    overrides: z.record(z.string().regex(IDENTIFIER, "must be a parameter name"), finiteNumber()).optional(),
+    units: z.enum(["molecules", "model"], { error: `must be "molecules" or "model"` }).optional(),
+    threads: z
+      .number({ error: "must be a positive integer" })
+      .int("must be a positive integer")
+      .min(1, "must be >= 1")
+      .max(SIMULATE_LIMITS.maxThreads, `must be at most ${SIMULATE_LIMITS.maxThreads}`)
+      .optional(),
+  })
+  .superRefine((o, ctx) => {
+    if (o.dt > o.tEnd) ctx.addIssue({ code: "custom", path: ["dt"], message: `must be <= tEnd (${o.tEnd})` });
+    else if (o.tEnd / o.dt > SIMULATE_LIMITS.maxGridPoints) {
+      ctx.addIssue({ code: "custom", path: ["dt"], message: `gives more than ${SIMULATE_LIMITS.maxGridPoints} grid points` });
+    }
+    if (o.burnIn !== undefined && o.burnIn > o.tEnd) {
+      ctx.addIssue({ code: "custom", path: ["burnIn"], message: `must be <= tEnd (${o.tEnd})` });
+    }
+  });
+export type SimulateOptions = z.infer<typeof SimulateOptions>;
+export type SimulateOptionsInput = z.input<typeof SimulateOptions>;
