@@ -125,21 +125,20 @@ export function replaySpec(cell: CellJson, units: { time: string; amount: string
  */
 export function histogramSpec(h: { edges: number[]; counts: number[] }, o: { title: string; subtitle?: string; xTitle: string; what: string; mean?: number | null }): VisualizationSpec {
   const bars = h.counts.map((count, b) => ({ x0: h.edges[b], x1: h.edges[b + 1], count, layer: o.what }));
-  const layers: Record<string, unknown>[] = [
-    {
-      data: { values: bars }, mark: { type: "bar", binSpacing: 1, stroke: "#ffffff", strokeWidth: 0.5 },
-      encoding: {
-        x: { field: "x0", type: "quantitative", title: o.xTitle, scale: { zero: false } }, x2: { field: "x1" },
-        y: { field: "count", type: "quantitative", title: "Count" },
-        color: { field: "layer", type: "nominal", title: null, scale: { domain: [o.what, "Mean"], range: ["#dd9a48", "#1d2433"] }, legend: { orient: "bottom", direction: "horizontal" } },
-      },
+  const barLayer = {
+    data: { values: bars }, mark: { type: "bar" as const, binSpacing: 1, stroke: "#ffffff", strokeWidth: 0.5 },
+    encoding: {
+      x: { field: "x0", type: "quantitative" as const, title: o.xTitle, scale: { zero: false } }, x2: { field: "x1" },
+      y: { field: "count", type: "quantitative" as const, title: "Count" },
+      color: { field: "layer", type: "nominal" as const, title: null, scale: { domain: [o.what, "Mean"], range: ["#dd9a48", "#1d2433"] }, legend: { orient: "bottom" as const, direction: "horizontal" as const } },
     },
-  ];
-  if (isNum(o.mean)) {
-    layers.push({
-      data: { values: [{ x: o.mean, layer: "Mean" }] }, mark: { type: "rule", strokeWidth: 2, strokeDash: [5, 3] },
-      encoding: { x: { field: "x", type: "quantitative" }, color: { field: "layer", type: "nominal" } },
-    });
-  }
-  return { ...base, ...font, height: 220, title: { text: o.title, ...(o.subtitle ? { subtitle: o.subtitle } : {}), anchor: "start" }, layer: layers } as VisualizationSpec;
+  };
+  const meanLayer = {
+    data: { values: [{ x: o.mean, layer: "Mean" }] }, mark: { type: "rule" as const, strokeWidth: 2, strokeDash: [5, 3] },
+    encoding: { x: { field: "x", type: "quantitative" as const }, color: { field: "layer", type: "nominal" as const } },
+  };
+  return {
+    ...base, ...font, height: 220, title: { text: o.title, ...(o.subtitle ? { subtitle: o.subtitle } : {}), anchor: "start" },
+    layer: isNum(o.mean) ? [barLayer, meanLayer] : [barLayer],
+  } as VisualizationSpec;
 }

@@ -81,7 +81,10 @@ export function cellCsv(c: CellJson): string {
   return toCsv(rows);
 }
 
-/** A file name that says what is in it: `run-12-bands.csv`, `run-12-cell-3.json`. */
-export function exportFileName(runId: string, what: string, ext: string): string {
-  return `run-${runId}-${what.replace(/[^A-Za-z0-9_-]+/g, "-")}.${ext}`;
+/** A file name without extension that says what is in it: `run-12-bands-A`. */
+export function exportBaseName(runId: string, what: string): string {
+  return `run-${runId}-${what.replace(/[^A-Za-z0-9_-]+/g, "-")}`;
 }
+
+/** A file name that says what is in it: `run-12-bands.csv`, `run-12-cell-3.json`. */
+export const exportFileName = (runId: string, what: string, ext: string): string => `${exportBaseName(runId, what)}.${ext}`;

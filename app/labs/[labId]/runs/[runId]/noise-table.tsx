@@ -1,0 +1,96 @@
+"use client";
+
+import { useMemo } from "react";
+import useSWR from "swr";
+
+import { jsonFetcher } from "@/app/_components/run-api";
+import { formatNumber, sdOf, type AnalysisJson, type RunJson, type SummaryJson } from "@/lib/run-view";
+import { analyze } from "@/ssa/analyze";
+import { compileModel } from "@/ssa/model";
+import type { Circuit } from "@/ssa/types";
+
+export interface LnaState {
+  /** LNA CV and Fano in the summary's units (Fano divided by Ω for model units), or null. */
+  lna: AnalysisJson["lna"] | null;
+  /** What the LNA columns mean here, or why they are empty. */
+  note: string;
+  loading: boolean;
+}
+
+/**
+ * The linear noise approximation to set beside the ensemble: the stored version's analysis when the
+ * run used the saved parameters, otherwise analyze() in the browser with the run's overrides.
+ */
+export function useLna(run: RunJson, summary: SummaryJson): LnaState {
+  const overrides = run.settings.overrides;
+  const hasOverrides = Boolean(overrides && Object.keys(overrides).length);
+  const analysis = useSWR<AnalysisJson>(!hasOverrides ? `/api/versions/${run.version_id}/analysis` : null, jsonFetcher, { revalidateOnFocus: false });
+  const circuit = useSWR<Circuit>(hasOverrides ? `/api/versions/${run.version_id}` : null, jsonFetcher, { revalidateOnFocus: false });
+  const local = useMemo(() => {
+    if (!hasOverrides || !circuit.data) return null;
+    try {
+      return { result: analyze(compileModel(circuit.data, overrides)) as AnalysisJson };
+    } catch (e) {
+      return { error: e instanceof Error ? e.message : String(e) };
+    }
+  }, [hasOverrides, circuit.data, overrides]);
+
+  const result = hasOverrides ? local?.result : analysis.data;
+  const error = hasOverrides ? (local?.error ?? circuit.error?.message) : analysis.error?.message;
+  const loading = !result && !error;
+  const where = hasOverrides ? "with this run's overrides (computed in your browser)" : "for the saved parameters";
+  if (error) return { lna: null, note: `No LNA: ${error}`, loading: false };
+  if (!result) return { lna: null, note: "Computing the LNA…", loading };
+  if (!result.lna) {
+    return { lna: null, note: `No LNA: the steady state ${where} is unstable${result.oscillatory ? " (oscillatory: a Hopf bifurcation has been crossed)" : ""}, so the linear noise approximation does not apply.`, loading: false };
+  }
+  // The LNA is in molecules: CV has no unit; Fano = variance/mean scales as 1/Ω in model units.
+  const scale = summary.units === "model" ? (summary.omega ?? 1) : 1;
+  const fano = Object.fromEntries(Object.entries(result.lna.fano).map(([k, v]) => [k, v == null ? null : v / scale]));
+  return { lna: { ...result.lna, fano }, note: `LNA at the deterministic steady state ${where}.`, loading: false };
+}
+
+/** Stationary mean, SD, CV and Fano factor per species, with the LNA CV and Fano beside. */
+export function NoiseTable({ summary, lna, amountUnit, timeUnit, burnIn }: {
+  summary: SummaryJson; lna: LnaState; amountUnit: string; timeUnit: string; burnIn: number;
+}) {
+  return (
+    <section aria-labelledby="noise-h" className="flex flex-col gap-2">
+      <h2 id="noise-h" className="text-lg font-semibold">Noise table</h2>
+      <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
+        <table className="w-full min-w-[36rem] text-sm tabular-nums" data-testid="noise-table">
+          <caption className="px-3 pt-2 text-left text-xs text-ink-soft">
+            Stationary statistics: pooled over {summary.runs === 1 ? "the path" : `all ${summary.runs.toLocaleString("en-US")} cells`} and grid times ≥ burn-in ({formatNumber(burnIn)} {timeUnit}). SD with n − 1. {lna.note}
+          </caption>
+          <thead className="bg-paper text-left text-ink-soft">
+            <tr>
+              <th scope="col" className="px-3 py-2">Species</th>
+              <th scope="col" className="px-3 py-2 text-right">Mean ({amountUnit})</th>
+              <th scope="col" className="px-3 py-2 text-right">SD ({amountUnit})</th>
+              <th scope="col" className="px-3 py-2 text-right">CV</th>
+              <th scope="col" className="px-3 py-2 text-right">Fano ({amountUnit})</th>
+              <th scope="col" className="px-3 py-2 text-right">LNA CV</th>
+              <th scope="col" className="px-3 py-2 text-right">LNA Fano</th>
+            </tr>
+          </thead>
+          <tbody>
+            {summary.species.map((sp) => {
+              const st = summary.stationary[sp];
+              return (
+                <tr key={sp} className="border-t border-ink/10">
+                  <th scope="row" className="px-3 py-2 text-left font-medium">{sp}</th>
+                  <td className="px-3 py-2 text-right">{formatNumber(st?.mean)}</td>
+                  <td className="px-3 py-2 text-right">{formatNumber(sdOf(st?.variance))}</td>
+                  <td className="px-3 py-2 text-right">{formatNumber(st?.cv)}</td>
+                  <td className="px-3 py-2 text-right">{formatNumber(st?.fano)}</td>
+                  <td className="px-3 py-2 text-right text-ink-soft">{lna.loading ? "…" : formatNumber(lna.lna?.cv[sp])}</td>
+                  <td className="px-3 py-2 text-right text-ink-soft">{lna.loading ? "…" : formatNumber(lna.lna?.fano[sp])}</td>
+                </tr>
+              );
+            })}
+          </tbody>
+        </table>
+      </div>
+    </section>
+  );
+}
