@@ -1,0 +1,99 @@
+/**
+ * `simulate` on the calling thread, without a clock: the mean-field run (method "ode") or an
+ * ensemble (method "ssa" / "tau"), as the JSON of CONTRACT.md §2 with wall_s = 0. The command
+ * line and the worker use ssa/node/run.ts, which adds threads and timing. Pure: no I/O.
+ */
+import { burnInOf, simulateEnsemble } from "./ensemble";
+import type { Model } from "./model-core";
+import { solveOde } from "./ode";
+import { cellPeriods, periodSummary, sparseMoments, type SimulateSummary, type SpeciesMoments } from "./stats";
+
+export interface SimulateInput {
+  method: "ode" | "ssa" | "tau";
+  tEnd: number;
+  dt: number;
+  runs?: number;
+  /** Required for ssa/tau. */
+  seed?: number;
+  burnIn?: number;
+  units?: "molecules" | "model";
+}
+
+function momentsOf(values: number[]): SpeciesMoments {
+  const v = Float64Array.from(values);
+  const m = sparseMoments([{ values: v, counts: new Float64Array(v.length).fill(1) }]);
+  const sd = Math.sqrt(m.variance);
+  return { mean: m.mean, variance: m.variance, cv: m.mean !== 0 ? sd / m.mean : NaN, fano: m.mean !== 0 ? m.variance / m.mean : NaN };
+}
+
+/**
+ * The deterministic run: runs 1, sd 0, quantiles equal to the path, `trace` the path itself;
+ * `stationary` pools the path's grid values after burn-in; periods come from the same crossing
+ * rule as for cells.
+ */
+export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateSummary {
+  const units = o.units ?? "model";
+  const sol = solveOde(model, { tEnd: o.tEnd, dt: o.dt, units });
+  const times = Float64Array.from(sol.times);
+  const burnIn = burnInOf(o);
+  let gStart = 0;
+  while (gStart < times.length - 1 && times[gStart] < burnIn) gStart++;
+  const scratch = new Float64Array(times.length);
+  const sd: Record<string, number[]> = {};
+  const quantiles: SimulateSummary["quantiles"] = {};
+  const final: Record<string, SpeciesMoments> = {};
+  const stationary: Record<string, SpeciesMoments> = {};
+  const period: SimulateSummary["period"] = {};
+  for (const id of model.species) {
+    const path = sol.trace[id];
+    sd[id] = path.map(() => 0);
+    quantiles[id] = { p05: path.slice(), p25: path.slice(), p50: path.slice(), p75: path.slice(), p95: path.slice() };
+    const last = path[path.length - 1];
+    final[id] = { mean: last, variance: 0, cv: 0, fano: 0 };
+    stationary[id] = momentsOf(path.slice(gStart));
+    const y = Float64Array.from(path);
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (const v of path) {
+      lo = Math.min(lo, v);
+      hi = Math.max(hi, v);
+    }
+    const periods: number[] = [];
+    const amps: number[] = [];
+    // A band of 1e-6 of the path's range: a deterministic path has no noise to guard against.
+    cellPeriods(y, 0, 1, times, gStart, times.length, 1e-6 * Math.max(hi - lo, 1e-300), scratch, periods, amps);
+    period[id] = periodSummary(Float64Array.from(periods), Float64Array.from(amps), periods.length ? 1 : 0, 1);
+  }
+  return {
+    method: "ode",
+    seed: null,
+    runs: 1,
+    units,
+    species: model.species,
+    times: sol.times,
+    mean: sol.trace,
+    sd,
+    quantiles,
+    final,
+    stationary,
+    period,
+    events: 0,
+    wall_s: wallS,
+    events_per_s: 0,
+    burn_in: burnIn,
+    time_unit: model.timeUnit,
+    amount_unit: units === "model" ? model.amountUnit : "molecules",
+    omega: model.omega,
+    trace: sol.trace,
+  };
+}
+
+/**
+ * One `simulate` run of a compiled model on this thread.
+ * @throws RangeError for bad options (a stochastic run needs a seed); OdeError when the mean field fails.
+ */
+export function simulate(model: Model, o: SimulateInput): SimulateSummary {
+  if (o.method === "ode") return odeSummary(model, o);
+  if (o.seed === undefined) throw new RangeError("seed is required for a stochastic run");
+  return simulateEnsemble(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.runs ?? 1, { units: o.units });
+}
