@@ -15,6 +15,7 @@ export const ACTIONS = {
   "comparison:write": ["owner", "modeler"],
   "data:write": ["owner", "modeler"],
   "delete": ["owner"],
+  "audit:read": ["owner"],
 } as const satisfies Record<string, readonly Role[]>;
 export type Action = keyof typeof ACTIONS;
 
