@@ -7,7 +7,6 @@
  */
 import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type DirectKernel } from "./kernel";
 import type { Model } from "./model-core";
-import { outputGrid } from "./ode";
 import { cellRngState } from "./rng";
 import { PARTIAL_FORMAT, cellPeriods, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
 import { tauKernel } from "./tau";
@@ -36,15 +35,24 @@ export interface EnsembleOptions {
 const DEFAULT_MAX_EVENTS = 2e9;
 
 /**
- * The sampling grid 0, dt, 2dt, …, the same points as the mean-field trace (ssa/ode.ts outputGrid:
- * k·dt for k ≤ ⌊tEnd/dt⌋, plus tEnd when dt does not divide it).
+ * The sampling grid 0, dt, 2dt, …: k·dt for k = 0 … ⌊tEnd/dt⌋ (with a 1e-9 relative allowance so
+ * that 10/0.1 gives 101 points), plus tEnd itself when dt does not divide it. The same points as
+ * the mean-field trace (ssa/ode.ts outputGrid; a test keeps the two equal). Kept here so that
+ * worker threads need not load the ODE code.
  * @throws RangeError unless 0 < dt ≤ tEnd and the grid has at most 1e7 points.
  */
 export function makeGrid(tEnd: number, dt: number): Float64Array {
-  if (Number.isFinite(tEnd) && Number.isFinite(dt) && dt > 0 && tEnd / dt > 1e7) {
-    throw new RangeError(`tEnd/dt gives more than 1e7 grid points`);
-  }
-  return outputGrid(tEnd, dt);
+  if (!(Number.isFinite(tEnd) && tEnd > 0)) throw new RangeError(`tEnd must be > 0, got ${tEnd}`);
+  if (!(Number.isFinite(dt) && dt > 0 && dt <= tEnd)) throw new RangeError(`dt must be in (0, tEnd], got ${dt}`);
+  if (tEnd / dt > 1e7) throw new RangeError(`tEnd/dt gives more than 1e7 grid points`);
+  const steps = Math.floor(tEnd / dt + 1e-9);
+  const lastOnGrid = steps * dt;
+  const extra = Math.abs(lastOnGrid - tEnd) > 1e-9 * tEnd ? 1 : 0;
+  const grid = new Float64Array(steps + 1 + extra);
+  for (let k = 0; k <= steps; k++) grid[k] = k * dt;
+  if (extra) grid[steps + 1] = tEnd;
+  else grid[steps] = Math.min(grid[steps], tEnd);
+  return grid;
 }
 
 /** Burn-in actually used: the option, else tEnd/5 (CONTRACT.md §2). */

@@ -10,7 +10,7 @@ import seedrandom from "seedrandom";
 import { noFormulas, parseCircuitWith } from "@/lib/schemas/circuit-rules";
 import { simulateCells } from "@/ssa/ensemble";
 import { compileParsedModel } from "@/ssa/model-core";
-import { runSimulation } from "@/ssa/node/run";
+import { runSimulation } from "@/ssa/node/run-lazy";
 import type { Circuit } from "@/ssa/types";
 
 import { CliError, numberFlag, parseFlags, writeJson, type Command } from "../common";

@@ -1,6 +1,6 @@
 /** `simulate <file>`: one run, as the JSON of CONTRACT.md §2. */
 import { defaultThreads } from "@/ssa/node/pool";
-import { runSimulation } from "@/ssa/node/run";
+import { runSimulation } from "@/ssa/node/run-lazy";
 
 import { parseFlags, readCircuit, writeJson, type Command } from "../common";
 import { RUN_FLAGS, RUN_FLAGS_HELP, runOptionsFromFlags } from "./options";

@@ -1,58 +1,16 @@
 /**
- * One `simulate` run as CONTRACT.md §2 describes it, for the command line and the background
- * worker: ode through the mean-field solver, ssa/tau through the thread pool, timed on this
- * process's clock. Node only (the clock and the pool).
+ * Runs for the app and the background worker: `runSimulation` (ssa/node/run-lazy.ts) and a
+ * synchronous `runTrajectory` that compiles with the formula parser. Node only.
  */
-import { performance } from "node:perf_hooks";
-
-import { makeGrid, summarize, trajectory, type EnsembleOptions, type TrajectoryResult } from "../ensemble";
-import { solveOde } from "../ode";
-import { odeSummary } from "../simulate";
-import type { SimulateSummary } from "../stats";
+import { compileModel } from "../model";
+import type { TrajectoryResult } from "../ensemble";
 import type { Circuit } from "../types";
-import { compileModelLazily, simulateCellsPooled, type PoolRunOptions } from "./pool";
+import { trajectoryOf, type RunOptions } from "./run-lazy";
 
-export interface RunOptions {
-  method: "ode" | "ssa" | "tau";
-  tEnd: number;
-  dt: number;
-  runs?: number;
-  /** Required for ssa/tau (the caller draws a random one when the user gives none). */
-  seed?: number;
-  burnIn?: number;
-  overrides?: Record<string, number>;
-  units?: "molecules" | "model";
-  threads?: number;
-  /** Add the mean-field trace on the same grid and units to an ensemble summary (the API does). */
-  includeTrace?: boolean;
-}
+export { runSimulation, runTrajectoryLazily, type RunOptions } from "./run-lazy";
 
-/**
- * Runs `simulate` for a validated circuit.
- * @throws ModelInputError / RangeError for bad input, OdeError when the mean field cannot be integrated.
- */
-export async function runSimulation(circuit: Circuit, o: RunOptions, pool: PoolRunOptions = {}): Promise<SimulateSummary> {
-  const t0 = performance.now();
-  if (o.method === "ode") {
-    const summary = odeSummary(await compileModelLazily(circuit, o.overrides), o);
-    summary.wall_s = (performance.now() - t0) / 1000;
-    return summary;
-  }
-  if (o.seed === undefined) throw new RangeError("seed is required for a stochastic run");
-  const options: EnsembleOptions = { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn };
-  makeGrid(o.tEnd, o.dt); // validates before any thread starts
-  const runs = o.runs ?? 1;
-  const partial = await simulateCellsPooled(circuit, o.overrides, options, runs, { threads: o.threads, ...pool });
-  const model = await compileModelLazily(circuit, o.overrides);
-  const wallS = (performance.now() - t0) / 1000;
-  const summary = summarize(model, options, partial, { units: o.units ?? "molecules", wallS });
-  if (o.includeTrace) summary.trace = solveOde(model, { tEnd: o.tEnd, dt: o.dt, units: o.units ?? "molecules" }).trace;
-  return summary;
-}
-
-/** `trajectory`: cell `index` of the ensemble drawn with `seed`, alone. */
-export async function runTrajectory(circuit: Circuit, o: RunOptions & { seed: number; index: number }): Promise<TrajectoryResult> {
+/** `trajectory`: cell `index` of the ensemble drawn with `seed`, replayed alone. @throws RangeError for method "ode". */
+export function runTrajectory(circuit: Circuit, o: RunOptions & { seed: number; index: number }): TrajectoryResult {
   if (o.method === "ode") throw new RangeError(`method must be "ssa" or "tau" for a trajectory`);
-  const model = await compileModelLazily(circuit, o.overrides);
-  return trajectory(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.index, o.units ?? "molecules");
+  return trajectoryOf(compileModel(circuit, o.overrides), o);
 }

@@ -39,3 +39,13 @@ describe("simulate", () => {
     expect(s.seed).toBe(1);
   });
 });
+
+describe("grids", () => {
+  it("makeGrid (ensembles) and outputGrid (mean field) give the same points", async () => {
+    const { makeGrid } = await import("@/ssa/ensemble");
+    const { outputGrid } = await import("@/ssa/ode");
+    for (const [tEnd, dt] of [[10, 0.1], [100, 7], [2000, 1], [1, 1], [5, 0.3], [1e4, 2.5]] as const) {
+      expect(Array.from(makeGrid(tEnd, dt))).toEqual(Array.from(outputGrid(tEnd, dt)));
+    }
+  });
+});
