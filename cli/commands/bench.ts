@@ -16,9 +16,9 @@ import type { Circuit } from "@/ssa/types";
 import { CliError, numberFlag, parseFlags, writeJson, type Command } from "../common";
 
 const BENCH_CIRCUITS = [
-  { name: "ring timer, 1 fL", file: "ring-timer.circuit.json", tEnd: 20000, dt: 10, cells: 4 },
-  { name: "ring timer, 10 fL", file: "ring-timer-10fL.circuit.json", tEnd: 2000, dt: 10, cells: 4 },
-  { name: "two-stage reporter", file: "two-stage-reporter.circuit.json", tEnd: 2000, dt: 10, cells: 20 },
+  { name: "ring timer, 1 fL", file: "ring-timer.circuit.json", tEnd: 20000, dt: 10, cells: 10 },
+  { name: "ring timer, 10 fL", file: "ring-timer-10fL.circuit.json", tEnd: 2000, dt: 10, cells: 10 },
+  { name: "two-stage reporter", file: "two-stage-reporter.circuit.json", tEnd: 2000, dt: 10, cells: 60 },
 ];
 
 function loadExample(file: string): Circuit {
@@ -134,7 +134,7 @@ every 10 minutes, and the two-stage reporter) on one thread and prints reaction 
 per thread as JSON (best and median of --repeat runs).
 
 Options:
-  --repeat N     runs per circuit (default 3)
+  --repeat N     runs per circuit (default 5; each is 5-6 million events)
   --ensemble     also time 1,000 cells of the ring timer for 2,000 min at dt 1 (wall time, peak RSS)
   --threads K    threads for --ensemble (default 2)
   --tau          also compare tau-leaping with the direct method on the ring timer at 100 fL
@@ -143,7 +143,7 @@ Options:
   --out FILE     write the JSON there instead of stdout`,
   async run(argv) {
     const flags = parseFlags(argv, { repeat: "string", ensemble: "boolean", tau: "boolean", rng: "boolean", all: "boolean", threads: "string", out: "string" }, "bench");
-    const repeat = numberFlag(flags, "repeat") ?? 3;
+    const repeat = numberFlag(flags, "repeat") ?? 5;
     if (!Number.isInteger(repeat) || repeat < 1 || repeat > 100) throw new CliError("--repeat: must be an integer from 1 to 100");
     const threads = numberFlag(flags, "threads") ?? 2;
     if (!Number.isInteger(threads) || threads < 1 || threads > 256) throw new CliError("--threads: must be an integer from 1 to 256");
