@@ -68,8 +68,11 @@ export interface FormIssue {
 }
 
 let keyCounter = 0;
-/** A fresh row key (unique within the page's lifetime). */
-export const newRowKey = (prefix: string): string => `${prefix}${++keyCounter}`;
+/**
+ * A fresh key for a row added in the editor. Rows read from a file get keys from their index
+ * (`circuitToForm`), so a server-rendered form and its hydration agree.
+ */
+export const newRowKey = (kind: "s" | "p" | "r"): string => `${kind}n${++keyCounter}`;
 
 const isRecord = (v: unknown): v is Record<string, unknown> => typeof v === "object" && v !== null && !Array.isArray(v);
 const text = (v: unknown): string => (v === undefined || v === null ? "" : typeof v === "string" ? v : typeof v === "number" ? String(v) : JSON.stringify(v));
@@ -105,9 +108,10 @@ export function parseStoichiometry(input: string): { ok: true; value: Record<str
 
 /**
  * A circuit (or any JSON, read leniently: the raw view may hold a half-written file) as form text.
- * Unknown fields of species, reactions and the file are carried in `extra`.
+ * Unknown fields of species, reactions and the file are carried in `extra`. Row keys are
+ * `<keyPrefix>s0`, `<keyPrefix>p0`, `<keyPrefix>r0`, …
  */
-export function circuitToForm(json: unknown): CircuitForm {
+export function circuitToForm(json: unknown, keyPrefix = ""): CircuitForm {
   const c = isRecord(json) ? json : {};
   const units = isRecord(c.units) ? c.units : {};
   const params = isRecord(c.parameters) ? c.parameters : {};
@@ -119,17 +123,17 @@ export function circuitToForm(json: unknown): CircuitForm {
     time: text(units.time),
     amount: text(units.amount),
     volumeFL: text(c.volume_fL),
-    species: species.map((s) => {
+    species: species.map((s, i) => {
       const o = isRecord(s) ? s : {};
-      return { key: newRowKey("s"), id: text(o.id), initial: text(o.initial), extra: omit(o, ["id", "initial"]) };
+      return { key: `${keyPrefix}s${i}`, id: text(o.id), initial: text(o.initial), extra: omit(o, ["id", "initial"]) };
     }),
-    parameters: Object.entries(params).map(([name, value]) => ({ key: newRowKey("p"), name, value: text(value) })),
-    reactions: reactions.map((r) => {
+    parameters: Object.entries(params).map(([name, value], i) => ({ key: `${keyPrefix}p${i}`, name, value: text(value) })),
+    reactions: reactions.map((r, i) => {
       const o = isRecord(r) ? r : {};
       const rate = isRecord(o.rate) ? o.rate : {};
       const law = (RATE_LAWS as readonly string[]).includes(String(rate.law)) ? (rate.law as RateLawName) : "mass_action";
       return {
-        key: newRowKey("r"),
+        key: `${keyPrefix}r${i}`,
         id: text(o.id),
         reactants: formatStoichiometry(o.reactants),
         products: formatStoichiometry(o.products),
