@@ -1,0 +1,73 @@
+import { db } from "@/db/client";
+import type { Role } from "@/lib/schemas/auth";
+import type { RunNotifyScope } from "@/lib/schemas/invitations";
+
+export type SubjectKind = "run" | "comparison";
+
+export interface NotificationSetting { labId: string; labName: string; role: Role; runs: RunNotifyScope }
+
+/** The user's run e-mail choice in each of their labs ("off" where never set). */
+export async function listNotificationSettings(userId: string): Promise<NotificationSetting[]> {
+  const rows = await db("memberships as m").join("labs as l", "l.id", "m.labId")
+    .leftJoin("notification_settings as s", function join() { this.on("s.labId", "m.labId").andOn("s.userId", "m.userId"); })
+    .where("m.userId", userId).orderBy("m.createdAt", "asc")
+    .select("l.id as labId", "l.name as labName", "m.role", db.raw("coalesce(s.runs, 'off') as runs"));
+  return rows.map((r: NotificationSetting) => ({ ...r, labId: String(r.labId) }));
+}
+
+/** Sets the user's run e-mail choice for one lab (the caller checked membership). */
+export async function setNotificationSetting(userId: string, labId: string, runs: RunNotifyScope): Promise<void> {
+  await db("notification_settings").insert({ userId, labId, runs })
+    .onConflict(["userId", "labId"]).merge({ runs, updatedAt: db.fn.now() });
+}
+
+export interface Recipient { userId: string; email: string; name: string }
+
+/**
+ * Who wants an e-mail about a finished subject in `labId`: current members who chose
+ * "every run in this lab", and its owner (`ownerId`, who launched it) when they chose "my runs".
+ */
+export async function listRecipients(labId: string, ownerId: string | null): Promise<Recipient[]> {
+  const rows = await db("notification_settings as s").join("memberships as m", function join() { this.on("m.labId", "s.labId").andOn("m.userId", "s.userId"); })
+    .join("users as u", "u.id", "s.userId")
+    .where("s.labId", labId)
+    .where((q) => {
+      q.where("s.runs", "lab");
+      if (ownerId) q.orWhere((w) => w.where("s.runs", "mine").andWhere("s.userId", ownerId));
+    })
+    .orderBy("u.id").select("u.id as userId", "u.email", "u.name");
+  return rows.map((r: Recipient) => ({ ...r, userId: String(r.userId) }));
+}
+
+/**
+ * Claims the one e-mail a recipient gets about a subject: the claim's id for the first caller, null for
+ * every later one (a retried or duplicated hook). Claimed before sending: at most one e-mail.
+ */
+export async function claimNotification(kind: SubjectKind, subjectId: string, labId: string, r: Recipient): Promise<string | null> {
+  const rows = await db("notifications").insert({ subjectKind: kind, subjectId, labId, userId: r.userId, email: r.email })
+    .onConflict(["subjectKind", "subjectId", "userId"]).ignore().returning(["id"]);
+  return rows[0] ? String(rows[0].id) : null;
+}
+
+export async function markNotification(id: string, result: { status: "sent"; messageId: string } | { status: "failed"; error: string }): Promise<void> {
+  await db("notifications").where({ id }).update(result.status === "sent"
+    ? { status: "sent", messageId: result.messageId, sentAt: db.fn.now() }
+    : { status: "failed", error: result.error.slice(0, 2000) });
+}
+
+/** Notes that every recipient of a subject has been handled (the sweep skips it then). */
+export async function markSubjectNotified(kind: SubjectKind, subjectId: string): Promise<void> {
+  await db("notified_subjects").insert({ subjectKind: kind, subjectId }).onConflict(["subjectKind", "subjectId"]).ignore();
+}
+
+/**
+ * Runs that succeeded or failed between `maxAgeS` and `minAgeS` seconds ago whose
+ * notifications were never completed (the worker died between finishing and notifying).
+ */
+export async function listUnnotifiedRuns(minAgeS: number, maxAgeS: number, limit = 50): Promise<string[]> {
+  const rows = await db("runs as r").whereIn("r.status", ["succeeded", "failed"])
+    .whereRaw("r.finished_at between now() - make_interval(secs => ?) and now() - make_interval(secs => ?)", [maxAgeS, minAgeS])
+    .whereNotExists(db("notified_subjects as n").where("n.subjectKind", "run").whereRaw("n.subject_id = r.id"))
+    .orderBy("r.finishedAt").limit(limit).select("r.id");
+  return rows.map((r: { id: string }) => String(r.id));
+}
