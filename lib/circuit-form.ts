@@ -302,9 +302,28 @@ export function issueField(path: readonly (string | number)[], form: CircuitForm
   }
 }
 
+/** One problem of the form, addressed to the input it concerns. */
+export interface FieldIssue {
+  field: string;
+  message: string;
+}
+
+/** The form's own problems and the schema's (strings `<path>: <reason>`), each addressed to its input. */
+export function listIssues(form: CircuitForm, formIssues: FormIssue[], schemaIssues: string[]): FieldIssue[] {
+  const out: FieldIssue[] = formIssues.map((i) => ({ field: i.field, message: i.message }));
+  for (const s of schemaIssues) {
+    const { path, message } = splitIssue(s);
+    out.push({ field: issueField(path, form, message), message });
+  }
+  return out;
+}
+
+const VIA_PARAMETER = /\(parameter "([A-Za-z_][A-Za-z0-9_]*)" is [^)]*\)$/;
+
 /**
- * Every problem of the form, by field key: the form's own and those of parseCircuit (strings
- * `<path>: <reason>`), each message once.
+ * Every problem of the form by field key, each message once per field. A bound broken through a
+ * parameter (`must be >= 0 (parameter "g" is -1)`, reported where the parameter is used) also
+ * shows beside that parameter's value, where the fix goes.
  */
 export function indexIssues(form: CircuitForm, formIssues: FormIssue[], schemaIssues: string[]): Map<string, string[]> {
   const byField = new Map<string, string[]>();
@@ -313,12 +332,45 @@ export function indexIssues(form: CircuitForm, formIssues: FormIssue[], schemaIs
     if (!list.includes(message)) list.push(message);
     byField.set(field, list);
   };
-  for (const i of formIssues) add(i.field, i.message);
-  for (const s of schemaIssues) {
-    const { path, message } = splitIssue(s);
-    add(issueField(path, form, message), message);
+  for (const i of listIssues(form, formIssues, schemaIssues)) {
+    add(i.field, i.message);
+    const via = VIA_PARAMETER.exec(i.message);
+    const row = via ? form.parameters.find((p) => p.name.trim() === via[1]) : undefined;
+    if (row) add(fieldKey.parameter(row.key, "value"), i.message);
   }
   return byField;
+}
+
+const FIELD_WORDS: Record<string, string> = {
+  id: "id", initial: "initial amount", name: "name", value: "value", reactants: "reactants", products: "products",
+  "rate.law": "rate law", "rate.k": "k", "rate.input": "input species", "rate.vmax": "vmax", "rate.K": "K", "rate.n": "n",
+  "rate.basal": "basal leak", "rate.expression": "formula",
+};
+
+/** Where a field key points, in words: "reaction make_B, K", "parameter g, value", "cell volume". */
+export function describeField(field: string, form: CircuitForm): string {
+  const [section, row, ...rest] = field.split(".");
+  const sub = rest.join(".");
+  const tail = sub ? `, ${FIELD_WORDS[sub] ?? sub}` : "";
+  switch (section) {
+    case "name": return "name";
+    case "description": return "description";
+    case "volume_fL": return "cell volume";
+    case "units": return row === "amount" ? "amount unit" : "time unit";
+    case "species": {
+      const s = form.species.find((x) => x.key === row);
+      return s ? `species ${s.id || `row ${form.species.indexOf(s) + 1}`}${tail}` : "species";
+    }
+    case "parameters": {
+      const p = form.parameters.find((x) => x.key === row);
+      return p ? `parameter ${p.name || `row ${form.parameters.indexOf(p) + 1}`}${tail}` : "parameters";
+    }
+    case "reactions": {
+      const r = form.reactions.find((x) => x.key === row);
+      return r ? `reaction ${r.id || `row ${form.reactions.indexOf(r) + 1}`}${tail}` : "reactions";
+    }
+    default: return "circuit";
+  }
 }
 
 /**

@@ -53,6 +53,15 @@ function loopPath(p: Point): string {
   return `M${s.x.toFixed(1)},${s.y.toFixed(1)} C${c1.x.toFixed(1)},${c1.y.toFixed(1)} ${c2.x.toFixed(1)},${c2.y.toFixed(1)} ${e.x.toFixed(1)},${e.y.toFixed(1)}`;
 }
 
+/** Shifts a layout so its bounding box sits in the middle of the drawing (a triangle is top-heavy on its circle). */
+function centred(pos: Map<string, Point>): Map<string, Point> {
+  const ps = [...pos.values()];
+  if (ps.length === 0) return pos;
+  const dx = W / 2 - (Math.min(...ps.map((p) => p.x)) + Math.max(...ps.map((p) => p.x))) / 2;
+  const dy = H / 2 - (Math.min(...ps.map((p) => p.y)) + Math.max(...ps.map((p) => p.y))) / 2;
+  return new Map([...pos].map(([id, p]) => [id, { x: p.x + dx, y: p.y + dy }]));
+}
+
 const describeEdge = (e: WiringEdge) => `${e.from} ${STYLE[e.kind].verb} ${e.to} (${e.reactions.join(", ")})`;
 
 /**
@@ -62,7 +71,7 @@ const describeEdge = (e: WiringEdge) => `${e.from} ${STYLE[e.kind].verb} ${e.to}
  */
 export function CircuitWiring({ wiring, title }: CircuitWiringProps) {
   const uid = useId().replace(/[^A-Za-z0-9_-]/g, "");
-  const pos = layoutCircle(wiring.nodes, W / 2, H / 2, Math.min(W, H) / 2 - 52);
+  const pos = centred(layoutCircle(wiring.nodes, W / 2, H / 2, Math.min(W, H) / 2 - 52));
   const marker = (kind: WiringKind) => `url(#${uid}-${kind})`;
   const kinds = (Object.keys(STYLE) as WiringKind[]).filter((k) => wiring.edges.some((e) => e.kind === k));
   return (

@@ -1,3 +1,5 @@
+import { readFile } from "node:fs/promises";
+
 import type { BrowserContext, Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 
@@ -182,6 +184,37 @@ describe("circuits as the demo modeler", () => {
     await page.getByRole("button", { name: /^Versions/ }).click();
     expect(await page.getByRole("columnheader", { name: /Versions/ }).getAttribute("aria-sort")).toBe("descending");
     await shot(page, "circuits-09-list");
+  });
+
+  it("an uploaded circuit file with a bad reference is stopped before sending, naming the field", async () => {
+    await page.getByRole("button", { name: "New circuit" }).click();
+    await page.getByRole("radio", { name: "Upload a file" }).check();
+    const bad = getTemplate("birth-death")!;
+    bad.reactions[1].rate = { law: "mass_action", k: "gX" };
+    await page.getByLabel("Circuit file or SBML").setInputFiles({ name: "bad.circuit.json", mimeType: "application/json", buffer: Buffer.from(JSON.stringify(bad)) });
+    await page.getByRole("alert").filter({ hasText: 'reactions[1].rate.k: unknown parameter "gX"' }).waitFor();
+    expect(await page.getByRole("button", { name: "Create circuit" }).isDisabled()).toBe(true);
+  });
+
+  it("an SBML upload becomes a circuit whose history says it came from SBML", async () => {
+    await page.getByLabel("Circuit file or SBML").setInputFiles("tests/fixtures/sbml-l3v1-gene.xml");
+    await page.getByText("SBML; Burstwise converts it").waitFor();
+    await page.getByRole("button", { name: "Create circuit" }).click();
+    await page.waitForURL(/\/circuits\/\d+$/);
+    await page.getByRole("heading", { level: 1, name: "Gene test, Level 3" }).waitFor();
+    expect(await page.getByLabel("Formula of express", { exact: true }).inputValue()).toContain("K^h");
+    await page.getByRole("navigation", { name: "Circuit views" }).getByRole("link", { name: "Versions" }).click();
+    expect(await page.getByTestId("version-row").first().textContent()).toContain("SBML import");
+    await shot(page, "circuits-10a-sbml-versions");
+  });
+
+  it("the circuit file of a version downloads as JSON that parses back to the same circuit", async () => {
+    await page.goto(circuitPath);
+    const [download] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "circuit file" }).click()]);
+    expect(download.suggestedFilename()).toMatch(/^ring-timer-browser-[a-z0-9]+-v2\.circuit\.json$/);
+    const saved = JSON.parse(await readFile((await download.path())!, "utf8"));
+    expect(saved.parameters.n).toBe(2);
+    expect(saved.name).toBe(NAME);
   });
 
   it("a circuit of another lab is not found under this lab", async () => {

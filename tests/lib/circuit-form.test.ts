@@ -3,7 +3,9 @@ import { join } from "node:path";
 
 import { describe, expect, it } from "vitest";
 
-import { circuitIssues, circuitToForm, fieldKey, formToCircuitJson, indexIssues, parseStoichiometry, splitIssue } from "@/lib/circuit-form";
+import {
+  circuitIssues, circuitToForm, describeField, fieldKey, formToCircuitJson, indexIssues, listIssues, parseStoichiometry, splitIssue,
+} from "@/lib/circuit-form";
 import { blankCircuit, CIRCUIT_TEMPLATES, getTemplate } from "@/lib/circuit-templates";
 import { CircuitError, parseCircuit } from "@/lib/schemas/circuit";
 
@@ -105,6 +107,24 @@ describe("issues land on the field they concern", () => {
     // a negative parameter breaks k >= 0 where it is used: the schema names the reaction's field
     expect(byField.get(fieldKey.reaction(form.reactions[4].key, "rate.k"))).toEqual(['must be >= 0 (parameter "g" is -1)']);
     expect(byField.get(fieldKey.species(form.species[2].key, "initial"))).toEqual(["must be a finite number"]);
+    // …and once beside the parameter's own value, where the fix goes
+    const g = form.parameters.find((p) => p.name === "g")!;
+    expect(byField.get(fieldKey.parameter(g.key, "value"))).toEqual(['must be >= 0 (parameter "g" is -1)']);
+    // the problem list counts each reported problem once (three uses of g, the echo not counted)
+    const listed = listIssues(form, issues, schemaIssues(json));
+    expect(listed.filter((i) => i.message.includes('parameter "g"'))).toHaveLength(3);
+  });
+
+  it("describeField names the place of a field key in words", () => {
+    const form = circuitToForm(getTemplate("ring-timer")!);
+    expect(describeField(fieldKey.reaction(form.reactions[1].key, "rate.K"), form)).toBe("reaction make_B, K");
+    expect(describeField(fieldKey.reaction(form.reactions[2].key, "rate.expression"), form)).toBe("reaction make_C, formula");
+    expect(describeField(fieldKey.reaction(form.reactions[3].key), form)).toBe("reaction lose_A");
+    expect(describeField(fieldKey.parameter(form.parameters[0].key, "value"), form)).toBe("parameter vA, value");
+    expect(describeField(fieldKey.species(form.species[0].key, "initial"), form)).toBe("species A, initial amount");
+    expect(describeField("volume_fL", form)).toBe("cell volume");
+    expect(describeField("units.amount", form)).toBe("amount unit");
+    expect(describeField("circuit", form)).toBe("circuit");
   });
 
   it("a repeated or empty parameter name is reported at the name input of that row", () => {

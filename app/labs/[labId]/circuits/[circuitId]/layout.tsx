@@ -19,6 +19,7 @@ export default async function CircuitLayout({ children, params }: { children: Re
       <Suspense fallback={<div className="h-20 animate-pulse rounded-md bg-ink/5" />}>
         <CircuitHeaderBar
           labId={labId}
+          circuitName={circuit.name}
           base={base}
           canLaunch={canLaunch}
           versions={versions.map((v) => ({ id: v.id, number: v.number, message: v.message, createdAt: new Date(v.createdAt).toISOString(), createdBy: v.createdByEmail }))}

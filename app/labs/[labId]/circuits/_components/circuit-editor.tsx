@@ -5,7 +5,7 @@ import { useId, useMemo, useRef, useState } from "react";
 
 import { CircuitWiring } from "@/app/_components/circuit-wiring";
 import {
-  circuitIssues, circuitToForm, fieldKey, formToCircuitJson, indexIssues, newRowKey, parseStoichiometry,
+  circuitIssues, circuitToForm, describeField, fieldKey, formToCircuitJson, indexIssues, listIssues, newRowKey, parseStoichiometry,
   RATE_LAWS, type CircuitForm, type ParameterRow, type RateLawName, type ReactionRow, type SpeciesRow,
 } from "@/lib/circuit-form";
 import { extractWiring } from "@/lib/circuit-wiring";
@@ -81,7 +81,7 @@ export function CircuitEditor(props: CircuitEditorProps) {
   const byField = useMemo(() => indexIssues(form, mode === "form" ? draft.issues : [], mode === "form" ? schemaIssues : []), [form, draft, schemaIssues, mode]);
   const problems: { field: string | null; text: string }[] =
     mode === "form"
-      ? [...byField.entries()].flatMap(([field, msgs]) => msgs.map((m) => ({ field, text: m })))
+      ? listIssues(form, draft.issues, schemaIssues).map((i) => ({ field: i.field, text: i.message }))
       : [...(jsonParsed.ok ? [] : [{ field: null, text: `JSON: ${jsonParsed.reason}` }]), ...schemaIssues.map((t) => ({ field: null, text: t }))];
   const valid = useMemo((): Circuit | null => {
     if (current === undefined || problems.length > 0) return null;
@@ -296,7 +296,7 @@ export function CircuitEditor(props: CircuitEditorProps) {
                       />
                       <div className="flex min-w-0 flex-col gap-0.5">
                         {i === 0 && <span className="text-xs font-medium text-ink-soft">Unit (from use)</span>}
-                        <span className="py-1.5 text-sm text-ink-soft" data-testid={`unit-${p.name}`}>{units ? [...units].join(" and ") : "—"}</span>
+                        <span className="py-1.5 text-sm text-ink-soft" data-testid={`unit-${p.name}`}>{units ? [...units].map((u) => (u === "1" ? "dimensionless" : u.replace(/uM/g, "µM"))).join(" and ") : "—"}</span>
                       </div>
                       {props.canWrite && (
                         <RemoveButton label={`Remove parameter ${p.name || i + 1}`} first={i === 0} onClick={() => patch((f) => ({ ...f, parameters: f.parameters.filter((x) => x.key !== p.key) }))} />
@@ -440,6 +440,7 @@ export function CircuitEditor(props: CircuitEditorProps) {
             <ul className="flex flex-col gap-1 text-sm text-red-800" data-testid="problem-list">
               {problems.map((p, i) => (
                 <li key={`${p.field}-${i}`}>
+                  {p.field && <span className="font-medium">{describeField(p.field, form)}: </span>}
                   {p.field && !["circuit", "species", "parameters", "reactions"].includes(p.field) && !/^(species|parameters|reactions)\.[^.]+$/.test(p.field) ? (
                     <a href={`#${inputId(p.field)}`} className="text-red-800 underline">{p.text}</a>
                   ) : p.text}

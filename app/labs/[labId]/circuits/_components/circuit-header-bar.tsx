@@ -4,7 +4,7 @@ import Link from "next/link";
 import { usePathname, useRouter, useSearchParams } from "next/navigation";
 import { useId } from "react";
 
-import { formatWhen } from "./format";
+import { fileSlug, formatWhen } from "./format";
 
 export interface VersionOption {
   id: string;
@@ -16,6 +16,7 @@ export interface VersionOption {
 
 export interface CircuitHeaderBarProps {
   labId: string;
+  circuitName: string;
   base: string;
   versions: VersionOption[];
   canLaunch: boolean;
@@ -29,7 +30,7 @@ const TABS = [
 ];
 
 /** The version picker, the run link and the tabs of one circuit; the chosen version travels in `?version=`. */
-export function CircuitHeaderBar({ labId, base, versions, canLaunch }: CircuitHeaderBarProps) {
+export function CircuitHeaderBar({ labId, circuitName, base, versions, canLaunch }: CircuitHeaderBarProps) {
   const router = useRouter();
   const selectId = useId();
   const pathname = usePathname();
@@ -67,6 +68,11 @@ export function CircuitHeaderBar({ labId, base, versions, canLaunch }: CircuitHe
             older version: v{versions[0].number} is the latest
           </span>
         )}
+        <span className="flex items-center gap-2 text-ink-soft">
+          Download v{selected.number}:
+          <a href={`/api/versions/${selected.id}`} download={`${fileSlug(circuitName)}-v${selected.number}.circuit.json`}>circuit file</a>
+          <a href={`/api/versions/${selected.id}/sbml`} download={`${fileSlug(circuitName)}-v${selected.number}.sbml.xml`}>SBML</a>
+        </span>
         {canLaunch && (
           <Link
             href={`/labs/${labId}/runs/new?version=${selected.id}`}

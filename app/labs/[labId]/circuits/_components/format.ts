@@ -22,3 +22,7 @@ export function formatNumber(x: number | null | undefined, digits = 4): string {
 
 /** Amount units as people write them (µM rather than uM). */
 export const showAmount = (unit: string): string => (unit === "uM" ? "µM" : unit);
+
+/** A circuit name as a file-name stem: "Ring timer, design R2" → "ring-timer-design-r2". */
+export const fileSlug = (name: string): string =>
+  name.toLowerCase().normalize("NFKD").replace(/[^a-z0-9]+/g, "-").replace(/^-+|-+$/g, "").slice(0, 60) || "circuit";

@@ -1,20 +1,18 @@
 "use client";
 
-import dynamic from "next/dynamic";
 import useSWR from "swr";
 
 import { Caution } from "@/app/_components/caution";
+import { Chart } from "@/app/_components/charts/chart";
 
+import { eigenSpec } from "./eigen-spec";
 import { fetchJson, type AnalysisJson } from "./fetch-json";
 import { formatNumber, showAmount } from "./format";
 
-const EigenChart = dynamic(() => import("./eigen-chart"), {
-  ssr: false,
-  loading: () => <div className="h-[300px] w-[380px] max-w-full animate-pulse rounded-md bg-ink/5" aria-label="Loading the chart" />,
-});
-
 export interface StabilityPanelProps {
   versionId: string;
+  /** Names the chart downloads, e.g. "ring-timer-v2". */
+  fileBase: string;
   timeUnit: string;
   amountUnit: string;
   /** Molecules per amount unit (1 for molecules), to show the steady state in molecules too. */
@@ -42,7 +40,7 @@ function verdict(a: AnalysisJson): { title: string; text: string; tone: "good" |
 }
 
 /** Steady state, eigenvalues (table and complex plane), the verdict, and the LNA's CV and Fano per species. */
-export function StabilityPanel({ versionId, timeUnit, amountUnit, omega }: StabilityPanelProps) {
+export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omega }: StabilityPanelProps) {
   const { data, error } = useSWR<AnalysisJson>(`/api/versions/${versionId}/analysis`, fetchJson, { shouldRetryOnError: false });
   if (error) {
     return (
@@ -125,7 +123,7 @@ export function StabilityPanel({ versionId, timeUnit, amountUnit, omega }: Stabi
 
         <section aria-label="Eigenvalues in the complex plane" className="flex min-w-0 flex-col gap-2">
           <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white p-3" data-testid="eigen-chart">
-            <EigenChart eigenvalues={data.eigenvalues} timeUnit={timeUnit} />
+            <Chart spec={eigenSpec(data.eigenvalues, timeUnit)} fileBase={`${fileBase}-eigenvalues`} label="Eigenvalues of the Jacobian in the complex plane" />
           </div>
           <p className="text-xs text-ink-soft">The dashed line is the imaginary axis: the steady state is stable when every point lies to its left.</p>
         </section>

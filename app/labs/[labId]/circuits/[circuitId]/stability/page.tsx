@@ -4,6 +4,7 @@ import { notFound } from "next/navigation";
 import { getVersion } from "@/lib/data/circuits";
 import { omegaFor } from "@/ssa/model";
 
+import { fileSlug } from "../../_components/format";
 import { StabilityPanel } from "../../_components/stability-panel";
 import { loadCircuit, pickVersion } from "../../_lib/load-circuit";
 
@@ -24,7 +25,7 @@ export default async function StabilityPage({ params, searchParams }: {
       <p className="text-sm text-ink-soft">
         Version {selected.number}: the deterministic steady state, the Jacobian&apos;s eigenvalues there, and the noise the linear noise approximation predicts around it.
       </p>
-      <StabilityPanel versionId={selected.id} timeUnit={units.time} amountUnit={units.amount} omega={omegaFor(units.amount, volumeFL)} />
+      <StabilityPanel versionId={selected.id} fileBase={`${fileSlug(circuit.name)}-v${selected.number}`} timeUnit={units.time} amountUnit={units.amount} omega={omegaFor(units.amount, volumeFL)} />
     </div>
   );
 }

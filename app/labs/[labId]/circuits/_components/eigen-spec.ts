@@ -1,27 +1,20 @@
-"use client";
-
-import { VegaEmbed } from "react-vega";
 import type { VisualizationSpec } from "vega-embed";
 
-export interface EigenChartProps {
-  eigenvalues: { re: number; im: number }[];
-  timeUnit: string;
-}
-
 /**
- * Eigenvalues of the Jacobian in the complex plane, with the imaginary axis drawn: points to its
- * right grow, points to its left decay; a pair off the real axis turns.
+ * The vega-lite spec of eigenvalues in the complex plane, with the imaginary axis drawn: points to
+ * its right grow, points to its left decay; a pair off the real axis turns.
  */
-export default function EigenChart({ eigenvalues, timeUnit }: EigenChartProps) {
+export function eigenSpec(eigenvalues: { re: number; im: number }[], timeUnit: string): VisualizationSpec {
   const values = eigenvalues.map((l, i) => ({
     index: i + 1, re: l.re, im: l.im,
     side: l.re > 0 ? "right half: grows" : l.re < 0 ? "left half: decays" : "on the axis",
   }));
-  const spec: VisualizationSpec = {
+  return {
     $schema: "https://vega.github.io/schema/vega-lite/v6.json",
     title: { text: "Eigenvalues of the Jacobian at the steady state", fontSize: 13, anchor: "start" },
     width: 320,
     height: 220,
+    background: "white",
     data: { values },
     layer: [
       { mark: { type: "rule", color: "#9a3412", strokeDash: [5, 4], strokeWidth: 1.5 }, encoding: { x: { datum: 0, type: "quantitative" } } },
@@ -45,5 +38,4 @@ export default function EigenChart({ eigenvalues, timeUnit }: EigenChartProps) {
       },
     ],
   };
-  return <VegaEmbed spec={spec} options={{ actions: false, renderer: "svg" }} />;
 }
