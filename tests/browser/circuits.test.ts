@@ -18,6 +18,8 @@ let page: Page;
 let labPath = "";
 let circuitPath = "";
 let circuitId = "";
+/** Script errors and React warnings seen in the modeler's page (hydration mismatches show up here). */
+const consoleErrors: string[] = [];
 
 /** The engine's own analysis of the ring timer with Hill coefficient n, to know which verdict and warnings to expect. */
 function expectedAnalysis(n: number) {
@@ -40,6 +42,11 @@ async function errorOf(page: Page, label: string): Promise<string | null> {
 beforeAll(async () => {
   ctx = await openBrowser();
   page = await ctx.newPage();
+  page.on("console", (m) => {
+    // failed fetches (the 404 page, a 422 analysis) are expected; anything else is a bug
+    if (m.type() === "error" && !m.text().startsWith("Failed to load resource")) consoleErrors.push(m.text());
+  });
+  page.on("pageerror", (e) => consoleErrors.push(e.message));
 });
 afterAll(async () => {
   await ctx?.close();
@@ -226,6 +233,28 @@ describe("circuits as the demo modeler", () => {
     await page.getByRole("heading", { name: "Not found" }).waitFor();
   });
 
+  it("a circuit with no steady state (the blank one grows forever) says so, and counts fall back to initial counts", async () => {
+    await page.goto(`${labPath}/circuits`);
+    await page.getByRole("button", { name: "New circuit" }).click();
+    await page.getByRole("radio", { name: "Blank" }).check();
+    await page.getByLabel("Circuit name").fill(`${NAME} blank`);
+    await page.getByRole("button", { name: "Create circuit" }).click();
+    await page.waitForURL(/\/circuits\/\d+$/);
+    const blankPath = new URL(page.url()).pathname;
+    await page.goto(`${blankPath}/stability`);
+    await page.getByRole("alert").filter({ hasText: "No steady state could be analysed" }).waitFor();
+    expect(await page.getByRole("alert").filter({ hasText: "No steady state" }).textContent()).toContain("grow without bound");
+    await page.goto(`${blankPath}/counts`);
+    await page.getByText("The stability analysis failed").waitFor();
+    // X starts at 0 molecules, below the ~10-molecule threshold
+    expect(await page.getByTestId("counts-row-X").getByTestId("low-copy").count()).toBe(1);
+    expect(await page.getByTestId("omega").textContent()).toBe("Ω = 1 (amounts are already molecules)");
+  });
+
+  it("the modeler's pages logged no script errors or hydration warnings", () => {
+    expect(consoleErrors).toEqual([]);
+  });
+
   it("fits a tablet width without horizontal scrolling", async () => {
     await page.setViewportSize({ width: 768, height: 1024 });
     await page.goto(circuitPath);
@@ -259,7 +288,7 @@ describe("circuits as the demo reviewer", () => {
     await rpage.goto(`${labPath}/circuits`);
     await rpage.getByRole("table", { name: "Circuits of this lab" }).waitFor();
     expect(await rpage.getByRole("button", { name: "New circuit" }).count()).toBe(0);
-    expect(await rpage.getByRole("link", { name: NAME }).count()).toBe(1);
+    expect(await rpage.getByRole("link", { name: NAME, exact: true }).count()).toBe(1);
   });
 
   it("the editor shows everything read-only: no save, add or remove controls, disabled inputs", async () => {

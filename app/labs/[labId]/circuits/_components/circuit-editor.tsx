@@ -442,7 +442,18 @@ export function CircuitEditor(props: CircuitEditorProps) {
                 <li key={`${p.field}-${i}`}>
                   {p.field && <span className="font-medium">{describeField(p.field, form)}: </span>}
                   {p.field && !["circuit", "species", "parameters", "reactions"].includes(p.field) && !/^(species|parameters|reactions)\.[^.]+$/.test(p.field) ? (
-                    <a href={`#${inputId(p.field)}`} className="text-red-800 underline">{p.text}</a>
+                    <a
+                      href={`#${inputId(p.field)}`} className="text-red-800 underline"
+                      onClick={(e) => {
+                        const target = document.getElementById(inputId(p.field!));
+                        if (!target) return;
+                        e.preventDefault();
+                        target.focus();
+                        target.scrollIntoView({ block: "center" });
+                      }}
+                    >
+                      {p.text}
+                    </a>
                   ) : p.text}
                 </li>
               ))}

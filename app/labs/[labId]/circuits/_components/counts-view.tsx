@@ -41,11 +41,12 @@ export function CountsView({ versionId }: { versionId: string }) {
       <section aria-labelledby="omega-h" className="rounded-lg border border-ink/10 bg-white p-4">
         <h2 id="omega-h" className="font-semibold">Conversion factor</h2>
         <p className="mt-1 text-lg" data-testid="omega">
-          Ω = <strong className="tabular-nums">{formatNumber(c.omega, 6)}</strong> {showUnit(c.omega_unit)}
+          Ω = <strong className="tabular-nums">{formatNumber(c.omega, 6)}</strong>{" "}
+          {c.amount_unit === "molecules" ? "(amounts are already molecules)" : showUnit(c.omega_unit)}
         </p>
         <p className="mt-1 text-sm text-ink-soft">
           {c.amount_unit === "molecules"
-            ? "Amounts are already molecules, so nothing is scaled."
+            ? "Nothing is scaled: initial amounts and constants are used as written."
             : `Ω = V · N_A · 1 ${amount}, with cell volume V = ${formatNumber(c.volume_fL, 6)} fL and N_A = 6.02214076 × 10²³ per mol. An amount a in ${amount} is a·Ω molecules; the engine rounds initial amounts to whole molecules.`}
           {" "}Time is in {c.time_unit}.
         </p>
