@@ -6,7 +6,10 @@ import { describe, expect, it } from "vitest";
 
 import { checkOverrides, CircuitError, describeIssue, parseCircuit, SimulateOptions } from "@/lib/schemas/circuit";
 
-const good = () => ({
+// eslint-disable-next-line @typescript-eslint/no-explicit-any -- the tests edit raw JSON into every wrong shape
+type Json = any;
+
+const good = (): Json => ({
   format: "burstwise.circuit/1",
   name: "Ring timer, design R2",
   units: { time: "min", amount: "nM" },
@@ -16,7 +19,7 @@ const good = () => ({
     { id: "B", initial: 0 },
     { id: "C", initial: 0 },
   ],
-  parameters: { vA: 40, vB: 40, vC: 40, K: 20, n: 4, g: 0.2 } as Record<string, unknown>,
+  parameters: { vA: 40, vB: 40, vC: 40, K: 20, n: 4, g: 0.2 },
   reactions: [
     { id: "make_A", products: { A: 1 }, rate: { law: "hill_repression", input: "C", vmax: "vA", K: "K", n: "n" } },
     { id: "make_B", products: { B: 1 }, rate: { law: "hill_activation", input: "A", vmax: "vB", K: "K", n: "n" } },
@@ -24,14 +27,11 @@ const good = () => ({
     { id: "lose_A", reactants: { A: 1 }, rate: { law: "mass_action", k: "g" } },
     { id: "lose_B", reactants: { B: 1 }, rate: { law: "mass_action", k: "g" } },
     { id: "lose_C", reactants: { C: 1 }, rate: { law: "mass_action", k: "g" } },
-  ] as Record<string, unknown>[],
+  ],
 });
 
-type Doc = ReturnType<typeof good>;
-type Any = Record<string, any>; // eslint-disable-line @typescript-eslint/no-explicit-any
-
-function firstIssue(edit: (c: Doc & Any) => void): string {
-  const c = good() as Doc & Any;
+function firstIssue(edit: (c: Json) => void): string {
+  const c = good();
   edit(c);
   try {
     parseCircuit(c);
@@ -48,7 +48,7 @@ describe("parseCircuit", () => {
     expect(() => parseCircuit({ ...good(), units: { time: "s", amount: "molecules" }, volume_fL: undefined })).not.toThrow();
   });
 
-  it.each<[string, (c: Doc & Any) => void, string]>([
+  it.each<[string, (c: Json) => void, string]>([
     ["format tag", (c) => (c.format = "burstwise.circuit/2"), 'format: must be "burstwise.circuit/1"'],
     ["time unit", (c) => (c.units.time = "day"), 'units.time: must be "s", "min" or "h"'],
     ["amount unit", (c) => (c.units.amount = "mM"), 'units.amount: must be "nM", "uM" or "molecules"'],
@@ -105,7 +105,7 @@ describe("parseCircuit", () => {
   });
 
   it("accepts every allowed formula element", () => {
-    const c = good() as Doc & Any;
+    const c = good();
     c.reactions[0].rate = { law: "expression", expression: "vA * exp(-C/K) + log(1 + A) - sqrt(B) * min(A, B, 3) / max(1, pow(C, 2)) + (-K)^2 * 0" };
     expect(() => parseCircuit(c)).not.toThrow();
   });
