@@ -19,6 +19,8 @@ const EnvSchema = z.object({
   WORKER_HEARTBEAT_S: z.coerce.number().int().min(10).max(3600).default(10),
   /** How often pg-boss's supervisor looks for such chunks. */
   WORKER_SUPERVISE_S: z.coerce.number().int().min(1).max(3600).default(5),
+  /** How often the worker looks for finished runs whose e-mails were never sent (a crash). */
+  NOTIFY_SWEEP_S: z.coerce.number().int().min(1).max(3600).default(30),
 });
 
 export type Env = z.infer<typeof EnvSchema>;

@@ -1,7 +1,7 @@
 // `npm start`: set everything up on first run, then serve the web app and one worker.
 import {
   ensureNodeModules, ensureLocalCluster, ensureDatabase, localUrl, localSecret, migrate, seedDemo,
-  ensureBuild, startChild, stopChild, stopLocalCluster, log,
+  ensureBuild, startChild, stopChild, stopLocalCluster, log, startMailFake,
 } from "./lib/bootstrap.mjs";
 
 const port = Number(process.env.PORT ?? 3000);
@@ -26,6 +26,19 @@ const url = process.env.NEXTAUTH_URL ?? `http://${host}:${port}`;
 const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: process.env.NEXTAUTH_SECRET ?? localSecret(), NEXTAUTH_URL: url, NODE_ENV: "production" };
 
 let stopping = false;
+// Without a real SMTP server (SMTP_URL), e-mail goes to the local mail fake, read at /dev/mail.
+let mail;
+if (process.env.SMTP_URL) {
+  log("SMTP_URL is set: e-mail goes to that server, no mail fake is started");
+} else {
+  const mailPort = Number(process.env.MAIL_FAKE_PORT ?? 2525);
+  try {
+    mail = await startMailFake(databaseUrl, mailPort);
+    Object.assign(env, mail.env);
+  } catch (e) {
+    log(`${e.message}; continuing without e-mail`);
+  }
+}
 const web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", host, "-p", String(port)], env);
 web.on("exit", (code) => {
   if (!stopping) { log(`web app exited (${code}); stopping`); shutdown(1); }
@@ -54,13 +67,14 @@ log(`ready in ${((Date.now() - started) / 1000).toFixed(1)} s`);
 log(`Burstwise is at ${url}`);
 log("Demo sign-ins (demo credentials, password sentinel-demo):");
 log("  owner@sentinel.example · modeler@sentinel.example · reviewer@sentinel.example");
-log("Ctrl-C stops the app, the worker and the local PostgreSQL.");
+if (mail) log(`E-mail goes to the local mail fake (127.0.0.1:${mail.env.SMTP_URL.split(":").pop()}); read it at ${url}/dev/mail`);
+log("Ctrl-C stops the app, the worker, the mail fake and the local PostgreSQL.");
 
 async function shutdown(code = 0) {
   if (stopping) return;
   stopping = true;
   log("shutting down");
-  await Promise.all([stopChild(web), stopChild(worker, 20_000)]);
+  await Promise.all([stopChild(web), stopChild(worker, 20_000), stopChild(mail?.child)]);
   if (startedPg) stopLocalCluster();
   process.exit(code);
 }

@@ -3,7 +3,7 @@
 import { spawnSync } from "node:child_process";
 import {
   ensureNodeModules, ensureLocalCluster, ensureChromium, ensureDebianPackages, ensureDatabase, dropDatabase, localUrl, migrate,
-  seedDemo, ensureBuild, startChild, stopChild, stopLocalCluster, log, ROOT,
+  seedDemo, ensureBuild, startChild, stopChild, stopLocalCluster, log, ROOT, freePort, startMailFake,
 } from "./lib/bootstrap.mjs";
 
 const started = Date.now();
@@ -19,13 +19,16 @@ const dbName = `burstwise_test_${process.pid}`;
 ensureDatabase(dbName);
 const databaseUrl = localUrl(dbName);
 let web;
+let mail;
 let code = 1;
 try {
   migrate(databaseUrl);
   seedDemo(databaseUrl);
   ensureBuild();
   const baseUrl = `http://127.0.0.1:${port}`;
-  const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: "test-secret-not-for-production", NEXTAUTH_URL: baseUrl, NODE_ENV: "production" };
+  // The mail fake on a spare port (side-by-side test runs must not share an inbox).
+  mail = await startMailFake(databaseUrl, Number(process.env.MAIL_FAKE_PORT ?? (await freePort())));
+  const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: "test-secret-not-for-production", NEXTAUTH_URL: baseUrl, NODE_ENV: "production", ...mail.env };
   web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], env);
   await waitForHttp(`${baseUrl}/api/health`, 60_000);
   log(`suites starting (${((Date.now() - started) / 1000).toFixed(0)} s of setup)`);
@@ -37,7 +40,7 @@ try {
 } catch (e) {
   console.error(`[burstwise] test setup failed: ${e.message}`);
 } finally {
-  await stopChild(web);
+  await Promise.all([stopChild(web), stopChild(mail?.child)]);
   try { dropDatabase(dbName); } catch (e) { log(`could not drop ${dbName}: ${e.message}`); }
   if (startedPg) stopLocalCluster();
 }

@@ -1,4 +1,5 @@
 import type { RunRow } from "../lib/data/runs";
+import { afterRunFinished } from "./notify";
 
 /**
  * Called once when a run reaches a final state (succeeded, failed or cancelled by the worker).
@@ -6,4 +7,10 @@ import type { RunRow } from "../lib/data/runs";
  */
 export async function onRunFinished(run: Pick<RunRow, "id" | "labId" | "status" | "error" | "createdBy">): Promise<void> {
   console.log(`run ${run.id} ${run.status}${run.error ? `: ${run.error}` : ""}`);
+  // The run's result is stored whatever happens here; what is missed, the sweep catches up on.
+  try {
+    await afterRunFinished(run.id);
+  } catch (e) {
+    console.error(`[notify] run ${run.id}:`, e);
+  }
 }

@@ -9,6 +9,7 @@ import { Piscina } from "piscina";
 import { closeDb } from "../db/client";
 import { env } from "../lib/env";
 import { createBoss, ensureQueues, Queues } from "../lib/jobs";
+import { startNotifySweep } from "./notify";
 import { handleChunk, handleFinalize } from "./runs";
 import type { ChunkResult, ChunkTask } from "./tasks/cells";
 
@@ -29,6 +30,7 @@ await boss.work(Queues.runChunk, { batchSize: 1, localConcurrency: concurrency, 
   async ([job]) => handleChunk(job!, { pool, send }));
 await boss.work(Queues.runFinalize, { batchSize: 1, localConcurrency: 1, pollingIntervalSeconds: 0.5, includeMetadata: true },
   async ([job]) => handleFinalize(job!));
+const stopSweep = startNotifySweep();
 console.log(`worker ready (pid ${process.pid}, ${concurrency} concurrent chunks)`);
 
 let stopping = false;
@@ -37,6 +39,7 @@ async function shutdown(signal: string) {
   stopping = true;
   console.log(`worker: ${signal}, finishing the chunks in hand`);
   // Graceful: stop fetching, let running chunks finish (or, after the timeout, hand them back).
+  stopSweep();
   await boss.stop({ graceful: true, timeout: 30_000 });
   await pool.destroy();
   await closeDb();

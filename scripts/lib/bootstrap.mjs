@@ -6,6 +6,7 @@ import { existsSync, mkdirSync, readFileSync, writeFileSync, readdirSync, statSy
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { userInfo } from "node:os";
+import { createServer, connect } from "node:net";
 
 export const ROOT = resolve(dirname(fileURLToPath(import.meta.url)), "..", "..");
 export const LOCAL = join(ROOT, ".local");
@@ -287,4 +288,37 @@ export function stopChild(child, graceMs = 10_000) {
 
 export function currentUser() {
   return userInfo().username;
+}
+
+/** A TCP port on 127.0.0.1 that nothing listens on right now. */
+export function freePort() {
+  return new Promise((resolvePort, reject) => {
+    const srv = createServer();
+    srv.once("error", reject);
+    srv.listen(0, "127.0.0.1", () => {
+      const { port } = srv.address();
+      srv.close(() => resolvePort(port));
+    });
+  });
+}
+
+/**
+ * Starts the local mail fake (scripts/mail-fake.ts) on 127.0.0.1:`port`, storing messages in
+ * `databaseUrl`, and waits until it accepts connections. Returns the child and the env the
+ * app and worker need to send through it.
+ */
+export async function startMailFake(databaseUrl, port) {
+  const child = startChild("mail", process.execPath, ["--import", "tsx", "scripts/mail-fake.ts", "--port", String(port)], { DATABASE_URL: databaseUrl });
+  const until = Date.now() + 30_000;
+  while (Date.now() < until) {
+    if (child.exitCode !== null) throw new Error(`the mail fake exited (${child.exitCode}); is port ${port} taken? Set MAIL_FAKE_PORT`);
+    const ok = await new Promise((r) => {
+      const s = connect(port, "127.0.0.1", () => { s.end(); r(true); });
+      s.once("error", () => r(false));
+    });
+    if (ok) return { child, env: { SMTP_URL: `smtp://127.0.0.1:${port}`, MAIL_FAKE: "1" } };
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  await stopChild(child);
+  throw new Error(`the mail fake did not listen on 127.0.0.1:${port} within 30 s`);
 }
