@@ -17,7 +17,7 @@ export const AUDIT_ACTIONS = {
   "dataset.uploaded": "uploaded dataset",
   "dataset.deleted": "deleted dataset",
   "invitation.sent": "invited",
-  "invitation.accepted": "accepted the invitation of",
+  "invitation.accepted": "accepted an invitation",
   "invitation.revoked": "revoked the invitation of",
   "member.added": "added member",
   "member.role_changed": "changed the role of",
@@ -75,6 +75,7 @@ export function describeAuditEvent(e: Pick<AuditEventJson, "action" | "actor" | 
   else if (e.action === "run.finished") extra = `: ${String(d.status)}${d.error ? ` (${String(d.error)})` : ""}`;
   else if (e.action === "invitation.sent" || e.action === "member.added") extra = ` as ${String(d.role)}`;
   else if (e.action === "circuit.version_saved") extra = ` as version ${String(d.number)}`;
+  else if (e.action === "invitation.accepted") return `${who} accepted the invitation and joined as ${String(d.role)}${d.account_created ? " (new account)" : ""}`;
   else if (e.action === "lab.renamed") return `${who} renamed the lab from "${String(d.from)}" to "${String(d.to)}"`;
   return `${who} ${verb} ${name}${extra}`.replace(/\s+/g, " ").trim();
 }

@@ -2,6 +2,7 @@ import { badRequest, HttpError } from "@/lib/http";
 import { formatBytes } from "@/lib/datasets";
 
 const FORM_OVERHEAD = 64 * 1024; // multipart boundaries, headers and the text fields
+const DRAIN_CAP = 64 * 1024 * 1024; // bytes of an oversized streamed body read and discarded at most
 
 const tooLarge = (field: string, maxBytes: number, got: number) =>
   new HttpError(413, `${field}: larger than ${formatBytes(maxBytes)} (the upload is ${formatBytes(got)}); split the file or thin it out`);
@@ -30,7 +31,17 @@ export async function readUpload(req: Request, maxFileBytes: number, fileField =
       if (done) break;
       total += value.byteLength;
       if (total > limit) {
-        await reader.cancel().catch(() => undefined);
+        // Read the rest and drop it (up to a cap), so the client gets the 413 on a healthy
+        // connection instead of a reset; past the cap the connection is cut.
+        for (;;) {
+          const next = await reader.read();
+          if (next.done) break;
+          total += next.value.byteLength;
+          if (total > DRAIN_CAP) {
+            await reader.cancel().catch(() => undefined);
+            break;
+          }
+        }
         throw tooLarge(fileField, maxFileBytes, total);
       }
       chunks.push(value);

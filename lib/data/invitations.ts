@@ -131,10 +131,11 @@ async function lockOpen(trx: Knex.Transaction, token: string) {
 export async function acceptInvitation(token: string, user: Actor | null, input: InvitationAccept): Promise<{ labId: string; userId: string; role: Role; accountCreated: boolean; alreadyMember: boolean }> {
   let passwordHash: string | null = null;
   if (!user) {
+    // Check the token first (a dead link says so, whatever the form holds), before spending
+    // ~250 ms on bcrypt, and again under the lock below.
+    await db.transaction((trx) => lockOpen(trx, token));
     if (!input.name) throw unprocessable("name: is required to create your account");
     if (!input.password) throw unprocessable("password: is required to create your account");
-    // Check the token before spending ~250 ms on bcrypt, and again under the lock below.
-    await db.transaction((trx) => lockOpen(trx, token));
     passwordHash = await hashPassword(input.password);
   }
   return db.transaction(async (trx) => {

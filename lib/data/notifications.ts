@@ -71,3 +71,11 @@ export async function listUnnotifiedRuns(minAgeS: number, maxAgeS: number, limit
     .orderBy("r.finishedAt").limit(limit).select("r.id");
   return rows.map((r: { id: string }) => String(r.id));
 }
+
+export interface FakeMessage { id: string; mailFrom: string | null; rcptTo: string[]; subject: string | null; textBody: string | null; receivedAt: Date }
+
+/** The local mail fake's messages, newest first (development and tests). */
+export async function listFakeMail(limit = 100): Promise<FakeMessage[]> {
+  const rows = await db("mail_fake_messages").orderBy("id", "desc").limit(limit).select("id", "mailFrom", "rcptTo", "subject", "textBody", "receivedAt");
+  return rows.map((r: FakeMessage) => ({ ...r, id: String(r.id), receivedAt: new Date(r.receivedAt) }));
+}

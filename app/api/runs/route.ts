@@ -1,6 +1,7 @@
 import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
-import { listRuns } from "@/lib/data/runs";
+import { recordAudit } from "@/lib/data/audit";
+import { getRun, listRuns } from "@/lib/data/runs";
 import { handle, readJson } from "@/lib/http";
 import { createRun, runToJson } from "@/lib/runs";
 import { RunCreate, RunListQuery } from "@/lib/schemas/runs";
@@ -9,6 +10,13 @@ export const POST = handle("POST /api/runs", async (req) => {
   const user = await requireUser(req);
   const body = RunCreate.parse(await readJson(req, 256 * 1024));
   const run = await createRun(user.id, body);
+  const row = await getRun(run.id);
+  if (row) {
+    await recordAudit({
+      labId: row.labId, actor: user, action: "run.launched", target: { type: "run", id: run.id },
+      details: { circuit: row.circuitName, version_number: row.versionNumber, version_id: row.versionId, method: row.method, runs: row.settings.runs, seed: run.seed },
+    });
+  }
   return Response.json(run, { status: 202 });
 });
 

@@ -1,4 +1,5 @@
 import { requireUser } from "@/lib/auth/session";
+import { recordAudit } from "@/lib/data/audit";
 import { cancelRun, getRun } from "@/lib/data/runs";
 import { conflict, handle } from "@/lib/http";
 import { requireRun, runToJson } from "@/lib/runs";
@@ -7,5 +8,6 @@ export const POST = handle("POST /api/runs/:id/cancel", async (req, ctx: { param
   const user = await requireUser(req);
   const run = await requireRun(user.id, (await ctx.params).id, "run:cancel");
   if (!(await cancelRun(run.id))) throw conflict(`status: the run is already ${run.status}`);
+  await recordAudit({ labId: run.labId, actor: user, action: "run.cancelled", target: { type: "run", id: run.id }, details: { circuit: run.circuitName, version_number: run.versionNumber } });
   return Response.json(runToJson((await getRun(run.id))!));
 });
