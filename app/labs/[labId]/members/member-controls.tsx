@@ -60,7 +60,9 @@ export function MemberControls({ labId, canManage, selfId, members }: MemberCont
         </tbody>
       </table>
       {canManage && (
-        <form className="flex flex-wrap items-end gap-3" onSubmit={(e) => {
+        <details className="text-sm">
+        <summary className="cursor-pointer text-ink-soft">Add someone who already has an account, without an invitation</summary>
+        <form className="mt-2 flex flex-wrap items-end gap-3" onSubmit={(e) => {
           e.preventDefault();
           const f = new FormData(e.currentTarget);
           void act(send(`/api/labs/${labId}/members`, "POST", { email: f.get("email"), role: f.get("role") }));
@@ -75,6 +77,7 @@ export function MemberControls({ labId, canManage, selfId, members }: MemberCont
           </label>
           <button type="submit" className="rounded-md bg-ochre px-3 py-1.5 font-medium text-white hover:bg-ochre-dark">Add member</button>
         </form>
+        </details>
       )}
     </div>
   );
