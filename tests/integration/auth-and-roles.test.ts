@@ -10,12 +10,26 @@ type Role = "owner" | "modeler" | "reviewer";
 interface Ctx {
   labId: string; reviewerId: string; circuitId: string; versionId: string;
   spareEmail: () => Promise<string>; disposableCircuit: () => Promise<string>; disposableRun: (keepQueued?: boolean) => Promise<string>;
+  datasetId: string; disposableDataset: () => Promise<string>; disposableInvitation: () => Promise<string>; disposableMember: () => Promise<string>;
 }
 interface RouteCase { name: string; method: string; path: (c: Ctx) => string | Promise<string>; body?: (c: Ctx) => Promise<unknown> | unknown; allowed: Role[] }
 
 const ringTimer = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
 let serial = 0;
 const uniqueCircuit = (vA = 40) => ({ ...ringTimer, name: `Ring ${++serial}-${Date.now()}`, parameters: { ...ringTimer.parameters, vA } });
+/** A multipart dataset upload (a small snapshot) under a fresh name. */
+const datasetForm = (labId: string) => {
+  const f = new FormData();
+  for (const [k, v] of Object.entries({ lab_id: labId, kind: "snapshot", name: `Plate ${++serial}-${Date.now()}`, amount_unit: "a.u.", molecules_per_unit: "2" })) f.set(k, v);
+  f.set("file", new Blob(["gfp\n10\n12\n9\n"], { type: "text/csv" }), "plate.csv");
+  return f;
+};
+const circuitFileForm = (labId: string) => {
+  const f = new FormData();
+  f.set("lab_id", labId);
+  f.set("file", new Blob([JSON.stringify(uniqueCircuit())], { type: "application/json" }), "ring.circuit.json");
+  return f;
+};
 
 /**
  * Every lab-scoped route, with the roles that may call it. Later routes join this table;
@@ -40,6 +54,18 @@ export const LAB_ROUTES: RouteCase[] = [
   { name: "read a run", method: "GET", path: async (c) => `/api/runs/${await c.disposableRun()}`, allowed: ["owner", "modeler", "reviewer"] },
   { name: "cancel a run", method: "POST", path: async (c) => `/api/runs/${await c.disposableRun(true)}/cancel`, allowed: ["owner", "modeler"] },
   { name: "delete a run", method: "DELETE", path: async (c) => `/api/runs/${await c.disposableRun()}`, allowed: ["owner"] },
+  { name: "remove a member", method: "DELETE", path: async (c) => `/api/labs/${c.labId}/members/${await c.disposableMember()}`, allowed: ["owner"] },
+  { name: "list datasets", method: "GET", path: (c) => `/api/datasets?lab_id=${c.labId}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "upload a dataset", method: "POST", path: () => "/api/datasets", body: (c) => datasetForm(c.labId), allowed: ["owner", "modeler"] },
+  { name: "read a dataset", method: "GET", path: (c) => `/api/datasets/${c.datasetId}?values=1`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "download a dataset", method: "GET", path: (c) => `/api/datasets/${c.datasetId}/file`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "delete a dataset", method: "DELETE", path: async (c) => `/api/datasets/${await c.disposableDataset()}`, allowed: ["owner"] },
+  { name: "import a circuit file", method: "POST", path: () => "/api/circuits/upload", body: (c) => circuitFileForm(c.labId), allowed: ["owner", "modeler"] },
+  { name: "list invitations", method: "GET", path: (c) => `/api/labs/${c.labId}/invitations`, allowed: ["owner"] },
+  { name: "invite by e-mail", method: "POST", path: (c) => `/api/labs/${c.labId}/invitations`, body: () => ({ email: `invitee-${++serial}-${Date.now()}@test.example`, role: "reviewer" }), allowed: ["owner"] },
+  { name: "withdraw an invitation", method: "DELETE", path: async (c) => `/api/labs/${c.labId}/invitations/${await c.disposableInvitation()}`, allowed: ["owner"] },
+  { name: "read the audit trail", method: "GET", path: (c) => `/api/labs/${c.labId}/audit?action=run`, allowed: ["owner"] },
+  { name: "set my run e-mails", method: "PUT", path: () => "/api/me/notifications", body: (c) => ({ lab_id: c.labId, runs: "mine" }), allowed: ["owner", "modeler", "reviewer"] },
 ];
 
 let db: Knex;
@@ -64,7 +90,17 @@ beforeAll(async () => {
   members.reviewer = reviewer.client;
   const created = await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: ringTimer });
   expect(created.status, created.text).toBe(201);
+  const dataset = await owner.client.request("POST", "/api/datasets", datasetForm(owner.labId));
+  expect(dataset.status, dataset.text).toBe(201);
   ctx = {
+    datasetId: dataset.json.id,
+    disposableDataset: async () => (await owner.client.request("POST", "/api/datasets", datasetForm(owner.labId))).json.id,
+    disposableInvitation: async () => (await owner.client.request("POST", `/api/labs/${owner.labId}/invitations`, { email: `gone-${++serial}-${Date.now()}@test.example`, role: "modeler" })).json.id,
+    disposableMember: async () => {
+      const spare = await newUser("leaver");
+      await owner.client.request("POST", `/api/labs/${owner.labId}/members`, { email: spare.email, role: "reviewer" });
+      return spare.userId;
+    },
     labId: owner.labId, reviewerId: reviewer.userId, circuitId: created.json.id, versionId: created.json.version_id,
     spareEmail: async () => (await newUser("spare")).email,
     disposableCircuit: async () => (await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: uniqueCircuit() })).json.id,

@@ -15,13 +15,21 @@ export class Client {
     const headers: Record<string, string> = {};
     if (this.cookies.size) headers.cookie = [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ");
     if (this.bearer) headers.authorization = `Bearer ${this.bearer}`;
-    if (body !== undefined || raw !== undefined) headers["content-type"] = "application/json";
-    const res = await fetch(this.baseUrl + path, { method, headers, body: raw ?? (body === undefined ? undefined : JSON.stringify(body)), redirect: "manual" });
+    // A FormData body goes as multipart/form-data (fetch sets the boundary); anything else as JSON.
+    const isForm = body instanceof FormData;
+    if ((body !== undefined && !isForm) || raw !== undefined) headers["content-type"] = "application/json";
+    const payload = raw ?? (body === undefined ? undefined : isForm ? body : JSON.stringify(body));
+    const res = await fetch(this.baseUrl + path, { method, headers, body: payload, redirect: "manual" });
     this.keepCookies(res);
     const text = await res.text();
     let json: any = null;
     try { json = JSON.parse(text); } catch { /* not JSON */ }
     return { status: res.status, json, text };
+  }
+
+  /** The Cookie header this client sends (for raw fetches, e.g. reading a download's bytes). */
+  cookieHeader(): string {
+    return [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ");
   }
 
   private keepCookies(res: Response) {
