@@ -136,11 +136,13 @@ export function powNonNeg(x: number, n: number): number {
  * Hill functions in ratio form, r = (x/K)^n: h⁺ = r/(1+r), h⁻ = 1/(1+r) = 1 − h⁺ (Hill 1910).
  * The ratio form never overflows to ∞/∞ for large x or n.
  */
+/** h⁺(x) = xⁿ/(Kⁿ + xⁿ), for x ≥ 0 and K > 0 in the same units. */
 export function hillActivation(x: number, K: number, n: number): number {
   const r = powNonNeg(x / K, n);
   return r === Infinity ? 1 : r / (1 + r);
 }
 
+/** h⁻(x) = Kⁿ/(Kⁿ + xⁿ) = 1/(1 + (x/K)ⁿ), for x ≥ 0 and K > 0 in the same units. */
 export function hillRepression(x: number, K: number, n: number): number {
   const r = powNonNeg(x / K, n);
   return 1 / (1 + r);

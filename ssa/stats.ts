@@ -436,6 +436,7 @@ export function equalWidthHistogram(values: Float64Array): { edges: number[]; co
   return { edges, counts };
 }
 
+/** Mean and sample SD (n − 1; 0 for one value, NaN for none), summed in array order. */
 export function meanSd(values: Float64Array): { mean: number; sd: number } {
   const n = values.length;
   if (n === 0) return { mean: NaN, sd: NaN };

@@ -57,6 +57,7 @@ export async function runTrajectoryLazily(circuit: Circuit, o: RunOptions & { se
   return trajectoryOf(await compileModelLazily(circuit, o.overrides), o);
 }
 
+/** The trajectory of cell `o.index` for a compiled model. @throws RangeError for method "ode" or a bad index. */
 export function trajectoryOf(model: Model, o: RunOptions & { seed: number; index: number }): TrajectoryResult {
   if (o.method === "ode") throw new RangeError(`method must be "ssa" or "tau" for a trajectory`);
   return trajectory(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.index, o.units ?? "molecules");
