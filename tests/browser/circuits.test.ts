@@ -123,6 +123,23 @@ describe("circuits as the demo modeler", () => {
     expect(await page.getByRole("status").filter({ hasText: "No change" }).textContent()).toContain("identical to version 2");
   });
 
+  it("the raw JSON view edits the same draft, reports a syntax error and returns to the form only when readable", async () => {
+    await page.getByRole("button", { name: "Raw JSON" }).click();
+    const raw = page.getByLabel("Circuit file (burstwise.circuit/1)");
+    const text = await raw.inputValue();
+    expect(text).toContain('"n": 2');
+    await raw.fill(`${text.replace('"n": 2', '"n": 3')}}`);
+    expect(await page.getByTestId("json-issues").textContent()).toMatch(/^JSON: /);
+    await page.getByRole("button", { name: "Form", exact: true }).click();
+    await page.getByRole("alert").filter({ hasText: "Fix the JSON first" }).waitFor();
+    await raw.fill(text.replace('"n": 2', '"n": 3'));
+    expect(await page.getByTestId("json-issues").count()).toBe(0);
+    await page.getByRole("button", { name: "Form", exact: true }).click();
+    expect(await page.getByLabel("Value of n", { exact: true }).inputValue()).toBe("3");
+    await page.getByRole("button", { name: "Discard changes" }).click();
+    expect(await page.getByLabel("Value of n", { exact: true }).inputValue()).toBe("2");
+  });
+
   it("the history lists both versions with who and the message, and the diff names the changed parameter", async () => {
     await page.getByRole("navigation", { name: "Circuit views" }).getByRole("link", { name: "Versions" }).click();
     await page.getByRole("heading", { name: "History" }).waitFor();
