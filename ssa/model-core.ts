@@ -133,16 +133,15 @@ export function powNonNeg(x: number, n: number): number {
 }
 
 /**
- * Hill functions in ratio form, r = (x/K)^n: h⁺ = r/(1+r), h⁻ = 1/(1+r) = 1 − h⁺ (Hill 1910).
- * The ratio form never overflows to ∞/∞ for large x or n.
+ * h⁺(x) = xⁿ/(Kⁿ + xⁿ) for x ≥ 0 and K > 0 in the same units (Hill 1910), computed in ratio form
+ * r = (x/K)ⁿ, h⁺ = r/(1 + r), which never overflows to ∞/∞ for large x or n.
  */
-/** h⁺(x) = xⁿ/(Kⁿ + xⁿ), for x ≥ 0 and K > 0 in the same units. */
 export function hillActivation(x: number, K: number, n: number): number {
   const r = powNonNeg(x / K, n);
   return r === Infinity ? 1 : r / (1 + r);
 }
 
-/** h⁻(x) = Kⁿ/(Kⁿ + xⁿ) = 1/(1 + (x/K)ⁿ), for x ≥ 0 and K > 0 in the same units. */
+/** h⁻(x) = Kⁿ/(Kⁿ + xⁿ) = 1/(1 + (x/K)ⁿ) = 1 − h⁺(x), for x ≥ 0 and K > 0 in the same units. */
 export function hillRepression(x: number, K: number, n: number): number {
   const r = powNonNeg(x / K, n);
   return 1 / (1 + r);
