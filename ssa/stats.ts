@@ -386,6 +386,11 @@ export interface SimulateSummary {
   final: Record<string, SpeciesMoments>;
   stationary: Record<string, SpeciesMoments>;
   period: Record<string, PeriodSummary>;
+  /**
+   * The pooled distribution behind `stationary`: every distinct amount seen after burn-in (in
+   * the output units) with how many (cell, grid time) samples had it, ascending.
+   */
+  stationary_distribution?: Record<string, { values: number[]; counts: number[] }>;
   events: number;
   wall_s: number;
   events_per_s: number;
@@ -474,6 +479,7 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
   const quantiles: SimulateSummary["quantiles"] = {};
   const final: Record<string, SpeciesMoments> = {};
   const stationary: Record<string, SpeciesMoments> = {};
+  const distribution: Record<string, { values: number[]; counts: number[] }> = {};
   const period: Record<string, PeriodSummary> = {};
   o.species.forEach((id, i) => {
     const m: number[] = [];
@@ -497,6 +503,10 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
     quantiles[id] = q;
     final[id] = momentsOut(sparseMoments([point(nT - 1, i)]), scale);
     stationary[id] = momentsOut(sparseMoments(pooled), scale);
+    const tally = new Map<number, number>();
+    for (const pt of pooled) for (let k = 0; k < pt.values.length; k++) tally.set(pt.values[k], (tally.get(pt.values[k]) ?? 0) + pt.counts[k]);
+    const dv = Array.from(tally.keys()).sort((a, b) => a - b);
+    distribution[id] = { values: dv.map((v) => v / scale), counts: dv.map((v) => tally.get(v) as number) };
 
     let total = 0;
     let cells = 0;
@@ -528,6 +538,7 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
     final,
     stationary,
     period,
+    stationary_distribution: distribution,
     events: partial.events,
     wall_s: o.wallS,
     events_per_s: o.wallS > 0 ? partial.events / o.wallS : NaN,
