@@ -8,7 +8,7 @@
 import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type DirectKernel } from "./kernel";
 import type { Model } from "./model-core";
 import { cellRngState } from "./rng";
-import { PARTIAL_FORMAT, cellPeriods, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
+import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
 import { tauKernel } from "./tau";
 import { ModelInputError } from "./types";
 
@@ -112,6 +112,10 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
   const periods: number[][] = Array.from({ length: nS }, () => []);
   const amplitudes: number[][] = Array.from({ length: nS }, () => []);
   const cellPtr: number[][] = Array.from({ length: nS }, () => [0]);
+  // Per species, each cell's Σx and Σx² after burn-in, in cell order (the bootstrap over cells).
+  const sums = Array.from({ length: nS }, () => new Float64Array(last - first));
+  const sumSqs = Array.from({ length: nS }, () => new Float64Array(last - first));
+  const pair = new Float64Array(2);
   let events = 0;
 
   for (let start = first; start < last; start += B) {
@@ -127,6 +131,9 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
       for (let i = 0; i < nS; i++) {
         cellPeriods(out, i * B + b, nS * B, grid, gStart, nT, minBand, scratch, periods[i], amplitudes[i]);
         cellPtr[i].push(periods[i].length);
+        cellSampleSums(out, i * B + b, nS * B, gStart, nT, pair);
+        sums[i][cell - first] = pair[0];
+        sumSqs[i][cell - first] = pair[1];
       }
     }
     const h = histogramsOfBlock(out, nPoints, B, nb);
@@ -148,9 +155,12 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
           cellPtr: Float64Array.from(cellPtr[i]),
           periods: Float64Array.from(ps),
           amplitudes: Float64Array.from(amplitudes[i]),
+          sum: sums[i],
+          sumSq: sumSqs[i],
         })),
       },
     ],
+    cellSamples: nT - gStart,
   };
 }
 

@@ -15,6 +15,14 @@ export interface CellSeriesList {
   cellPtr: Float64Array;
   periods: Float64Array;
   amplitudes: Float64Array;
+  /**
+   * Per cell k, Σx and Σx² of its samples at grid times ≥ burn-in (the samples `stationary`
+   * pools; `Partial.cellSamples` of them per cell). Integer counts, so both are exact in float64
+   * while Σx² < 2^53 (e.g. counts up to 10^5 over 9 × 10^5 samples). Present when the partial
+   * came from simulateCells; the bootstrap over cells reads them (ssa/cell-stats.ts).
+   */
+  sum?: Float64Array;
+  sumSq?: Float64Array;
 }
 
 export interface PeriodSegment {
@@ -39,6 +47,8 @@ export interface Partial {
   histCounts: Float64Array;
   /** Cell ranges in ascending order, contiguous ranges joined. */
   segments: PeriodSegment[];
+  /** Samples per cell behind `CellSeriesList.sum` (grid times ≥ burn-in); absent without per-cell sums. */
+  cellSamples?: number;
 }
 
 /** Sparse histograms of every grid point in CSR form (see Partial). */
@@ -152,7 +162,13 @@ function joinSegments(a: PeriodSegment, b: PeriodSegment): PeriodSegment {
       const ptr = new Float64Array(sa.cellPtr.length + sb.cellPtr.length - 1);
       ptr.set(sa.cellPtr, 0);
       for (let k = 1; k < sb.cellPtr.length; k++) ptr[sa.cellPtr.length - 1 + k] = base + sb.cellPtr[k];
-      return { cellPtr: ptr, periods: concatF64(sa.periods, sb.periods), amplitudes: concatF64(sa.amplitudes, sb.amplitudes) };
+      const joined: CellSeriesList = { cellPtr: ptr, periods: concatF64(sa.periods, sb.periods), amplitudes: concatF64(sa.amplitudes, sb.amplitudes) };
+      // Per-cell sums survive a join only when both sides carry them (cell order is kept).
+      if (sa.sum && sb.sum && sa.sumSq && sb.sumSq) {
+        joined.sum = concatF64(sa.sum, sb.sum);
+        joined.sumSq = concatF64(sa.sumSq, sb.sumSq);
+      }
+      return joined;
     }),
   };
 }
@@ -173,7 +189,7 @@ export function mergePartials(a: Partial, b: Partial): Partial {
     if (prev && prev.last === s.first) segments[segments.length - 1] = joinSegments(prev, s);
     else segments.push(s);
   }
-  return {
+  const merged: Partial = {
     format: PARTIAL_FORMAT,
     nSpecies: a.nSpecies,
     nTimes: a.nTimes,
@@ -182,6 +198,8 @@ export function mergePartials(a: Partial, b: Partial): Partial {
     ...hist,
     segments,
   };
+  if (a.cellSamples !== undefined && a.cellSamples === b.cellSamples) merged.cellSamples = a.cellSamples;
+  return merged;
 }
 
 /** Sample quantile, linear interpolation between order statistics (Hyndman & Fan 1996, type 7; R's default). */
@@ -305,6 +323,23 @@ export function cellPeriods(
     prev = v;
   }
   return added;
+}
+
+/**
+ * Σx and Σx² of one cell's samples at grid points gStart … nTimes − 1 (y[offset + g·stride]),
+ * added in grid order. With integer counts both sums are exact, so they merge in any order.
+ * Writes them to out[0] and out[1].
+ */
+export function cellSampleSums(y: Float64Array, offset: number, stride: number, gStart: number, nTimes: number, out: Float64Array): void {
+  let s = 0;
+  let ss = 0;
+  for (let g = gStart; g < nTimes; g++) {
+    const v = y[offset + g * stride];
+    s += v;
+    ss += v * v;
+  }
+  out[0] = s;
+  out[1] = ss;
 }
 
 export interface SpeciesMoments {
