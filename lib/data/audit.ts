@@ -57,3 +57,9 @@ export async function listAuditActors(labId: string): Promise<string[]> {
   const rows = await db("audit_events").where({ labId }).distinct("actorEmail").orderBy("actorEmail");
   return rows.map((r: { actorEmail: string | null }) => r.actorEmail ?? "worker");
 }
+
+/** The id of the lab's newest event ("0" when none): changes whenever something is recorded. */
+export async function latestAuditEventId(labId: string): Promise<string> {
+  const row = await db("audit_events").where({ labId }).max<{ max: string | null }[]>("id as max");
+  return String(row[0]?.max ?? 0);
+}

@@ -44,7 +44,7 @@ describe("a full invitation in Chromium", () => {
     await form.getByRole("button", { name: "Send invitation" }).click();
     await page.getByRole("status").filter({ hasText: `Invitation e-mailed to ${inviteeEmail}.` }).waitFor();
     const pending = page.getByRole("table", { name: "Pending invitations" });
-    await pending.getByRole("cell", { name: inviteeEmail }).waitFor();
+    await pending.getByRole("cell", { name: inviteeEmail, exact: true }).waitFor();
     expect(await pending.getByRole("row").filter({ hasText: inviteeEmail }).textContent()).toContain("reviewer");
     await shot(page, "invite-01-owner-invited");
   });
@@ -111,9 +111,9 @@ describe("a full invitation in Chromium", () => {
 
   it("the owner sees the new member, the invitation gone from the waiting list, and the trail", async () => {
     await page.goto(`/labs/${owner.labId}/members`);
-    await page.getByRole("table", { name: "Lab members" }).getByRole("cell", { name: inviteeEmail }).waitFor();
+    await page.getByRole("table", { name: "Lab members" }).getByRole("cell", { name: inviteeEmail, exact: true }).waitFor();
     expect(await page.getByRole("combobox", { name: `Role of ${inviteeEmail}` }).inputValue()).toBe("reviewer");
-    expect(await page.getByRole("table", { name: "Pending invitations" }).getByRole("cell", { name: inviteeEmail }).count()).toBe(0);
+    expect(await page.getByRole("table", { name: "Pending invitations" }).getByRole("cell", { name: inviteeEmail, exact: true }).count()).toBe(0);
     const trail = page.getByRole("table", { name: "Audit trail" });
     await trail.getByRole("row").filter({ hasText: "invitation.accepted" }).waitFor();
     expect(await trail.getByRole("row").filter({ hasText: "invitation.accepted" }).textContent()).toContain(`${inviteeEmail} accepted the invitation and joined as reviewer (new account)`);

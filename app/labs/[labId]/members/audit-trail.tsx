@@ -1,6 +1,6 @@
 "use client";
 
-import { useState } from "react";
+import { useEffect, useRef, useState } from "react";
 import useSWRInfinite from "swr/infinite";
 
 import { AUDIT_ACTION_NAMES, AUDIT_ACTIONS, AUDIT_SUBJECTS, describeAuditEvent, type AuditEventJson } from "@/lib/audit";
@@ -15,13 +15,23 @@ async function fetchPage(url: string): Promise<Page> {
   return data;
 }
 
-/** The lab's audit trail with filters by action, actor and dates (owners). */
-export function AuditTrail({ labId, actors }: { labId: string; actors: string[] }) {
+/**
+ * The lab's audit trail with filters by action, actor and dates (owners). `revision` is the
+ * newest event's id as the server saw it: when an action on the page refreshes the server
+ * render, the trail fetches again.
+ */
+export function AuditTrail({ labId, actors, revision }: { labId: string; actors: string[]; revision: string }) {
   const [filters, setFilters] = useState({ action: "", actor: "", from: "", to: "" });
   const query = new URLSearchParams(Object.entries(filters).filter(([, v]) => v));
-  const { data, error, size, setSize, isLoading } = useSWRInfinite<Page>(
+  const { data, error, size, setSize, isLoading, mutate } = useSWRInfinite<Page>(
     (i) => `/api/labs/${labId}/audit?${query.toString()}${query.size ? "&" : ""}limit=${PAGE}&offset=${i * PAGE}`, fetchPage,
   );
+  const seen = useRef(revision);
+  useEffect(() => {
+    if (seen.current === revision) return;
+    seen.current = revision;
+    void mutate();
+  }, [revision, mutate]);
   const events = data?.flatMap((p) => p.events) ?? [];
   const total = data?.[0]?.total ?? 0;
   const set = (k: keyof typeof filters) => (e: React.ChangeEvent<HTMLInputElement | HTMLSelectElement>) => setFilters({ ...filters, [k]: e.target.value });

@@ -2,7 +2,7 @@ import type { Metadata } from "next";
 
 import { may } from "@/lib/access";
 import { requirePageUser } from "@/lib/auth/page";
-import { listAuditActors } from "@/lib/data/audit";
+import { latestAuditEventId, listAuditActors } from "@/lib/data/audit";
 import { invitationState, listOpenInvitations } from "@/lib/data/invitations";
 import { getLab, listMembers } from "@/lib/data/labs";
 import { listNotificationSettings } from "@/lib/data/notifications";
@@ -38,9 +38,9 @@ export default async function LabMembersPage({ params }: { params: Promise<{ lab
   const role = user.labs.find((l) => l.id === labId)!.role;
   const canManage = may(role, "lab:manage");
   const canAudit = may(role, "audit:read");
-  const [lab, members, pending, settings, actors] = await Promise.all([
+  const [lab, members, pending, settings, actors, revision] = await Promise.all([
     getLab(labId), listMembers(labId), canManage ? listOpenInvitations(labId) : [], listNotificationSettings(user.id),
-    canAudit ? listAuditActors(labId) : [],
+    canAudit ? listAuditActors(labId) : [], canAudit ? latestAuditEventId(labId) : "0",
   ]);
   const mine = settings.find((s) => s.labId === labId)?.runs ?? "off";
   return (
@@ -69,7 +69,7 @@ export default async function LabMembersPage({ params }: { params: Promise<{ lab
       </Section>
       {canAudit && (
         <Section title="Audit trail" id="audit" note="Who created, changed, ran, cancelled, deleted, uploaded or invited, and when. Only owners see it.">
-          <AuditTrail labId={labId} actors={actors} />
+          <AuditTrail labId={labId} actors={actors} revision={revision} />
         </Section>
       )}
     </div>

@@ -13,6 +13,8 @@ import { DeleteDatasetButton } from "../upload-forms";
 
 export const metadata: Metadata = { title: "Dataset" };
 
+/** A full stop after text that may already end in one (a unit such as "a.u."). */
+const endSentence = (s: string) => (s.endsWith(".") ? s : `${s}.`);
 const fmt = (x: number | null, digits = 4) => (x == null ? "—" : Number(x.toPrecision(digits)).toLocaleString("en", { maximumFractionDigits: 6 }));
 
 export default async function DatasetPage({ params, searchParams }: { params: Promise<{ labId: string; datasetId: string }>; searchParams: Promise<{ column?: string }> }) {
@@ -35,7 +37,7 @@ export default async function DatasetPage({ params, searchParams }: { params: Pr
         <h1 className="mt-1 text-2xl font-semibold">{meta.name}</h1>
         <p className="mt-1 text-ink-soft">
           {meta.kind === "series" ? `Time series: ${meta.rows} time points, time in ${u.time_unit}` : `Single-cell snapshot: ${meta.rows} cells`}
-          {"; "}amounts in {u.amount_unit}{u.molecules_per_unit !== 1 || !/^molecules?$/i.test(u.amount_unit) ? `, ${u.molecules_per_unit} molecules per ${u.amount_unit}` : ""}.
+          {"; "}{endSentence(`amounts in ${u.amount_unit}${u.molecules_per_unit !== 1 || !/^molecules?$/i.test(u.amount_unit) ? `, ${u.molecules_per_unit} molecules per ${u.amount_unit}` : ""}`)}
           {" "}Uploaded by {meta.created_by ?? "a former member"} on {meta.created_at.slice(0, 16).replace("T", " ")} UTC.
         </p>
         {meta.description && <p className="mt-1 text-sm">{meta.description}</p>}
@@ -57,7 +59,7 @@ export default async function DatasetPage({ params, searchParams }: { params: Pr
       <section className="flex flex-col gap-2">
         <h2 className="text-lg font-semibold">Measured spread (molecules)</h2>
         <p className="text-sm text-ink-soft">
-          Values × {u.molecules_per_unit} molecules per {u.amount_unit}. {meta.kind === "series"
+          {endSentence(`Values × ${u.molecules_per_unit} molecules per ${u.amount_unit}`)} {meta.kind === "series"
             ? "For a time series the statistics are over its time points (a single cell's fluctuation in time, or a population mean's drift)."
             : "Across cells: mean, sample SD (n − 1), CV = SD/mean and Fano factor = variance/mean, the same definitions as a run's noise table."}
         </p>
