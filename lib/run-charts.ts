@@ -126,10 +126,11 @@ export function replaySpec(cell: CellJson, units: { time: string; amount: string
 export function histogramSpec(h: { edges: number[]; counts: number[] }, o: { title: string; subtitle?: string; xTitle: string; what: string; mean?: number | null }): VisualizationSpec {
   const bars = h.counts.map((count, b) => ({ x0: h.edges[b], x1: h.edges[b + 1], count, layer: o.what }));
   const barLayer = {
-    data: { values: bars }, mark: { type: "bar" as const, binSpacing: 1, stroke: "#ffffff", strokeWidth: 0.5 },
+    // A rect from (x0, 0) to (x1, count): bins of any width, drawn upright.
+    data: { values: bars }, mark: { type: "rect" as const, stroke: "#ffffff", strokeWidth: 0.5 },
     encoding: {
       x: { field: "x0", type: "quantitative" as const, title: o.xTitle, scale: { zero: false } }, x2: { field: "x1" },
-      y: { field: "count", type: "quantitative" as const, title: "Count" },
+      y: { field: "count", type: "quantitative" as const, title: "Count" }, y2: { datum: 0 },
       color: { field: "layer", type: "nominal" as const, title: null, scale: { domain: [o.what, "Mean"], range: ["#dd9a48", "#1d2433"] }, legend: { orient: "bottom" as const, direction: "horizontal" as const } },
     },
   };

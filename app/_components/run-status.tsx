@@ -30,7 +30,8 @@ export function RunProgressBar({ value, label, className = "" }: { value: number
 
 /** "Ensemble · direct Gillespie" / "Trace · deterministic ODE". */
 export function runKindLabel(run: Pick<RunJson, "kind" | "method">): string {
-  return run.kind === "trace" ? "Trace · deterministic ODE" : `Ensemble · ${METHOD_LABEL[run.method].toLowerCase()}`;
+  const m = METHOD_LABEL[run.method];
+  return run.kind === "trace" ? "Trace · deterministic ODE" : `Ensemble · ${m[0].toLowerCase()}${m.slice(1)}`;
 }
 
 /** A timestamp in the reader's own time zone (the server's rendering may differ, hence no hydration warning). */

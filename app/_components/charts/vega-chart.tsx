@@ -38,7 +38,7 @@ export default function VegaChart({ spec, fileBase, label }: VegaChartProps) {
       {error ? (
         <p role="alert" className="rounded-md bg-red-50 px-3 py-2 text-sm text-red-800">The chart could not be drawn: {error}</p>
       ) : (
-        <VegaEmbed spec={spec} options={OPTIONS} onEmbed={onEmbed} onError={onError} className="w-full" />
+        <VegaEmbed spec={spec} options={OPTIONS} onEmbed={onEmbed} onError={onError} className="w-full [&_text]:font-sans" />
       )}
       <figcaption className="flex flex-wrap items-center justify-end gap-2 text-xs">
         <button type="button" onClick={saveSvg} disabled={!ready} className="rounded border border-ink/20 bg-white px-2 py-1 text-ink-soft hover:border-ochre hover:text-ink disabled:opacity-50">

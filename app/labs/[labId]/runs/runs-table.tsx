@@ -50,23 +50,23 @@ export function RunsTable({ labId, canLaunch, status, circuit, page }: RunsTable
   return (
     <div className="flex flex-col gap-3">
       <form className="flex flex-wrap items-end gap-3 text-sm" onSubmit={(e) => e.preventDefault()} aria-label="Filter runs">
-        <label className="flex flex-col gap-1">
-          <span className="font-medium">Status</span>
-          <select value={status ?? ""} onChange={(e) => go({ status: e.target.value || undefined, page: 1 })}
+        <div className="flex flex-col gap-1">
+          <label htmlFor="filter-status" className="font-medium">Status</label>
+          <select id="filter-status" value={status ?? ""} onChange={(e) => go({ status: e.target.value || undefined, page: 1 })}
             className="rounded-md border border-ink/25 bg-white px-2 py-1.5">
             <option value="">All statuses</option>
             {STATUSES.map((s) => <option key={s} value={s}>{s}</option>)}
           </select>
-        </label>
-        <label className="flex flex-col gap-1">
-          <span className="font-medium">Circuit</span>
-          <select value={circuit ?? ""} onChange={(e) => go({ circuit: e.target.value || undefined, page: 1 })}
+        </div>
+        <div className="flex flex-col gap-1">
+          <label htmlFor="filter-circuit" className="font-medium">Circuit</label>
+          <select id="filter-circuit" value={circuit ?? ""} onChange={(e) => go({ circuit: e.target.value || undefined, page: 1 })}
             className="max-w-[16rem] rounded-md border border-ink/25 bg-white px-2 py-1.5">
             <option value="">All circuits</option>
             {circuit && !circuits?.circuits.some((c) => c.id === circuit) && <option value={circuit}>Circuit {circuit}</option>}
             {circuits?.circuits.map((c) => <option key={c.id} value={c.id}>{c.name}</option>)}
           </select>
-        </label>
+        </div>
         {filtered && (
           <button type="button" onClick={() => go({ status: undefined, circuit: undefined, page: 1 })} className="py-1.5 text-ochre-dark hover:underline">
             Clear filters
@@ -103,7 +103,7 @@ export function RunsTable({ labId, canLaunch, status, circuit, page }: RunsTable
                   <th scope="col" className="px-3 py-2">Status</th>
                   <th scope="col" className="px-3 py-2">Launched by</th>
                   <th scope="col" className="px-3 py-2">Launched</th>
-                  <th scope="col" className="px-3 py-2 text-right">Wall time</th>
+                  <th scope="col" className="whitespace-nowrap px-3 py-2 text-right">Wall time</th>
                 </tr>
               </thead>
               <tbody>
@@ -114,9 +114,9 @@ export function RunsTable({ labId, canLaunch, status, circuit, page }: RunsTable
                     <td className="px-3 py-2 text-ink-soft">{runKindLabel(r)}</td>
                     <td className="px-3 py-2 text-right tabular-nums">{r.kind === "trace" ? "—" : formatCount(r.settings.runs)}</td>
                     <td className="px-3 py-2">
-                      <div className="flex min-w-[7rem] flex-col gap-1">
+                      <div className="flex min-w-[7rem] flex-col items-start gap-1">
                         <RunStatusBadge status={r.status} />
-                        {isActive(r.status) && <RunProgressBar value={r.progress} label={`Progress of run ${r.id}`} className="max-w-[7rem]" />}
+                        {isActive(r.status) && <RunProgressBar value={r.progress} label={`Progress of run ${r.id}`} className="w-28" />}
                       </div>
                     </td>
                     <td className="px-3 py-2 text-ink-soft">{r.created_by ?? "—"}</td>

@@ -54,13 +54,17 @@ export function useLna(run: RunJson, summary: SummaryJson): LnaState {
 export function NoiseTable({ summary, lna, amountUnit, timeUnit, burnIn }: {
   summary: SummaryJson; lna: LnaState; amountUnit: string; timeUnit: string; burnIn: number;
 }) {
+  const isTrace = summary.method === "ode";
   return (
     <section aria-labelledby="noise-h" className="flex flex-col gap-2">
-      <h2 id="noise-h" className="text-lg font-semibold">Noise table</h2>
+      <h2 id="noise-h" className="text-lg font-semibold">{isTrace ? "Path statistics" : "Noise table"}</h2>
       <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
         <table className="w-full min-w-[36rem] text-sm tabular-nums" data-testid="noise-table">
           <caption className="px-3 pt-2 text-left text-xs text-ink-soft">
-            Stationary statistics: pooled over {summary.runs === 1 ? "the path" : `all ${summary.runs.toLocaleString("en-US")} cells`} and grid times ≥ burn-in ({formatNumber(burnIn)} {timeUnit}). SD with n − 1. {lna.note}
+            {isTrace
+              ? <>Over the deterministic path&apos;s grid values at times ≥ burn-in ({formatNumber(burnIn)} {timeUnit}): SD and CV measure how far the path swings in time (an oscillation), not cell-to-cell noise. The LNA columns predict that noise. </>
+              : <>Stationary statistics: pooled over all {summary.runs.toLocaleString("en-US")} cells and grid times ≥ burn-in ({formatNumber(burnIn)} {timeUnit}). SD with n − 1. </>}
+            {lna.note}
           </caption>
           <thead className="bg-paper text-left text-ink-soft">
             <tr>

@@ -26,9 +26,12 @@ export interface RunViewProps {
 
 /** A run: live progress while it runs, then its results; provenance beside. Polls the run while it is active. */
 export function RunView({ labId, initialRun, contentHash, canLaunch, canCancel, role, timeUnit, modelAmountUnit }: RunViewProps) {
+  // The server's copy renders first; while the run is active, poll it every second (the cache is
+  // empty until the first fetch, so an empty cache counts as the server's copy).
   const { data, mutate } = useSWR<RunJson>(`/api/runs/${initialRun.id}`, jsonFetcher, {
     fallbackData: initialRun,
-    refreshInterval: (d) => (d && isActive(d.status) ? 1000 : 0),
+    revalidateOnMount: true,
+    refreshInterval: (d) => (isActive((d ?? initialRun).status) ? 1000 : 0),
   });
   const run = data ?? initialRun;
   return (
@@ -41,10 +44,10 @@ export function RunView({ labId, initialRun, contentHash, canLaunch, canCancel, 
         </div>
         <p className="mt-1 text-ink-soft">
           {run.circuit_name} · version {run.version_number} · {runKindLabel(run)}
-          {run.kind === "ensemble" && <> · {formatCount(run.settings.runs)} cells</>}
+          {run.kind === "ensemble" && <> · {formatCount(run.settings.runs)} cell{run.settings.runs === 1 ? "" : "s"}</>}
         </p>
       </div>
-      <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_18rem]">
+      <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_20rem]">
         <div className="flex min-w-0 flex-col gap-6">
           {isActive(run.status) && <RunProgress run={run} canCancel={canCancel} onChange={() => void mutate()} />}
           {run.status === "failed" && (
@@ -187,7 +190,7 @@ function RunProvenance({ labId, run, contentHash, canLaunch, role, timeUnit, mod
         {rows.map(([k, v]) => (
           <div key={k} className="contents">
             <dt className="text-ink-soft">{k}</dt>
-            <dd className="min-w-0 break-words text-right tabular-nums">{v}</dd>
+            <dd className="min-w-0 break-words tabular-nums">{v}</dd>
           </div>
         ))}
       </dl>

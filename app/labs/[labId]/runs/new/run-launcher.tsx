@@ -204,7 +204,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
         <div className="grid gap-4 sm:grid-cols-2">
           <NumberInput id="t_end" label="End time" unit={timeUnit} value={tEnd} onChange={setTEnd} error={errors.t_end} />
           <NumberInput id="dt" label="Sampling step" unit={timeUnit} value={dt} onChange={setDt} error={errors.dt}
-            hint={gridPoints ? `${gridPoints.toLocaleString("en-US")} grid points: 0, ${dt}, 2·${dt}, … ${tEnd}` : `Grid 0, dt, 2dt, … t_end; at most ${RUN_LIMITS.maxGridPoints.toLocaleString("en-US")} points`} />
+            hint={gridPoints && dtNum ? `${gridPoints.toLocaleString("en-US")} grid points: 0, ${dtNum}, ${Number((2 * dtNum).toPrecision(12))}, … ${tEndNum}` : `Grid 0, dt, 2dt, … t_end; at most ${RUN_LIMITS.maxGridPoints.toLocaleString("en-US")} points`} />
           <NumberInput id="runs" label="Cells" value={isTrace ? "1" : cells} onChange={setCells} disabled={isTrace} error={errors.runs}
             hint={isTrace ? "A trace is one deterministic path." : `Cells in the ensemble, 1 to ${RUN_LIMITS.maxCells.toLocaleString("en-US")}.`} />
           <NumberInput id="seed" label="Seed" value={isTrace ? "" : seed} onChange={setSeed} disabled={isTrace} error={errors.seed}
@@ -284,7 +284,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
                 {cost.estimate.basis === "mean-field path"
                   ? "Events per cell: the total propensity integrated along the mean-field path over the end time, with these parameters (exact on average for linear circuits; Hill terms and noise shift it)."
                   : "Events per cell: the total propensity at the initial counts × the end time (the mean-field path could not be solved)."}
-                {" "}Time at about {formatNumber(EVENTS_PER_S_PER_THREAD, 1)} events per second per thread; the worker spreads chunks of {RUN_LIMITS.chunkCells} cells over its threads.
+                {" "}Time at about {(EVENTS_PER_S_PER_THREAD / 1e6).toLocaleString("en-US")} million events per second per thread; the worker spreads chunks of {RUN_LIMITS.chunkCells} cells over its threads.
                 {method === "tau" && " Tau-leaping fires many events per leap, so it usually takes less."}
               </p>
             </>

@@ -32,16 +32,16 @@ export function VersionPicker({ labId }: { labId: string }) {
       className="flex max-w-xl flex-col gap-4 rounded-lg border border-ink/10 bg-white p-4"
       onSubmit={(e) => { e.preventDefault(); if (chosenVersion) router.push(`/labs/${labId}/runs/new?version=${chosenVersion}`); }}
     >
-      <label className="flex flex-col gap-1 text-sm">
-        <span className="font-medium">Circuit</span>
-        <select value={circuitId} onChange={(e) => { setCircuitId(e.target.value); setVersionId(""); }} className="rounded-md border border-ink/25 bg-white px-2 py-2">
+      <div className="flex flex-col gap-1 text-sm">
+        <label htmlFor="pick-circuit" className="font-medium">Circuit</label>
+        <select id="pick-circuit" value={circuitId} onChange={(e) => { setCircuitId(e.target.value); setVersionId(""); }} className="rounded-md border border-ink/25 bg-white px-2 py-2">
           <option value="">Choose a circuit…</option>
           {list.circuits.map((c) => <option key={c.id} value={c.id}>{c.name} ({c.versions} version{c.versions === 1 ? "" : "s"})</option>)}
         </select>
-      </label>
-      <label className="flex flex-col gap-1 text-sm">
-        <span className="font-medium">Version</span>
-        <select value={chosenVersion} onChange={(e) => setVersionId(e.target.value)} disabled={!detail} className="rounded-md border border-ink/25 bg-white px-2 py-2 disabled:bg-paper">
+      </div>
+      <div className="flex flex-col gap-1 text-sm">
+        <label htmlFor="pick-version" className="font-medium">Version</label>
+        <select id="pick-version" value={chosenVersion} onChange={(e) => setVersionId(e.target.value)} disabled={!detail} className="rounded-md border border-ink/25 bg-white px-2 py-2 disabled:bg-paper">
           {!detail && <option value="">{circuitId ? "Loading versions…" : "Choose a circuit first"}</option>}
           {detail?.versions.map((v, k) => (
             <option key={v.id} value={v.id}>
@@ -49,7 +49,7 @@ export function VersionPicker({ labId }: { labId: string }) {
             </option>
           ))}
         </select>
-      </label>
+      </div>
       <div>
         <button type="submit" disabled={!chosenVersion} className="rounded-md bg-ochre px-4 py-2 text-sm font-medium text-white hover:bg-ochre-dark disabled:opacity-50">
           Continue to settings

@@ -1,0 +1,323 @@
+// The runs screens in Debian Chromium against the built app and a real worker: launcher, live
+// progress, bands, noise table, period spread, replay, downloads, cancel, failure, roles, tablet.
+import { readFileSync } from "node:fs";
+
+import type { BrowserContext, Download, Page } from "playwright-core";
+import { afterAll, beforeAll, describe, expect, it } from "vitest";
+
+import { openBrowser, shot, signInAs } from "../support/browser";
+import { Client } from "../support/client";
+import { startWorker, stopWorker, waitForOutput } from "../support/worker";
+
+const ringTimer = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
+const PASSWORD = "sentinel-demo";
+
+let worker: ReturnType<typeof startWorker>;
+let modeler: Client;
+let labId: string;
+let versionId: string;
+let circuitId: string;
+let ctx: BrowserContext;
+let page: Page;
+let runId: string; // the 100-cell ensemble launched from the page
+let seed: number;
+
+async function waitForRun(client: Client, id: string, done: (r: any) => boolean, timeoutMs = 120_000) {
+  const until = Date.now() + timeoutMs;
+  let last: any;
+  while (Date.now() < until) {
+    last = (await client.request("GET", `/api/runs/${id}`)).json;
+    if (done(last)) return last;
+    await new Promise((r) => setTimeout(r, 250));
+  }
+  throw new Error(`run ${id} stuck: ${JSON.stringify(last)}`);
+}
+
+async function download(p: Page, click: () => Promise<void>): Promise<{ name: string; text: string }> {
+  const [dl] = await Promise.all([p.waitForEvent("download") as Promise<Download>, click()]);
+  const path = await dl.path();
+  return { name: dl.suggestedFilename(), text: readFileSync(path, "utf8") };
+}
+
+const csvRows = (text: string) => text.split("\r\n").filter((l) => l.length > 0);
+
+beforeAll(async () => {
+  worker = startWorker({ WORKER_CONCURRENCY: "2" });
+  await waitForOutput(worker, /worker ready/);
+  modeler = new Client();
+  expect(await modeler.signIn("modeler@sentinel.example", PASSWORD)).toBe(true);
+  labId = (await modeler.request("GET", "/api/labs")).json.labs.find((l: any) => l.name === "Soil Sentinel").id;
+  const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: { ...ringTimer, name: `Ring timer (runs screens ${Date.now()})` } });
+  expect(c.status, c.text).toBe(201);
+  versionId = c.json.version_id;
+  circuitId = c.json.id;
+  ctx = await openBrowser();
+  page = await ctx.newPage();
+  await signInAs(page, "modeler@sentinel.example", PASSWORD);
+  await page.waitForURL(/\/labs\/\d+$/);
+});
+
+afterAll(async () => {
+  await ctx?.close();
+  if (worker) await stopWorker(worker, "SIGKILL");
+});
+
+describe("the modeler launches an ensemble and reads its results", () => {
+  it("the version picker leads from circuit to version to the launcher", async () => {
+    await page.goto(`/labs/${labId}/runs/new`);
+    await page.getByLabel("Circuit", { exact: true }).selectOption(circuitId);
+    await expect.poll(() => page.getByLabel("Version", { exact: true }).inputValue()).toBe(versionId); // the latest version by default
+    await page.getByRole("button", { name: "Continue to settings" }).click();
+    await page.waitForURL(/\/runs\/new\?version=\d+/);
+    expect(new URL(page.url()).searchParams.get("version")).toBe(versionId);
+  });
+
+  it("the launcher fills in a random seed, shows the expected cost and launches 100 cells", async () => {
+    await page.goto(`/labs/${labId}/runs/new?version=${versionId}`);
+    const seedInput = page.getByLabel("Seed");
+    const firstSeed = await seedInput.inputValue();
+    expect(firstSeed).toMatch(/^\d+$/);
+    await page.getByRole("button", { name: "New seed" }).click();
+    expect(await seedInput.inputValue()).not.toBe(firstSeed);
+    await page.getByLabel(/^End time/).fill("200");
+    await page.getByLabel(/^Sampling step/).fill("1");
+    await page.getByLabel("Cells").fill("100");
+    expect(await page.getByLabel(/^Burn-in/).inputValue()).toBe("40"); // t_end / 5
+    const cost = page.getByTestId("cost-estimate");
+    await cost.getByText("of one thread").waitFor();
+    expect(await cost.textContent()).toMatch(/Events per cell.*× cells\s*100/s);
+    await shot(page, "runs-01-launcher");
+    seed = Number(await seedInput.inputValue());
+    await page.getByRole("button", { name: "Launch ensemble" }).click();
+    await page.waitForURL(/\/runs\/\d+$/);
+    runId = page.url().split("/").pop()!;
+    expect((await modeler.request("GET", `/api/runs/${runId}`)).json).toMatchObject({ seed, settings: { runs: 100, t_end: 200, dt: 1, burn_in: 40 } });
+  });
+
+  it("the run page follows the run to the end and then shows the results with the caution", async () => {
+    const seen = new Set<string>();
+    const until = Date.now() + 120_000;
+    while (Date.now() < until) {
+      const s = (await page.getByTestId("run-status").textContent()) ?? "";
+      seen.add(s);
+      if (s === "succeeded") break;
+      await page.waitForTimeout(150);
+    }
+    expect([...seen].at(-1)).toBe("succeeded");
+    // The page was opened before the worker finished, so it saw the run queued or running first.
+    expect([...seen].some((s) => s === "queued" || s === "running")).toBe(true);
+    await page.getByRole("note").filter({ hasText: "Simulated noise is what a model predicts" }).waitFor();
+  });
+
+  it("the bands chart draws both bands and the median, mean and mean-field lines, with a title and units", async () => {
+    const chart = page.getByTestId("bands-chart");
+    await chart.locator("svg g.mark-area").first().waitFor();
+    expect(await chart.locator("svg g.mark-area").count()).toBe(2);
+    expect(await chart.locator("svg g.mark-line path").count()).toBe(3); // median, mean, mean-field trace
+    const text = (await chart.locator("svg").textContent()) ?? "";
+    expect(text).toContain("A: 100 cells against the mean-field trace");
+    expect(text).toContain("Time (min)");
+    expect(text).toContain("A (molecules)");
+    expect(text).toContain("Mean-field trace"); // legend
+    await page.getByRole("group", { name: "Species shown in the charts" }).getByRole("button", { name: "C" }).click();
+    await expect.poll(async () => (await chart.locator("svg").textContent()) ?? "").toContain("C: 100 cells");
+    await page.getByRole("group", { name: "Species shown in the charts" }).getByRole("button", { name: "A" }).click();
+  });
+
+  it("the noise table and the period spread show the ensemble's numbers", async () => {
+    const summary = (await modeler.request("GET", `/api/runs/${runId}/summary`)).json;
+    const rows = page.getByTestId("noise-table").locator("tbody tr");
+    expect(await rows.count()).toBe(3);
+    const a = (await rows.first().locator("td").allTextContents());
+    expect(Number(a[0])).toBeCloseTo(summary.stationary.A.mean, 1); // shown to 4 significant digits
+    // The ring timer's steady state is unstable (it oscillates), so there is no LNA, and the page says why.
+    await page.getByTestId("noise-table").getByText(/No LNA: the steady state .* is unstable/).waitFor();
+    const period = page.getByTestId("period-spread");
+    await period.getByRole("heading", { name: "Period spread" }).waitFor();
+    expect(summary.period.A.count).toBeGreaterThan(0);
+    expect(await period.locator("tbody tr").first().textContent()).toContain(String(summary.period.A.count.toLocaleString("en-US")));
+    await period.locator("svg g.mark-rect").first().waitFor(); // histogram bars
+    await page.locator("section", { has: page.getByRole("heading", { name: "Sample cells" }) }).locator("svg g.mark-line").first().waitFor();
+    await shot(page, "runs-02-results-laptop");
+  });
+
+  it("replay cell #3 shows (seed, 3) and its CSV equals GET /api/runs/:id/cells/3", async () => {
+    await page.getByLabel(/^Cell index/).fill("3");
+    await page.getByRole("button", { name: "Replay cell" }).click();
+    await page.getByTestId("replayed-cell").waitFor();
+    expect(await page.getByTestId("replay-seed").textContent()).toBe(String(seed));
+    expect(await page.getByTestId("replay-index").textContent()).toBe("#3");
+    await page.getByTestId("replayed-cell").locator("svg g.mark-line").first().waitFor();
+    const api = (await modeler.request("GET", `/api/runs/${runId}/cells/3`)).json;
+    const { name, text } = await download(page, () => page.getByRole("button", { name: "Download cell CSV" }).click());
+    expect(name).toBe(`run-${runId}-cell-3.csv`);
+    const rows = csvRows(text);
+    expect(rows[0]).toBe("seed,cell,time_min,A,B,C");
+    expect(rows).toHaveLength(1 + api.times.length);
+    rows.slice(1).forEach((line, g) => {
+      const [s, i, t, A, B, C] = line.split(",").map(Number);
+      expect([s, i, t]).toEqual([seed, 3, api.times[g]]);
+      expect([A, B, C]).toEqual([api.values.A[g], api.values.B[g], api.values.C[g]]);
+    });
+  });
+
+  it("the bands CSV has the documented header and one row per species and grid time", async () => {
+    const { name, text } = await download(page, () => page.getByRole("button", { name: "Download bands CSV" }).click());
+    expect(name).toBe(`run-${runId}-bands.csv`);
+    const rows = csvRows(text);
+    expect(rows[0]).toBe("species,time_min,mean,sd,p05,p25,p50,p75,p95,mean_field,unit");
+    expect(rows).toHaveLength(1 + 3 * 201);
+    const noise = await download(page, () => page.getByRole("button", { name: "Download noise table CSV" }).click());
+    expect(csvRows(noise.text)).toHaveLength(4);
+    const svg = await download(page, () => page.getByTestId("bands-chart").getByRole("button", { name: /^SVG of/ }).click());
+    expect(svg.name).toBe(`run-${runId}-bands-A.svg`);
+    expect(svg.text).toMatch(/^<svg[\s\S]*mark-area/);
+    const png = await download(page, () => page.getByTestId("bands-chart").getByRole("button", { name: /^PNG of/ }).click());
+    expect(png.name).toBe(`run-${runId}-bands-A.png`);
+  });
+
+  it("run again exactly launches the same version, settings and seed, and gives identical statistics", async () => {
+    await page.getByRole("button", { name: "Run again exactly" }).click();
+    await page.waitForURL((u) => /\/runs\/\d+$/.test(u.pathname) && !u.pathname.endsWith(`/${runId}`));
+    const again = page.url().split("/").pop()!;
+    const done = await waitForRun(modeler, again, (r) => r.status !== "queued" && r.status !== "running");
+    expect(done).toMatchObject({ status: "succeeded", seed, version_id: versionId, method: "ssa", settings: { runs: 100, t_end: 200, dt: 1, burn_in: 40 } });
+    const [a, b] = await Promise.all([runId, again].map((id) => modeler.request("GET", `/api/runs/${id}/summary`)));
+    for (const k of ["mean", "sd", "quantiles", "stationary", "period"]) expect(b.json[k]).toEqual(a.json[k]);
+  });
+});
+
+describe("errors, cancel and failure", () => {
+  it("a sampling step above the end time is flagged at the dt field and nothing is launched", async () => {
+    const before = (await modeler.request("GET", `/api/runs?lab_id=${labId}&limit=1`)).json.total;
+    await page.goto(`/labs/${labId}/runs/new?version=${versionId}`);
+    await page.getByLabel(/^End time/).fill("10");
+    await page.getByLabel(/^Sampling step/).fill("20");
+    await page.getByRole("button", { name: "Launch ensemble" }).click();
+    await page.getByText("must be <= t_end (10)").waitFor();
+    expect(await page.getByLabel(/^Sampling step/).getAttribute("aria-invalid")).toBe("true");
+    expect(new URL(page.url()).pathname).toBe(`/labs/${labId}/runs/new`);
+    expect((await modeler.request("GET", `/api/runs?lab_id=${labId}&limit=1`)).json.total).toBe(before);
+  });
+
+  it("an override the server rejects (n = -2) is shown under the overrides", async () => {
+    await page.goto(`/labs/${labId}/runs/new?version=${versionId}`);
+    await page.getByRole("button", { name: "Add override" }).click();
+    await page.getByLabel("Parameter of override 1").selectOption("n");
+    expect(await page.getByText("saved value 4").count()).toBe(1);
+    await page.getByLabel("Value of n").fill("-2");
+    await page.getByTestId("cost-estimate").getByText(/Cannot estimate/).waitFor(); // the browser's compile check
+    await page.getByRole("button", { name: "Launch ensemble" }).click();
+    await page.getByText(/rate\.n: must be > 0 .*after overrides/).first().waitFor();
+    await shot(page, "runs-03-launcher-error");
+  });
+
+  it("a long run shows live progress; the reviewer cannot cancel it and the modeler cancels it from the page", async () => {
+    const r = await modeler.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 2000, dt: 1, runs: 4000, seed: 5 });
+    expect(r.status, r.text).toBe(202);
+    const longId = r.json.id;
+    await waitForRun(modeler, longId, (x) => x.status === "running", 60_000);
+
+    const reviewerCtx = await openBrowser();
+    try {
+      const rp = await reviewerCtx.newPage();
+      await signInAs(rp, "reviewer@sentinel.example", PASSWORD);
+      await rp.waitForURL(/\/labs\/\d+$/);
+      await rp.goto(`/labs/${labId}/runs/${longId}`);
+      await rp.getByRole("progressbar", { name: "Run progress" }).waitFor();
+      expect(await rp.getByRole("button", { name: "Cancel run" }).count()).toBe(0);
+      expect(await rp.getByRole("button", { name: "Run again exactly" }).count()).toBe(0);
+    } finally {
+      await reviewerCtx.close();
+    }
+
+    await page.goto(`/labs/${labId}/runs/${longId}`);
+    await page.getByRole("progressbar", { name: "Run progress" }).waitFor();
+    await page.getByText(/of 4\u2009000 cells/).waitFor(); // thin-space grouping
+    await shot(page, "runs-04-running");
+    await page.getByRole("button", { name: "Cancel run" }).click();
+    await page.getByRole("button", { name: "Yes, cancel the run" }).click();
+    await page.getByRole("heading", { name: "This run was cancelled" }).waitFor();
+    expect(await page.getByTestId("run-status").textContent()).toBe("cancelled");
+    expect((await modeler.request("GET", `/api/runs/${longId}`)).json.status).toBe("cancelled");
+    expect(await page.getByRole("progressbar", { name: "Run progress" }).count()).toBe(0);
+  });
+
+  it("a trace run shows the mean-field paths, the noise table and no cells", async () => {
+    const r = await modeler.request("POST", "/api/runs", { version_id: versionId, method: "ode", t_end: 200, dt: 1 });
+    expect(r.status, r.text).toBe(202);
+    await waitForRun(modeler, r.json.id, (x) => x.status === "succeeded", 60_000);
+    await page.goto(`/labs/${labId}/runs/${r.json.id}`);
+    const chart = page.getByTestId("trace-chart");
+    await chart.locator("svg g.mark-line path").first().waitFor();
+    expect(await chart.locator("svg").textContent()).toContain("Amount (nM)"); // a trace reports in the circuit's units
+    await page.getByTestId("noise-table").waitFor();
+    expect(await page.getByRole("heading", { name: "Replay a cell" }).count()).toBe(0);
+    expect(await page.getByTestId("bands-chart").count()).toBe(0);
+  });
+
+  it("a failed run shows its reason", async () => {
+    // A birth with no bound on its rate: the cell passes the engine's event cap and the run fails.
+    const runaway = {
+      format: "burstwise.circuit/1", name: `Runaway (runs screens ${Date.now()})`, units: { time: "min", amount: "molecules" },
+      species: [{ id: "X", initial: 0 }], parameters: { k: 1e9 },
+      reactions: [{ id: "make", products: { X: 1 }, rate: { law: "mass_action", k: "k" } }, { id: "lose", reactants: { X: 1 }, rate: { law: "mass_action", k: 1 } }],
+    };
+    const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: runaway });
+    expect(c.status, c.text).toBe(201);
+    const r = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 100, dt: 1, runs: 1, seed: 1 });
+    const failed = await waitForRun(modeler, r.json.id, (x) => x.status === "failed" || x.status === "succeeded", 150_000);
+    expect(failed.status).toBe("failed");
+    await page.goto(`/labs/${labId}/runs/${r.json.id}`);
+    await page.getByRole("heading", { name: "This run failed" }).waitFor();
+    expect(await page.getByTestId("run-error").textContent()).toBe(failed.error);
+    expect(failed.error).toMatch(/event/);
+    await shot(page, "runs-05-failed");
+  });
+});
+
+describe("lists and roles", () => {
+  it("the runs list shows the lab's runs and filters them by status", async () => {
+    await page.goto(`/labs/${labId}/runs`);
+    const table = page.getByRole("table", { name: "Runs of this lab" });
+    await table.waitFor();
+    await table.getByRole("link", { name: `#${runId}` }).waitFor();
+    await page.getByLabel("Status").selectOption("cancelled");
+    await page.waitForURL(/status=cancelled/);
+    await expect.poll(async () => (await table.getByTestId("run-status").allTextContents()).join(",")).toMatch(/^cancelled(,cancelled)*$/);
+    await page.getByLabel("Status").selectOption("succeeded");
+    await page.waitForURL(/status=succeeded/);
+    await expect.poll(async () => (await table.getByTestId("run-status").allTextContents()).every((s) => s === "succeeded")).toBe(true);
+    expect(await page.getByRole("link", { name: "New run" }).count()).toBe(1);
+    await shot(page, "runs-06-list");
+  });
+
+  it("the reviewer reads runs with no launch, cancel or run-again controls, and the API refuses a launch", async () => {
+    const rctx = await openBrowser({ width: 768, height: 1024 });
+    try {
+      const rp = await rctx.newPage();
+      await signInAs(rp, "reviewer@sentinel.example", PASSWORD);
+      await rp.waitForURL(/\/labs\/\d+$/);
+      await rp.goto(`/labs/${labId}/runs`);
+      await rp.getByRole("table", { name: "Runs of this lab" }).waitFor();
+      expect(await rp.getByRole("link", { name: "New run" }).count()).toBe(0);
+      await rp.goto(`/labs/${labId}/runs/new?version=${versionId}`);
+      await rp.getByTestId("read-only-notice").waitFor();
+      expect(await rp.getByRole("button", { name: /Launch/ }).count()).toBe(0);
+      await rp.goto(`/labs/${labId}/runs/${runId}`);
+      await rp.getByTestId("bands-chart").locator("svg g.mark-area").first().waitFor();
+      await rp.getByTestId("noise-table").waitFor();
+      expect(await rp.getByRole("button", { name: "Run again exactly" }).count()).toBe(0);
+      expect(await rp.getByRole("button", { name: "Download bands CSV" }).count()).toBe(1); // reviewers download
+      const overflow = await rp.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+      expect(overflow).toBeLessThanOrEqual(0);
+      await shot(rp, "runs-07-reviewer-tablet");
+    } finally {
+      await rctx.close();
+    }
+    const reviewer = new Client();
+    expect(await reviewer.signIn("reviewer@sentinel.example", PASSWORD)).toBe(true);
+    const r = await reviewer.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 10, dt: 1, runs: 1 });
+    expect(r.status).toBe(403);
+  });
+});
