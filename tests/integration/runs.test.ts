@@ -193,3 +193,43 @@ describe("cancel, roles and limits", () => {
     expect(run.error).toMatch(/event/i);
   });
 });
+
+describe("queue limit and graceful shutdown", () => {
+  it("a lab with 20 runs queued or running gets a 429 naming runs, and nothing is stored", async () => {
+    const crowd = await newUser("crowd");
+    const c = await crowd.client.request("POST", "/api/circuits", { lab_id: crowd.labId, circuit: ringTimer });
+    const ids: string[] = [];
+    for (let i = 0; i < 20; i++) {
+      const r = await crowd.client.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 10, dt: 1 });
+      expect(r.status).toBe(202);
+      ids.push(r.json.id);
+    }
+    const over = await crowd.client.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 10, dt: 1 });
+    expect(over.status).toBe(429);
+    expect(over.json.error).toMatch(/^runs: /);
+    expect(Number((await db("runs").where({ lab_id: crowd.labId }).count("* as n").first())!.n)).toBe(20);
+    for (const id of ids) await crowd.client.request("POST", `/api/runs/${id}/cancel`);
+  });
+
+  it("SIGTERM lets the worker finish the chunk in hand before it exits; a new worker completes the run", async () => {
+    const w = await worker({ WORKER_CONCURRENCY: "1" });
+    const { id } = await launch({ runs: 150, seed: 31, t_end: 2000 });
+    // Wait until the worker holds a chunk job that has not landed yet: the chunk in hand.
+    let inHand: number | null = null;
+    for (let i = 0; i < 600 && inHand === null; i++) {
+      const active = await db.raw(`select (data->>'chunkIndex')::int as chunk from pgboss.job where name = 'run-chunk' and state = 'active' and data->>'runId' = ?`, [id]);
+      for (const row of active.rows) {
+        if (!(await db("run_chunks").where({ run_id: id, chunk_index: row.chunk }).first())) inHand = row.chunk;
+      }
+      if (inHand === null) await new Promise((r) => setTimeout(r, 50));
+    }
+    expect(inHand).not.toBeNull();
+    await stopWorker(w, "SIGTERM");
+    expect(w.exitCode).toBe(0);
+    // The chunk in hand was finished and stored before the worker exited, not dropped.
+    expect(await db("run_chunks").where({ run_id: id, chunk_index: inHand }).first()).toBeTruthy();
+    await worker();
+    const run = await waitFor(id, finished, 120_000);
+    expect(run.status).toBe("succeeded");
+  });
+});
