@@ -226,7 +226,7 @@ export function seedDemo(databaseUrl) {
   run("npx", ["knex", "seed:run"], { env: { DATABASE_URL: databaseUrl, NODE_OPTIONS: "--import tsx" } });
 }
 
-const BUILD_INPUTS = ["app", "lib", "ssa", "db", "public", "types"];
+const BUILD_INPUTS = ["app", "lib", "ssa", "db", "public", "types", "examples"];
 const BUILD_FILES = ["package-lock.json", "next.config.mjs", "tailwind.config.ts", "postcss.config.mjs", "tsconfig.json", "proxy.ts"];
 
 function listFiles(dir, out) {
