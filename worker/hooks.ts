@@ -1,4 +1,5 @@
 import type { RunRow } from "../lib/data/runs";
+import { afterComparisonRunFinished } from "./comparisons";
 import { afterRunFinished } from "./notify";
 
 /**
@@ -12,5 +13,11 @@ export async function onRunFinished(run: Pick<RunRow, "id" | "labId" | "status" 
     await afterRunFinished(run.id);
   } catch (e) {
     console.error(`[notify] run ${run.id}:`, e);
+  }
+  // A design run of a comparison: fail the comparison, or compute its noise table once all succeeded.
+  try {
+    await afterComparisonRunFinished(run.id);
+  } catch (e) {
+    console.error(`[comparison] run ${run.id}:`, e);
   }
 }

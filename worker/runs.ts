@@ -11,6 +11,7 @@ import { db } from "../db/client";
 import { failRun, getRun, getRunCircuit, gzipJson, type RunRow } from "../lib/data/runs";
 import { Queues, RunChunkJob, RunFinalizeJob } from "../lib/jobs";
 import { RUN_LIMITS } from "../lib/schemas/runs";
+import { cellStatsOf, encodeCellStats } from "../ssa/cell-stats";
 import { burnInOf, summarize, trajectory, type EnsembleOptions } from "../ssa/ensemble";
 import { compileModel, parseCircuitExpressions } from "../ssa/model";
 import { runSimulation } from "../ssa/node/run";
@@ -143,7 +144,10 @@ export async function handleFinalize(job: Job<unknown>): Promise<void> {
     }
     const n = Math.min(RUN_LIMITS.sampleCells, run.settings.runs);
     const cells = Array.from({ length: n }, (_, i) => trajectory(model, options, i, run.settings.units));
-    await storeResult(run, summary as unknown as Record<string, unknown>, trace, cells, summary.events, wallS);
+    // Per-cell sums for the bootstrap over cells (comparisons); sizes measured in README.md.
+    const stats = encodeCellStats(cellStatsOf(merged!));
+    const cellStatsGz = gzipSync(Buffer.from(stats.buffer, stats.byteOffset, stats.byteLength), { level: 1 });
+    await storeResult(run, summary as unknown as Record<string, unknown>, trace, cells, summary.events, wallS, cellStatsGz);
   } catch (e) {
     if (isPermanent(e)) {
       await failRun(runId, reasonOf(e));
@@ -155,13 +159,13 @@ export async function handleFinalize(job: Job<unknown>): Promise<void> {
   }
 }
 
-async function storeResult(run: RunRow, summary: Record<string, unknown>, trace: unknown, cells: unknown, events: number, wallS: number): Promise<void> {
+async function storeResult(run: RunRow, summary: Record<string, unknown>, trace: unknown, cells: unknown, events: number, wallS: number, cellStatsGz: Buffer | null = null): Promise<void> {
   const summaryGz = gzipJson(summary);
   const noise = { stationary: summary.stationary, final: summary.final, period: stripHistograms(summary.period) };
   const finished: number = await db.transaction(async (trx) => {
     await trx("run_results").insert({
       runId: run.id, summaryGz, traceGz: trace ? gzipJson(trace) : null, cellsGz: cells ? gzipJson(cells) : null,
-      noise: JSON.stringify(noise), summaryBytes: summaryGz.length,
+      noise: JSON.stringify(noise), summaryBytes: summaryGz.length, cellStatsGz,
     }).onConflict("runId").ignore();
     const n: number = await trx("runs").where({ id: run.id, status: "running" })
       .update({ status: "succeeded", finishedAt: trx.fn.now(), events, wallS, chunksDone: run.chunksTotal });

@@ -52,9 +52,15 @@ export async function listRuns(labId: string, f: { status?: RunStatus; versionId
   return { runs: rows.map(toRun), total: Number(total[0]?.count ?? 0) };
 }
 
+/**
+ * What counts toward the lab's queue limit: queued or running runs, where the design runs of one
+ * comparison count once together (a comparison of up to 24 designs is one launch).
+ */
 export async function countActiveRuns(labId: string): Promise<number> {
-  const r = await db("runs").where({ labId }).whereIn("status", ["queued", "running"]).count<{ count: string }[]>("* as count");
-  return Number(r[0]?.count ?? 0);
+  const r = await db("runs as r").where("r.labId", labId).whereIn("r.status", ["queued", "running"])
+    .leftJoin("comparison_designs as d", "d.runId", "r.id")
+    .first(db.raw("count(*) filter (where d.id is null) + count(distinct d.comparison_id) as count"));
+  return Number(r?.count ?? 0);
 }
 
 export async function insertRun(row: {

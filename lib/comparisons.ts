@@ -1,0 +1,424 @@
+import { requireLabRole, type Action } from "@/lib/access";
+import type {
+  ComparisonBandsJson, ComparisonJson, ComparisonResultsJson, DesignResultJson, DifferenceTestJson, IntervalJson, LnaCurveJson, SpeciesNoiseJson,
+} from "@/lib/comparison-view";
+import { MODEL_CAVEAT, comparisonProgress } from "@/lib/comparison-view";
+import {
+  cancelDesignRuns, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunNoise, insertComparison, insertDesignRuns,
+  listDesigns, listSettledRunningComparisons, storeComparisonResults, getComparisonResults,
+  type ComparisonRow, type DesignRow, type NewDesign,
+} from "@/lib/data/comparisons";
+import { getVersion, type VersionRow } from "@/lib/data/circuits";
+import { countActiveRuns, failRun, getRunSummaryParts } from "@/lib/data/runs";
+import { requireVersion } from "@/lib/data/version-access";
+import { conflict, idParam, notFound, tooMany, unprocessable } from "@/lib/http";
+import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
+import { drawSeed } from "@/lib/runs";
+import { checkOverrides, CircuitError } from "@/lib/schemas/circuit";
+import { COMPARISON_LIMITS, axisValues, sweepDesigns, type ComparisonCreate, type Sweep } from "@/lib/schemas/comparisons";
+import { RUN_LIMITS, type RunSettings } from "@/lib/schemas/runs";
+import { analyze } from "@/ssa/analyze";
+import { bootstrapNoise, compareCv, type Interval } from "@/ssa/bootstrap";
+import { decodeCellStats, type CellStats } from "@/ssa/cell-stats";
+import { compileModel } from "@/ssa/model";
+import { ENGINE_VERSION } from "@/ssa/version";
+
+/** Two-sided level of the difference test. */
+const TEST_ALPHA = 0.05;
+/** Points of the LNA curve along a sweep's first axis (fewer per line for a grid). */
+const LNA_CURVE_POINTS = 41;
+
+/**
+ * The comparison named by a URL segment, when the user may do `action` in its lab.
+ * @throws 404 for a bad id, a missing comparison or one in another lab; 403 for the role.
+ */
+export async function requireComparison(userId: string, rawId: string | undefined, action: Action = "lab:read"): Promise<ComparisonRow> {
+  const c = await getComparison(idParam(rawId, "comparison"));
+  if (!c) throw notFound("comparison");
+  await requireLabRole(userId, c.labId, action, "comparison");
+  return c;
+}
+
+/** A comparison as the API shows it (`GET /api/comparisons/:id`). */
+export function comparisonToJson(c: ComparisonRow, designs: DesignRow[], results: ComparisonResultsJson | null): ComparisonJson {
+  const json: ComparisonJson = {
+    id: c.id, lab_id: c.labId, name: c.name, description: c.description, kind: c.kind,
+    sweep: (c.sweep as ComparisonJson["sweep"]) ?? null, settings: c.settings, seed: c.seed, common_seed: c.commonSeed,
+    status: c.status, error: c.error, progress: 0, created_by: c.createdByEmail,
+    created_at: new Date(c.createdAt).toISOString(),
+    launched_at: c.launchedAt ? new Date(c.launchedAt).toISOString() : null,
+    finished_at: c.finishedAt ? new Date(c.finishedAt).toISOString() : null,
+    designs: designs.map((d) => ({
+      id: d.id, position: d.position, label: d.label, version_id: d.versionId, circuit_id: d.circuitId, circuit_name: d.circuitName,
+      version_number: d.versionNumber, overrides: d.overrides ?? {}, values: d.sweepValues,
+      run: d.runId ? { id: d.runId, status: d.runStatus ?? "queued", error: d.runError, chunks_done: d.chunksDone ?? 0, chunks_total: d.chunksTotal ?? 1, seed: d.runSeed ?? 0 } : null,
+    })),
+    results,
+  };
+  json.progress = comparisonProgress(json);
+  return json;
+}
+
+/**
+ * Seconds after its last design run finished before a read computes a comparison's results
+ * itself: the worker's run-finished hook normally does it first; this catches a missed hook.
+ */
+const READ_COMPUTES_AFTER_S = 15;
+
+/** The comparison with its designs and results, after reconciling it with its runs. */
+export async function loadComparisonJson(c: ComparisonRow): Promise<ComparisonJson> {
+  const status = c.status === "running" ? await refreshComparison(c.id, { computeAfterS: READ_COMPUTES_AFTER_S }) : c.status;
+  const row = status !== c.status ? ((await getComparison(c.id)) ?? c) : c;
+  const [designs, results] = await Promise.all([listDesigns(c.id), getComparisonResults<ComparisonResultsJson>(c.id)]);
+  return comparisonToJson(row, designs, results);
+}
+
+/** Rewrites an override error of the circuit rules (`overrides.k: …`) to name the request's field. */
+function overrideError(e: unknown, field: string, what?: string): never {
+  if (e instanceof CircuitError) {
+    const msg = e.issues[0] ?? e.message;
+    throw unprocessable(msg.startsWith("overrides.") ? `${field}.${msg.slice("overrides.".length)}` : `${field}: ${what ? `${what} gives ` : ""}${msg}`);
+  }
+  throw e;
+}
+
+/** Version of a design: must exist, be readable by the user and belong to the comparison's lab. */
+async function designVersion(userId: string, labId: string, versionId: string, field: string): Promise<VersionRow> {
+  const v = await requireVersion(userId, versionId, "lab:read").catch((e) => {
+    if ((e as { status?: number }).status === 404) throw unprocessable(`${field}: no such circuit version in your labs`);
+    throw e;
+  });
+  if (v.labId !== labId) throw unprocessable(`${field}: the version belongs to another lab`);
+  return v;
+}
+
+const labelOf = (v: VersionRow, overrides: Record<string, number>) => {
+  const extra = Object.entries(overrides).map(([k, x]) => `${k} = ${x}`).join(", ");
+  return `${v.circuit.name} v${v.number}${extra ? ` (${extra})` : ""}`.slice(0, 80);
+};
+
+/**
+ * Stores a comparison (designs listed, or a sweep expanded into designs) as a draft, and
+ * launches it when asked. Every design's overrides are checked against its circuit.
+ * @throws 404/403 (lab, role), 422 naming the field (versions, parameters, bounds), 429 (queue).
+ */
+export async function createComparison(userId: string, body: ComparisonCreate): Promise<{ id: string; designs: number; runs: string[] | null }> {
+  await requireLabRole(userId, body.lab_id, "comparison:write");
+  const designs: NewDesign[] = [];
+  if (body.designs) {
+    for (const [i, d] of body.designs.entries()) {
+      const v = await designVersion(userId, body.lab_id, d.version_id, `designs[${i}].version_id`);
+      const overrides = d.overrides ?? {};
+      try {
+        checkOverrides(v.circuit, overrides);
+      } catch (e) {
+        overrideError(e, `designs[${i}].overrides`);
+      }
+      designs.push({ position: i, label: d.label ?? labelOf(v, overrides), versionId: v.id, overrides, sweepValues: null });
+    }
+  } else {
+    const sweep = body.sweep as Sweep;
+    const v = await designVersion(userId, body.lab_id, sweep.version_id, "sweep.version_id");
+    const params = Object.keys(v.circuit.parameters ?? {});
+    sweep.axes.forEach((a, k) => {
+      if (!params.includes(a.parameter)) {
+        throw unprocessable(`sweep.axes[${k}].parameter: unknown parameter "${a.parameter}"${params.length ? ` (the circuit has ${params.join(", ")})` : " (the circuit has no parameters)"}`);
+      }
+    });
+    const base = sweep.overrides ?? {};
+    try {
+      checkOverrides(v.circuit, base);
+    } catch (e) {
+      overrideError(e, "sweep.overrides");
+    }
+    for (const [i, g] of sweepDesigns(sweep).entries()) {
+      const overrides = { ...base, ...g.values };
+      try {
+        checkOverrides(v.circuit, overrides);
+      } catch (e) {
+        overrideError(e, "sweep.axes", g.label);
+      }
+      designs.push({ position: i, label: g.label, versionId: v.id, overrides, sweepValues: g.values });
+    }
+  }
+  // Labels name designs in tables and tests: keep them unique.
+  const seen = new Map<string, number>();
+  for (const d of designs) {
+    const n = (seen.get(d.label) ?? 0) + 1;
+    seen.set(d.label, n);
+    if (n > 1) d.label = `${d.label} (${n})`;
+  }
+  const s = body.settings;
+  const id = await insertComparison({
+    labId: body.lab_id, name: body.name, description: body.description ?? null, kind: body.designs ? "designs" : "sweep",
+    sweep: body.sweep ?? null,
+    settings: { method: s.method, t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}) },
+    seed: s.seed ?? drawSeed(), commonSeed: s.common_seed, createdBy: userId,
+  }, designs);
+  const runs = body.launch ? await launchComparison(userId, id) : null;
+  return { id, designs: designs.length, runs };
+}
+
+/**
+ * Launches one ensemble per design with the comparison's settings: seed S for every design with
+ * common random numbers, else S + position. The comparison counts once toward the lab's queue limit.
+ * @throws 404/403, 409 when it is running or finished, 429 when the lab's queue is full.
+ */
+export async function launchComparison(userId: string, rawId: string): Promise<string[]> {
+  const c = await requireComparison(userId, rawId, "run:launch");
+  if (!["draft", "failed", "cancelled"].includes(c.status)) throw conflict(`status: the comparison is ${c.status}; only a draft, failed or cancelled one can be launched`);
+  const designs = await listDesigns(c.id);
+  if (designs.length < COMPARISON_LIMITS.minDesigns) throw conflict(`designs: a comparison needs at least ${COMPARISON_LIMITS.minDesigns} designs`);
+  if ((await countActiveRuns(c.labId)) >= RUN_LIMITS.maxQueuedPerLab) {
+    throw tooMany(`runs: the lab already has ${RUN_LIMITS.maxQueuedPerLab} runs or comparisons queued or running; wait for them or cancel some`);
+  }
+  const s = c.settings;
+  const chunksTotal = Math.ceil(s.runs / RUN_LIMITS.chunkCells);
+  const inserts = designs.map((d) => {
+    const settings: RunSettings = {
+      t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}),
+      ...(d.overrides && Object.keys(d.overrides).length ? { overrides: d.overrides } : {}), units: "molecules",
+    };
+    return { designId: d.id, versionId: d.versionId, method: s.method, settings, seed: c.commonSeed ? c.seed : c.seed + d.position, chunksTotal };
+  });
+  const ids = await insertDesignRuns(c.id, c.labId, userId, ENGINE_VERSION, inserts);
+  if (!ids) throw conflict("status: the comparison was launched meanwhile");
+  const jobs = ids.flatMap((runId) => Array.from({ length: chunksTotal }, (_, chunkIndex) => ({
+    data: { runId, chunkIndex } satisfies RunChunkJob, singletonKey: `${runId}:${chunkIndex}`,
+  })));
+  try {
+    await (await getSender()).insert(Queues.runChunk, jobs);
+  } catch (e) {
+    for (const id of ids) await failRun(id, "queue: the run could not be queued; try again");
+    await endComparison(c.id, "failed", "queue: the design runs could not be queued; launch again");
+    throw e;
+  }
+  return ids;
+}
+
+/** Cancels a running comparison and its unfinished runs. @throws 409 when it is not running. */
+export async function cancelComparison(userId: string, rawId: string): Promise<ComparisonRow> {
+  const c = await requireComparison(userId, rawId, "run:cancel");
+  if (c.status !== "running") throw conflict(`status: the comparison is ${c.status}`);
+  await cancelDesignRuns(c.id);
+  await endComparison(c.id, "cancelled", "cancelled by a member of the lab");
+  return (await getComparison(c.id)) ?? c;
+}
+
+/**
+ * Brings a running comparison up to date with its runs, idempotently: a failed or cancelled
+ * design run ends it (failed, with the reason); when every design run has succeeded, computes
+ * the noise table and stores it (a second caller finds it stored and does nothing). Called by
+ * the worker when a run finishes and by the API when a comparison is read. Returns the status.
+ */
+export async function refreshComparison(id: string, o: { computeAfterS?: number } = {}): Promise<ComparisonRow["status"] | null> {
+  const c = await getComparison(id);
+  if (!c) return null;
+  if (c.status !== "running") return c.status;
+  const designs = await listDesigns(id);
+  const broken = designs.find((d) => !d.runId || d.runStatus === "failed" || d.runStatus === "cancelled");
+  if (broken) {
+    const why = !broken.runId ? "its run was deleted"
+      : broken.runStatus === "cancelled" ? `run #${broken.runId} was cancelled` : `run #${broken.runId} failed: ${broken.runError ?? "no reason given"}`;
+    // The other designs' ensembles would be of no use now: stop them and free the lab's queue.
+    if (await endComparison(id, "failed", `design "${broken.label}": ${why}`)) await cancelDesignRuns(id);
+    return "failed";
+  }
+  if (!designs.every((d) => d.runStatus === "succeeded")) return "running";
+  if (o.computeAfterS !== undefined) {
+    const last = Math.max(...designs.map((d) => (d.runFinishedAt ? new Date(d.runFinishedAt).getTime() : Date.now())));
+    if (Date.now() - last < o.computeAfterS * 1000) return "running";
+  }
+  let results: ComparisonResultsJson;
+  try {
+    results = await computeResults(c, designs);
+  } catch (e) {
+    await endComparison(id, "failed", `results: ${e instanceof Error ? e.message : String(e)}`);
+    return "failed";
+  }
+  await storeComparisonResults(id, results);
+  return "succeeded";
+}
+
+/** What the worker calls when a run reaches a final state: refresh its comparison, if any. */
+export async function refreshComparisonOfRun(runId: string): Promise<void> {
+  const id = await getComparisonIdOfRun(runId);
+  if (id) await refreshComparison(id);
+}
+
+/** Catches up on running comparisons whose runs have all ended (a hook that never ran). */
+export async function refreshSettledComparisons(): Promise<number> {
+  const ids = await listSettledRunningComparisons();
+  for (const id of ids) await refreshComparison(id);
+  return ids.length;
+}
+
+const num = (v: number): number | null => (Number.isFinite(v) ? v : null);
+const ivJson = (iv: Interval): IntervalJson => ({ value: num(iv.value), lo: num(iv.lo), hi: num(iv.hi) });
+
+interface StoredNoise { period?: Record<string, { oscillating?: boolean; count?: number }> }
+
+async function designCellStats(d: DesignRow): Promise<CellStats> {
+  const data = d.runId ? await getRunCellStats(d.runId) : null;
+  if (!data) throw new Error(`design "${d.label}": run #${d.runId} has no per-cell statistics (it finished before they were stored); launch the comparison again`);
+  return decodeCellStats(data);
+}
+
+/** LNA CV and Fano per species at a design's steady state, with whether it is stable. */
+function lnaOf(circuit: VersionRow["circuit"], overrides: Record<string, number>): { stable: boolean | null; oscillatory: boolean | null; note: string; cv: Record<string, number | null> | null; fano: Record<string, number | null> | null } {
+  try {
+    const a = analyze(compileModel(circuit, overrides));
+    if (!a.lna) {
+      return { stable: a.stable, oscillatory: a.oscillatory, cv: null, fano: null,
+        note: a.oscillatory ? "unstable steady state (oscillatory: past a Hopf bifurcation); the LNA does not apply" : "unstable steady state; the LNA does not apply" };
+    }
+    return { stable: true, oscillatory: a.oscillatory, cv: a.lna.cv, fano: a.lna.fano, note: "LNA at the stable steady state" };
+  } catch (e) {
+    return { stable: null, oscillatory: null, cv: null, fano: null, note: `no LNA: ${e instanceof Error ? e.message : String(e)}` };
+  }
+}
+
+/**
+ * The noise table: per design and species, mean, SD, CV, Fano, period mean and period CV with
+ * 95% percentile-bootstrap intervals over cells (seeded: the comparison's seed, stream = the
+ * design's position), and the LNA prediction where the design's steady state is stable.
+ */
+async function computeResults(c: ComparisonRow, designs: DesignRow[]): Promise<ComparisonResultsJson> {
+  const versions = new Map<string, VersionRow>();
+  const out: DesignResultJson[] = [];
+  let timeUnit = "";
+  for (const d of designs) {
+    if (!versions.has(d.versionId)) {
+      const v = await getVersion(d.versionId);
+      if (!v) throw new Error(`design "${d.label}": its circuit version is gone`);
+      versions.set(d.versionId, v);
+    }
+    const v = versions.get(d.versionId)!;
+    timeUnit ||= v.circuit.units.time;
+    const species = v.circuit.species.map((s) => s.id);
+    const cs = await designCellStats(d);
+    if (cs.nSpecies !== species.length) throw new Error(`design "${d.label}": per-cell statistics do not match the circuit's species`);
+    const noise = (await getRunNoise<StoredNoise>(d.runId!)) ?? {};
+    const intervals = bootstrapNoise(cs, { seed: c.seed, stream: d.position, replicates: COMPARISON_LIMITS.replicates, level: COMPARISON_LIMITS.level });
+    const lna = lnaOf(v.circuit, d.overrides ?? {});
+    out.push({
+      design_id: d.id, position: d.position, label: d.label, run_id: d.runId!, seed: d.runSeed ?? c.seed, cells: cs.cells,
+      values: d.sweepValues, lna: { stable: lna.stable, oscillatory: lna.oscillatory, note: lna.note },
+      species: species.map((sp, i): SpeciesNoiseJson => {
+        const iv = intervals[i]!;
+        const oscillating = noise.period?.[sp]?.oscillating === true;
+        return {
+          species: sp, mean: ivJson(iv.mean), sd: ivJson(iv.sd), cv: ivJson(iv.cv), fano: ivJson(iv.fano),
+          period_mean: oscillating ? ivJson(iv.periodMean) : null, period_cv: oscillating ? ivJson(iv.periodCv) : null,
+          period_count: iv.periodCount, oscillating,
+          lna_cv: lna.cv?.[sp] ?? null, lna_fano: lna.fano?.[sp] ?? null,
+        };
+      }),
+    });
+  }
+  return {
+    format: "burstwise.comparison-results/1", computed_at: new Date().toISOString(),
+    level: COMPARISON_LIMITS.level, replicates: COMPARISON_LIMITS.replicates, bootstrap_seed: c.seed,
+    method: c.settings.method, time_unit: timeUnit, amount_unit: "molecules", designs: out,
+    lna_curve: c.kind === "sweep" ? lnaCurve(c, designs, versions) : null,
+  };
+}
+
+/** The LNA CV along the sweep's first axis, densely (per value of the second axis for a grid). */
+function lnaCurve(c: ComparisonRow, designs: DesignRow[], versions: Map<string, VersionRow>): LnaCurveJson | null {
+  const sweep = c.sweep as Sweep | null;
+  const first = sweep?.axes[0];
+  const v = designs[0] ? versions.get(designs[0].versionId) : undefined;
+  if (!sweep || !first || !v) return null;
+  const xs = axisValues(first);
+  const lo = Math.min(...xs);
+  const hi = Math.max(...xs);
+  const second = sweep.axes[1];
+  const groups = second ? axisValues(second) : [null];
+  const n = second ? Math.max(11, Math.floor(LNA_CURVE_POINTS / 2)) : LNA_CURVE_POINTS;
+  const log = first.scale === "log" && lo > 0;
+  const points: LnaCurveJson["points"] = [];
+  for (const g of groups) {
+    for (let i = 0; i < n; i++) {
+      const f = i / (n - 1);
+      const x = log ? lo * Math.pow(hi / lo, f) : lo + (hi - lo) * f;
+      const overrides = { ...(sweep.overrides ?? {}), [first.parameter]: x, ...(second && g !== null ? { [second.parameter]: g } : {}) };
+      try {
+        checkOverrides(v.circuit, overrides);
+      } catch {
+        continue;
+      }
+      const lna = lnaOf(v.circuit, overrides);
+      points.push({ x, group: g, cv: lna.cv ?? {} });
+    }
+  }
+  return { parameter: first.parameter, scale: first.scale, group: second?.parameter ?? null, points };
+}
+
+/**
+ * "Is B less noisy than A?": a bootstrap test of the difference in CV (and in period CV where
+ * both oscillate) of one species between two designs of a finished comparison; paired
+ * resampling when both ran with the same seed (common random numbers). Seeded: reproducible.
+ * @throws 404/403, 409 when the comparison has not succeeded, 422 naming a bad design or species.
+ */
+export async function testDifference(userId: string, rawId: string, q: { a: string; b: string; species: string }): Promise<DifferenceTestJson> {
+  const c = await requireComparison(userId, rawId);
+  if (c.status !== "succeeded") throw conflict(`status: the comparison is ${c.status}; the test needs every design's ensemble`);
+  const designs = await listDesigns(c.id);
+  const a = designs.find((d) => d.id === q.a);
+  const b = designs.find((d) => d.id === q.b);
+  if (!a) throw unprocessable(`a: not a design of this comparison`);
+  if (!b) throw unprocessable(`b: not a design of this comparison`);
+  if (a.id === b.id) throw unprocessable("b: must be another design than a");
+  const results = await getComparisonResults<ComparisonResultsJson>(c.id);
+  const ra = results?.designs.find((d) => d.design_id === a.id);
+  const rb = results?.designs.find((d) => d.design_id === b.id);
+  const ia = ra?.species.findIndex((s) => s.species === q.species) ?? -1;
+  const ib = rb?.species.findIndex((s) => s.species === q.species) ?? -1;
+  if (!ra || !rb || ia < 0 || ib < 0) throw unprocessable(`species: "${q.species}" is not a species of both designs`);
+  const [csA, csB] = await Promise.all([designCellStats(a), designCellStats(b)]);
+  const paired = a.runSeed !== null && a.runSeed === b.runSeed && csA.cells === csB.cells;
+  const t = compareCv(csA, ia, csB, ib, {
+    seed: c.seed, stream: 1_000_000 + 2 * (a.position * 64 + b.position), replicates: COMPARISON_LIMITS.replicates, level: COMPARISON_LIMITS.level, paired,
+  });
+  const sa = ra.species[ia]!;
+  const sb = rb.species[ib]!;
+  const bothOscillate = sa.oscillating && sb.oscillating;
+  const diff = (d: NonNullable<typeof t.periodCv>) => ({
+    difference: num(d.difference), lo: num(d.lo), hi: num(d.hi), p_value: num(d.pValue), share_b_lower: num(d.shareBLower), replicates: d.replicates,
+    significant: Number.isFinite(d.pValue) && d.pValue < TEST_ALPHA,
+  });
+  return {
+    species: q.species, level: COMPARISON_LIMITS.level, paired, replicates: COMPARISON_LIMITS.replicates,
+    a: { design_id: a.id, label: a.label, cv: sa.cv.value, period_cv: sa.period_cv?.value ?? null },
+    b: { design_id: b.id, label: b.label, cv: sb.cv.value, period_cv: sb.period_cv?.value ?? null },
+    cv: diff(t.cv),
+    period_cv: bothOscillate && t.periodCv ? diff(t.periodCv) : null,
+    period_note: bothOscillate ? null : `${q.species} does not oscillate in ${!sa.oscillating ? "A" : "B"}: no period to compare`,
+    caveat: MODEL_CAVEAT,
+  };
+}
+
+/** Every design's bands of one species (from the run summaries), thinned to about `points` times. */
+export async function comparisonBands(userId: string, rawId: string, q: { species: string; points: number }): Promise<ComparisonBandsJson> {
+  const c = await requireComparison(userId, rawId);
+  const designs = await listDesigns(c.id);
+  const out: ComparisonBandsJson = { species: q.species, time_unit: "", amount_unit: "molecules", designs: [] };
+  for (const d of designs) {
+    if (!d.runId || d.runStatus !== "succeeded") continue;
+    const parts = await getRunSummaryParts(d.runId);
+    if (!parts) continue;
+    const s = JSON.parse(parts.summary) as { times: number[]; time_unit?: string; mean: Record<string, (number | null)[]>; quantiles: Record<string, Record<string, (number | null)[]>> };
+    const qs = s.quantiles[q.species];
+    if (!qs) continue;
+    out.time_unit ||= s.time_unit ?? "";
+    const step = Math.max(1, Math.ceil(s.times.length / q.points));
+    const pick = <T,>(xs: T[]) => xs.filter((_, g) => g % step === 0 || g === xs.length - 1);
+    out.designs.push({
+      design_id: d.id, label: d.label, times: pick(s.times), mean: pick(s.mean[q.species] ?? []),
+      p05: pick(qs.p05 ?? []), p25: pick(qs.p25 ?? []), p50: pick(qs.p50 ?? []), p75: pick(qs.p75 ?? []), p95: pick(qs.p95 ?? []),
+    });
+  }
+  if (!out.designs.length && designs.some((d) => d.runStatus === "succeeded")) throw unprocessable(`species: "${q.species}" is not a species of these designs`);
+  return out;
+}
