@@ -63,7 +63,18 @@ export interface Circuit {
   volume_fL?: number;
   species: Species[];
   parameters?: Record<string, number>;
+  /**
+   * Display text for declared parameters, by parameter name: a free-text unit (at most 40
+   * characters) and a note (at most 500). Optional; no number depends on it.
+   */
+  parameter_info?: Record<string, ParameterInfo>;
   reactions: Reaction[];
+}
+
+/** What the modeler wrote about one parameter: its unit as text and a note. */
+export interface ParameterInfo {
+  unit?: string;
+  note?: string;
 }
 
 /**

@@ -100,6 +100,15 @@ const Reaction = z.strictObject({
   notes: z.string().max(10000).optional(),
 });
 
+/** Display text of one parameter (`parameter_info.<name>`); no number depends on it. */
+const ParameterInfo = z.strictObject(
+  {
+    unit: z.string({ error: "must be text" }).max(40, "must be at most 40 characters").optional(),
+    note: z.string({ error: "must be text" }).max(500, "must be at most 500 characters").optional(),
+  },
+  { error: (iss) => (iss.code === "invalid_type" ? "must be an object { unit?, note? }" : undefined) },
+);
+
 export const CircuitShape = z.strictObject({
   format: z.literal(CIRCUIT_FORMAT, { error: `must be "${CIRCUIT_FORMAT}"` }),
   name: z.string().max(200).optional(),
@@ -118,6 +127,7 @@ export const CircuitShape = z.strictObject({
     .min(1, "must list at least one species")
     .max(MAX_SPECIES, `must list at most ${MAX_SPECIES} species`),
   parameters: z.record(z.string(), finiteNumber(), { error: required("an object of names to numbers") }).optional(),
+  parameter_info: z.record(z.string(), ParameterInfo, { error: "must be an object of parameter names to { unit?, note? }" }).optional(),
   reactions: z
     .array(Reaction, { error: required("a list of reactions") })
     .min(1, "must list at least one reaction")
@@ -159,6 +169,9 @@ export function circuitSemanticIssuesWith(c: z.infer<typeof CircuitShape>, parse
     else if (speciesIds.has(name)) add(["parameters", name], `name already used by species "${name}"`);
   }
   const isParameter = (id: string) => Object.prototype.hasOwnProperty.call(params, id) && !speciesIds.has(id);
+  for (const name of Object.keys(c.parameter_info ?? {})) {
+    if (!Object.prototype.hasOwnProperty.call(params, name)) add(["parameter_info", name], `unknown parameter "${name}"`);
+  }
 
   const reactionIds = new Set<string>();
   c.reactions.forEach((r, i) => {

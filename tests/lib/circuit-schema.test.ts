@@ -95,9 +95,23 @@ describe("parseCircuit", () => {
     ["expression arity", (c) => (c.reactions[0].rate = { law: "expression", expression: "pow(C)" }), "reactions[0].rate.expression: pow() takes 2 arguments, got 1"],
     ["expression empty", (c) => (c.reactions[0].rate = { law: "expression", expression: " " }), "reactions[0].rate.expression: must be a non-empty formula"],
     ["not an object", (c) => Object.assign(c, { reactions: "none" }), "reactions: must be a list of reactions"],
+    ["parameter_info of an undeclared parameter", (c) => (c.parameter_info = { K: { unit: "nM" }, Kc: { unit: "nM" } }), 'parameter_info.Kc: unknown parameter "Kc"'],
+    ["parameter_info unit length", (c) => (c.parameter_info = { K: { unit: "x".repeat(41) } }), "parameter_info.K.unit: must be at most 40 characters"],
+    ["parameter_info note length", (c) => (c.parameter_info = { g: { note: "y".repeat(501) } }), "parameter_info.g.note: must be at most 500 characters"],
+    ["parameter_info unit text", (c) => (c.parameter_info = { g: { unit: 5 } }), "parameter_info.g.unit: must be text"],
+    ["parameter_info stray key", (c) => (c.parameter_info = { g: { unit: "1/min", value: 3 } }), 'parameter_info.g: Unrecognized key: "value"'],
+    ["parameter_info entry shape", (c) => (c.parameter_info = { g: "1/min" }), "parameter_info.g: must be an object { unit?, note? }"],
+    ["parameter_info shape", (c) => (c.parameter_info = []), "parameter_info: must be an object of parameter names to { unit?, note? }"],
   ])("rejects a bad %s", (_rule, edit, message) => {
     expect(firstIssue(edit)).toContain(message);
     expect(firstIssue(edit).startsWith(message.split(":")[0] as string)).toBe(true);
+  });
+
+  it("accepts parameter_info with unit and note at their longest (40 and 500 characters), or either alone", () => {
+    const c = good();
+    c.parameter_info = { K: { unit: "u".repeat(40), note: "n".repeat(500) }, g: { unit: "1/min" }, n: { note: "Hill coefficient" } };
+    expect(parseCircuit(c).parameter_info).toEqual(c.parameter_info);
+    expect(parseCircuit(good())).not.toHaveProperty("parameter_info");
   });
 
   it("rejects a document that is not an object, naming the root", () => {

@@ -3,6 +3,7 @@ import { readFileSync } from "node:fs";
 import { describe, expect, it } from "vitest";
 
 import { parseCircuit } from "@/lib/schemas/circuit";
+import { analyze } from "@/ssa/analyze";
 import { compileModel } from "@/ssa/model";
 import { simulate } from "@/ssa/simulate";
 
@@ -37,6 +38,27 @@ describe("simulate", () => {
     const s = simulate(m, { method: "ssa", tEnd: 10, dt: 1, runs: 5, seed: 1 });
     expect(s.runs).toBe(5);
     expect(s.seed).toBe(1);
+  });
+});
+
+describe("parameter_info is display text only", () => {
+  it("the ring timer with and without parameter_info gives byte-identical simulate output for a seed, and the same analyze", () => {
+    const file = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
+    const plain = parseCircuit(file);
+    const noted = parseCircuit({
+      ...file,
+      parameter_info: { K: { unit: "nM", note: "half-repression level" }, g: { unit: "1/min" }, n: { note: "cooperativity" } },
+    });
+    expect(noted.parameter_info?.K?.unit).toBe("nM");
+    for (const method of ["ssa", "tau", "ode"] as const) {
+      const opts = { method, tEnd: 120, dt: 2, runs: 40, seed: 9001 };
+      const a = simulate(compileModel(plain), opts);
+      const b = simulate(compileModel(noted), opts);
+      // wall-clock figures are the only fields allowed to differ between two runs
+      const bytes = (s: typeof a) => JSON.stringify({ ...s, wall_s: 0, events_per_s: 0 });
+      expect(bytes(b), method).toBe(bytes(a));
+    }
+    expect(JSON.stringify(analyze(compileModel(noted)))).toBe(JSON.stringify(analyze(compileModel(plain))));
   });
 });
 
