@@ -256,6 +256,22 @@ describe("errors, cancel and failure", () => {
     expect(await page.getByTestId("bands-chart").count()).toBe(0);
   });
 
+  it("a run with overrides sets the LNA, computed with those overrides, beside the ensemble (birth–death: Fano 1, CV 1/√(k/g))", async () => {
+    // Birth–death is Poisson at stationarity, and the LNA is exact for it (textbook): with k = 20, g = 0.1
+    // the mean is 200, so CV = 1/√200 = 0.07071 and Fano = 1.
+    const birthDeath = JSON.parse(readFileSync("examples/birth-death.circuit.json", "utf8"));
+    const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: { ...birthDeath, name: `Birth-death (runs screens ${Date.now()})` } });
+    expect(c.status, c.text).toBe(201);
+    const r = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 100, dt: 1, runs: 100, seed: 11, overrides: { k: 20 } });
+    expect(r.status, r.text).toBe(202);
+    await waitForRun(modeler, r.json.id, (x) => x.status === "succeeded", 60_000);
+    await page.goto(`/labs/${labId}/runs/${r.json.id}`);
+    const table = page.getByTestId("noise-table");
+    await table.getByText("with this run's overrides").waitFor();
+    await expect.poll(async () => (await table.locator("tbody tr").first().locator("td").allTextContents()).slice(4)).toEqual(["0.07071", "1"]);
+    expect(await page.getByText("k = 20").count()).toBe(1); // provenance lists the override
+  });
+
   it("a failed run shows its reason", async () => {
     // A birth with no bound on its rate: the cell passes the engine's event cap and the run fails.
     const runaway = {
@@ -319,5 +335,23 @@ describe("lists and roles", () => {
     expect(await reviewer.signIn("reviewer@sentinel.example", PASSWORD)).toBe(true);
     const r = await reviewer.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 10, dt: 1, runs: 1 });
     expect(r.status).toBe(403);
+  });
+});
+
+describe("tablet width", () => {
+  it("the launcher and a finished run fit 768 px without sideways scrolling", async () => {
+    await page.setViewportSize({ width: 768, height: 1024 });
+    try {
+      for (const [path, name] of [[`/labs/${labId}/runs/new?version=${versionId}`, "runs-08-launcher-tablet"], [`/labs/${labId}/runs/${runId}`, "runs-09-results-tablet"]] as const) {
+        await page.goto(path);
+        await page.locator("svg, [data-testid=cost-estimate]").first().waitFor();
+        if (name === "runs-09-results-tablet") await page.getByTestId("bands-chart").locator("svg g.mark-area").first().waitFor();
+        const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
+        expect(overflow).toBeLessThanOrEqual(0);
+        await shot(page, name);
+      }
+    } finally {
+      await page.setViewportSize({ width: 1280, height: 800 });
+    }
   });
 });
