@@ -7,12 +7,14 @@
  * Hill laws are written out in the ratio form vmax·(x/K)^n/(1 + (x/K)^n), whose power has a
  * dimensionless base. Each reaction also carries its original rate law in an annotation
  * (namespace urn:burstwise:sbml:rate-law:1) that sbmlToCircuit restores when it still agrees
- * with the MathML. Pure: no I/O.
+ * with the MathML. A parameter's `parameter_info` travels as its SBML <notes> (the note, one XHTML
+ * <p> per line) and an annotation (namespace urn:burstwise:sbml:parameter-info:1) with the unit
+ * text; empty texts are not written. Pure: no I/O.
  */
 import { parseExpression } from "./expr";
 import { apply, ci, cn, exprToMathML, mathElement } from "./sbml-math";
-import { RATE_ANNOTATION, RATE_ANNOTATION_NS } from "./sbml";
-import type { Circuit, NumberOrParam, RateLaw } from "./types";
+import { PARAMETER_ANNOTATION, PARAMETER_ANNOTATION_NS, RATE_ANNOTATION, RATE_ANNOTATION_NS } from "./sbml";
+import type { Circuit, NumberOrParam, ParameterInfo, RateLaw } from "./types";
 
 const SBML_NS = "http://www.sbml.org/sbml/level3/version2/core";
 const XHTML_NS = "http://www.w3.org/1999/xhtml";
@@ -145,7 +147,14 @@ export function circuitToSbml(c: Circuit): string {
     for (const [id, value] of paramEntries) {
       const role = roles.get(id);
       const u = role ? ` units="${[...role][0]}"` : "";
-      out.push(`      <parameter id="${id}" value="${value}"${u} constant="true"/>`);
+      const info = parameterInfoXml(c.parameter_info?.[id]);
+      if (!info.length) {
+        out.push(`      <parameter id="${id}" value="${value}"${u} constant="true"/>`);
+        continue;
+      }
+      out.push(`      <parameter id="${id}" value="${value}"${u} constant="true">`);
+      for (const line of info) out.push(`        ${line}`);
+      out.push(`      </parameter>`);
     }
     out.push(`    </listOfParameters>`);
   }
@@ -239,6 +248,22 @@ function rateMath(
       return { math: exprToMathML(parsed.expr), species };
     }
   }
+}
+
+/**
+ * The <notes> (the note, one XHTML paragraph per line) and <annotation> (the unit text) of a
+ * parameter, in the order SBML requires; nothing for an absent or empty text.
+ */
+function parameterInfoXml(info: ParameterInfo | undefined): string[] {
+  const out: string[] = [];
+  if (info?.note) {
+    const paragraphs = info.note.split(/\r?\n/).map((line) => `<p>${xmlEscape(line)}</p>`).join("");
+    out.push(`<notes><body xmlns="${XHTML_NS}">${paragraphs}</body></notes>`);
+  }
+  if (info?.unit) {
+    out.push(`<annotation><${PARAMETER_ANNOTATION} xmlns="${PARAMETER_ANNOTATION_NS}" unit="${xmlEscape(info.unit)}"/></annotation>`);
+  }
+  return out;
 }
 
 function annotation(rate: RateLaw): string {

@@ -23,7 +23,7 @@ import {
   attrsOf, bin, childrenOf, evaluateFormula, MathError, mathSymbols, num, printFormula, readMath, substitute, sym, tagOf, textOf, translate,
   type Formula, type MathAst, type TranslateContext, type XmlNode,
 } from "./sbml-math";
-import { CIRCUIT_FORMAT, type AmountUnit, type Circuit, type RateLaw, type Reaction, type TimeUnit } from "./types";
+import { CIRCUIT_FORMAT, type AmountUnit, type Circuit, type ParameterInfo, type RateLaw, type Reaction, type TimeUnit } from "./types";
 
 /** Bad or unsupported SBML. The message starts with `sbml:` and names the element. */
 export class SbmlError extends Error {
@@ -59,6 +59,12 @@ const MAX_XML_CHARS = 50_000_000;
 /** Local name of the element circuitToSbml puts in each reaction's <annotation>. */
 export const RATE_ANNOTATION = "burstwiseRateLaw";
 export const RATE_ANNOTATION_NS = "urn:burstwise:sbml:rate-law:1";
+/** Local name of the element circuitToSbml puts in a parameter's <annotation> (its unit text). */
+export const PARAMETER_ANNOTATION = "burstwiseParameterInfo";
+export const PARAMETER_ANNOTATION_NS = "urn:burstwise:sbml:parameter-info:1";
+/** Limits of `parameter_info` texts in the circuit file (lib/schemas/circuit-rules.ts). */
+const MAX_UNIT_TEXT = 40;
+const MAX_NOTE_TEXT = 500;
 
 /** Parses an SBML document into a circuit. @throws SbmlError naming the element at fault. */
 export function sbmlToCircuit(xml: string, options: SbmlImportOptions = {}): SbmlImport {
@@ -179,6 +185,8 @@ class SbmlReader {
   private compartments = new Map<string, CompartmentInfo>();
   private species = new Map<string, SpeciesInfo>();
   private globalParams = new Map<string, { value?: number; constant: boolean }>();
+  /** Unit text and note of SBML global parameters (their <notes> and our annotation), by SBML id. */
+  private paramInfo = new Map<string, ParameterInfo>();
   private assignmentRules = new Map<string, MathAst>();
   private initialAssignments = new Map<string, MathAst>();
   private reactionIds = new Set<string>();
@@ -247,7 +255,19 @@ class SbmlReader {
     };
     if (this.options.useAnnotations !== false) this.restoreAnnotatedLaws(circuit);
     this.finalParameters(circuit);
-    return { circuit, warnings: this.warnings, level: this.level, version: this.version };
+    return { circuit: this.withParameterInfo(circuit), warnings: this.warnings, level: this.level, version: this.version };
+  }
+
+  /** The circuit with `parameter_info` (after `parameters`) for the kept parameters that have a unit text or note. */
+  private withParameterInfo(circuit: Circuit): Circuit {
+    const info: Record<string, ParameterInfo> = {};
+    for (const [g, pi] of this.paramInfo) {
+      const id = this.idFor(g);
+      if (Object.prototype.hasOwnProperty.call(circuit.parameters ?? {}, id) && !this.assignmentRules.has(g)) info[id] = pi;
+    }
+    if (Object.keys(info).length === 0) return circuit;
+    const { reactions, ...head } = circuit;
+    return { ...head, parameter_info: info, reactions };
   }
 
   private rejectUnsupported(): void {
@@ -361,6 +381,10 @@ class SbmlReader {
         value: a.value !== undefined ? parseNumberAttr(a.value, `parameter "${id}" value`) : undefined,
         constant: a.constant !== "false",
       });
+      const note = paragraphLines(child(p, "notes")).slice(0, MAX_NOTE_TEXT);
+      const unit = elems(child(p, "annotation")).find((n) => tagOf(n) === PARAMETER_ANNOTATION);
+      const unitText = unit ? (attrsOf(unit).unit ?? "").slice(0, MAX_UNIT_TEXT) : "";
+      if (note || unitText) this.paramInfo.set(id, { ...(unitText ? { unit: unitText } : {}), ...(note ? { note } : {}) });
     }
   }
 
@@ -887,6 +911,21 @@ function notesText(notes: XmlNode | undefined): string {
   walk(notes, loose);
   const text = [...paragraphs, loose.join(" ").replace(/\s+/g, " ").trim()].filter(Boolean).join("\n\n");
   return text;
+}
+
+/**
+ * The text of a parameter's <notes>, one line per XHTML paragraph (as circuitToSbml writes a
+ * note), spaces inside a line kept; notes without paragraphs read as notesText does.
+ */
+function paragraphLines(notes: XmlNode | undefined): string {
+  if (!notes) return "";
+  const body = child(notes, "body") ?? child(child(notes, "html"), "body") ?? notes;
+  const blocks = elems(body);
+  if (blocks.length === 0 || !blocks.every((b) => tagOf(b) === "p")) return notesText(notes);
+  const textOfNode = (n: XmlNode): string[] =>
+    childrenOf(n).flatMap((c) => (tagOf(c) === "#text" ? [String(c["#text"])] : tagOf(c) === "#comment" ? [] : textOfNode(c)));
+  const lines = blocks.map((p) => textOfNode(p).join(" ").replace(/\s*\n\s*/g, " ").trim());
+  return lines.join("\n").trim();
 }
 
 function parseNumberAttr(s: string, what: string): number {

@@ -66,6 +66,20 @@ const extraCircuits: Circuit[] = [
   }),
 ];
 
+/** The ring timer with parameter_info: units, a two-line note, XML specials and non-ASCII text. */
+function ringWithInfo(): Circuit {
+  const c = load("examples/ring-timer.circuit.json");
+  return parseCircuit({
+    ...c,
+    parameter_info: {
+      vA: { unit: "nM/min", note: "max. production of A\nfrom the plate-reader fit, run 3" },
+      K: { unit: "nM", note: "half-repression level <K> & \"typical\" for tetR-like sites" },
+      n: { note: "cooperativity (dimer binding)" },
+      g: { unit: "1/min (µ-scale)" },
+    },
+  });
+}
+
 const roundTripCircuits: [string, Circuit][] = [
   ["ring timer", load("examples/ring-timer.circuit.json")],
   ["ring timer 10 fL", load("examples/ring-timer-10fL.circuit.json")],
@@ -73,6 +87,7 @@ const roundTripCircuits: [string, Circuit][] = [
   ["birth-death", load("examples/birth-death.circuit.json")],
   ["dimer switch (uM, h, all laws)", extraCircuits[0]],
   ["molecules in seconds", extraCircuits[1]],
+  ["ring timer with parameter_info", ringWithInfo()],
 ];
 
 describe("SBML round trip", () => {
@@ -110,6 +125,50 @@ describe("SBML round trip", () => {
         expect(trajectory(compileModel(back), opts, index).values).toEqual(trajectory(compileModel(c), opts, index).values);
       }
     }
+  });
+
+  it("parameter_info travels as each parameter's XHTML <notes> (one <p> per line) and a Burstwise annotation with the unit text", () => {
+    const xml = circuitToSbml(ringWithInfo());
+    expect(xml).toContain(
+      `<parameter id="vA" value="40" units="nM_per_minute" constant="true">\n` +
+        `        <notes><body xmlns="http://www.w3.org/1999/xhtml"><p>max. production of A</p><p>from the plate-reader fit, run 3</p></body></notes>\n` +
+        `        <annotation><burstwiseParameterInfo xmlns="urn:burstwise:sbml:parameter-info:1" unit="nM/min"/></annotation>\n` +
+        `      </parameter>`,
+    );
+    expect(xml).toContain("<p>half-repression level &lt;K&gt; &amp; &quot;typical&quot; for tetR-like sites</p>");
+    // a parameter without parameter_info is written as before
+    expect(xml).toMatch(/<parameter id="vB" value="40" units="[^"]+" constant="true"\/>/);
+    // without its notes and annotations each parameter is exactly what the plain circuit gives: no number or unit changed
+    const plain = load("examples/ring-timer.circuit.json");
+    expect(xml.replace(/(<parameter [^>]*)>(?:\n\s*<(?:notes|annotation)>.*)+\n\s*<\/parameter>/g, "$1/>")).toBe(circuitToSbml(plain));
+    const back = sbmlToCircuit(xml, { useAnnotations: false }).circuit;
+    expect(back.parameter_info).toEqual(ringWithInfo().parameter_info);
+    expect(sbmlToCircuit(circuitToSbml(plain)).circuit).not.toHaveProperty("parameter_info");
+  });
+
+  it("a parameter note from another tool's SBML becomes parameter_info (paragraphs as lines, capped at 500 characters)", () => {
+    const xml = `<sbml xmlns="http://www.sbml.org/sbml/level3/version2/core" level="3" version="2"><model substanceUnits="item">
+      <listOfCompartments><compartment id="c" size="1" spatialDimensions="3" constant="true"/></listOfCompartments>
+      <listOfSpecies><species id="X" compartment="c" initialAmount="1" hasOnlySubstanceUnits="true" boundaryCondition="false" constant="false"/></listOfSpecies>
+      <listOfParameters>
+        <parameter id="k" value="2" constant="true"><notes><html xmlns="http://www.w3.org/1999/xhtml"><head><title>k</title></head><body>
+          <p>Synthesis rate,
+             per cell.</p><p>See <b>Table 2</b>.</p></body></html></notes></parameter>
+        <parameter id="g" value="0.1" constant="true"><notes><body xmlns="http://www.w3.org/1999/xhtml"><p>${"x".repeat(600)}</p></body></notes></parameter>
+        <parameter id="unused" value="3" constant="true"><notes><body xmlns="http://www.w3.org/1999/xhtml"><p>kept even where no rate uses it</p></body></notes></parameter>
+      </listOfParameters>
+      <listOfReactions>
+        <reaction id="make" reversible="false"><listOfProducts><speciesReference species="X" stoichiometry="1" constant="true"/></listOfProducts>
+          <kineticLaw><math xmlns="http://www.w3.org/1998/Math/MathML"><ci>k</ci></math></kineticLaw></reaction>
+        <reaction id="lose" reversible="false"><listOfReactants><speciesReference species="X" stoichiometry="1" constant="true"/></listOfReactants>
+          <kineticLaw><math xmlns="http://www.w3.org/1998/Math/MathML"><apply><times/><ci>g</ci><ci>X</ci></apply></math></kineticLaw></reaction>
+      </listOfReactions></model></sbml>`;
+    const c = parseCircuit(sbmlToCircuit(xml).circuit);
+    expect(c.parameter_info).toEqual({
+      k: { note: "Synthesis rate, per cell.\nSee Table 2 ." },
+      g: { note: "x".repeat(500) },
+      unused: { note: "kept even where no rate uses it" },
+    });
   });
 
   it("an edited kinetic law wins over a stale annotation", () => {
@@ -151,6 +210,14 @@ describe("SBML export passes libSBML's consistency checks", () => {
       expect(r.status).toBe(0);
       expect(`${f}: ${r.stdout}`).toBe(`${f}: `);
     }
+  });
+
+  it.skipIf(!hasLibsbml)("circuitToSbml(ring timer with parameter_info: notes and unit annotations) has no libSBML error or warning", () => {
+    const file = join(mkdtempSync(join(tmpdir(), "bw-sbml-")), "ring-info.xml");
+    writeFileSync(file, circuitToSbml(ringWithInfo()));
+    const r = spawnSync("perl", ["-e", LIBSBML_CHECK, file], { encoding: "utf8" });
+    expect(r.status).toBe(0);
+    expect(r.stdout).toBe("");
   });
 
   it.skipIf(!hasLibsbml)("circuitToSbml(a circuit with free formulas) has no libSBML error (unit warnings from the formula itself are allowed)", () => {
