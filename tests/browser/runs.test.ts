@@ -344,8 +344,8 @@ describe("tablet width", () => {
     try {
       for (const [path, name] of [[`/labs/${labId}/runs/new?version=${versionId}`, "runs-08-launcher-tablet"], [`/labs/${labId}/runs/${runId}`, "runs-09-results-tablet"]] as const) {
         await page.goto(path);
-        await page.locator("svg, [data-testid=cost-estimate]").first().waitFor();
-        if (name === "runs-09-results-tablet") await page.getByTestId("bands-chart").locator("svg g.mark-area").first().waitFor();
+        if (name === "runs-08-launcher-tablet") await page.getByTestId("cost-estimate").getByText("of one thread").waitFor();
+        else await page.getByTestId("bands-chart").locator("svg g.mark-area").first().waitFor();
         const overflow = await page.evaluate(() => document.documentElement.scrollWidth - document.documentElement.clientWidth);
         expect(overflow).toBeLessThanOrEqual(0);
         await shot(page, name);

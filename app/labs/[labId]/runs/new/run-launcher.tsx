@@ -115,19 +115,18 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
   });
 
   // Expected cost, recomputed a moment after the inputs settle (an ODE solve in the browser).
-  const [cost, setCost] = useState<{ estimate?: CostEstimate; error?: string } | null>(null);
+  const [computed, setComputed] = useState<{ key: string; estimate?: CostEstimate; error?: string } | null>(null);
   const cellsNum = isTrace ? 1 : num(cells);
   const costKey = JSON.stringify({ method, tEndNum, cellsNum, overrideValues });
+  const costInputsValid = Boolean(tEndNum && tEndNum > 0 && Number.isFinite(tEndNum) && cellsNum && Number.isInteger(cellsNum) && cellsNum > 0);
+  const cost = computed?.key === costKey ? computed : null;
   useEffect(() => {
-    if (!(tEndNum && tEndNum > 0 && Number.isFinite(tEndNum) && cellsNum && Number.isInteger(cellsNum) && cellsNum > 0)) {
-      setCost(null);
-      return;
-    }
+    if (!costInputsValid || !tEndNum || !cellsNum) return;
     const h = setTimeout(() => {
       try {
-        setCost({ estimate: estimateRunCost(circuit, { method, tEnd: tEndNum, cells: cellsNum, overrides: overrides.length ? overrideValues : undefined }) });
+        setComputed({ key: costKey, estimate: estimateRunCost(circuit, { method, tEnd: tEndNum, cells: cellsNum, overrides: overrides.length ? overrideValues : undefined }) });
       } catch (e) {
-        setCost({ error: e instanceof Error ? e.message : String(e) });
+        setComputed({ key: costKey, error: e instanceof Error ? e.message : String(e) });
       }
     }, 300);
     return () => clearTimeout(h);
@@ -267,8 +266,10 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
           <h2 id="cost-h" className="font-semibold">Expected cost</h2>
           {isTrace ? (
             <p className="mt-1 text-ink-soft">A trace is one ODE solve with error control: usually well under a second.</p>
-          ) : !cost ? (
+          ) : !costInputsValid ? (
             <p className="mt-1 text-ink-soft">Enter an end time and a whole number of cells.</p>
+          ) : !cost ? (
+            <p className="mt-1 text-ink-soft" aria-busy="true">Estimating…</p>
           ) : cost.error ? (
             <p className="mt-1 text-red-700">Cannot estimate: {cost.error}</p>
           ) : cost.estimate ? (
