@@ -1,6 +1,6 @@
 /**
  * A readable difference between two versions of a circuit: what changed in the file's settings,
- * species, parameters and reactions (rate laws field by field). Species and reactions are matched
+ * species, parameters (value, unit text and note) and reactions (rate laws field by field). Species and reactions are matched
  * by id and parameters by name, so a rename reads as one removed and one added. Pure.
  */
 import type { Circuit, Reaction, Species } from "@/ssa/types";
@@ -134,11 +134,11 @@ export function diffCircuits(a: Circuit, b: Circuit): CircuitDiff {
     ["volume_fL", x.volume_fL, y.volume_fL],
   ]);
   const species = diffById(a.species, b.species, (s) => s.id, (s) => `initial ${s.initial}`, speciesFields, true);
-  const paramsA = Object.entries(a.parameters ?? {}).map(([name, value]) => ({ name, value }));
-  const paramsB = Object.entries(b.parameters ?? {}).map(([name, value]) => ({ name, value }));
+  const paramRows = (c: Circuit) =>
+    Object.entries(c.parameters ?? {}).map(([name, value]) => ({ name, value, ...(c.parameter_info?.[name] ?? {}) }));
   const parameters = diffById(
-    paramsA, paramsB, (p) => p.name, (p) => `= ${p.value}`,
-    (p, q) => compareFields([["value", p.value, q.value]]), false,
+    paramRows(a), paramRows(b), (p) => p.name, (p) => `= ${p.value}${p.unit ? `, unit ${p.unit}` : ""}`,
+    (p, q) => compareFields([["value", p.value, q.value], ["unit", p.unit, q.unit], ["note", p.note, q.note]]), false,
   );
   const reactions = diffById(a.reactions, b.reactions, (r) => r.id, describeReaction, reactionFields, true);
   const sectionEmpty = (s: SectionDiff) => !s.added.length && !s.removed.length && !s.changed.length && !s.reordered;

@@ -23,6 +23,9 @@ export interface ParameterRow {
   key: string;
   name: string;
   value: string;
+  /** `parameter_info.<name>.unit` and `.note` as typed; empty means absent. */
+  unit: string;
+  note: string;
 }
 
 export interface ReactionRow {
@@ -57,6 +60,11 @@ export interface CircuitForm {
   reactions: ReactionRow[];
   /** Whether the file had `parameters: {}` (kept so an untouched circuit saves unchanged). */
   emptyParameters: boolean;
+  /**
+   * `parameter_info` entries of names that are not parameters (a half-written raw file), kept so
+   * the schema still reports them; written back while no row has that name.
+   */
+  orphanInfo: Record<string, unknown>;
   /** Top-level fields the form does not edit (notes), kept as they were. */
   extra: Record<string, unknown>;
 }
@@ -115,6 +123,11 @@ export function circuitToForm(json: unknown, keyPrefix = ""): CircuitForm {
   const c = isRecord(json) ? json : {};
   const units = isRecord(c.units) ? c.units : {};
   const params = isRecord(c.parameters) ? c.parameters : {};
+  const info = isRecord(c.parameter_info) ? c.parameter_info : {};
+  const infoOf = (name: string) => {
+    const entry = Object.prototype.hasOwnProperty.call(info, name) ? info[name] : undefined;
+    return isRecord(entry) ? entry : {};
+  };
   const species = Array.isArray(c.species) ? c.species : [];
   const reactions = Array.isArray(c.reactions) ? c.reactions : [];
   return {
@@ -127,7 +140,9 @@ export function circuitToForm(json: unknown, keyPrefix = ""): CircuitForm {
       const o = isRecord(s) ? s : {};
       return { key: `${keyPrefix}s${i}`, id: text(o.id), initial: text(o.initial), extra: omit(o, ["id", "initial"]) };
     }),
-    parameters: Object.entries(params).map(([name, value], i) => ({ key: `${keyPrefix}p${i}`, name, value: text(value) })),
+    parameters: Object.entries(params).map(([name, value], i) => ({
+      key: `${keyPrefix}p${i}`, name, value: text(value), unit: text(infoOf(name).unit), note: text(infoOf(name).note),
+    })),
     reactions: reactions.map((r, i) => {
       const o = isRecord(r) ? r : {};
       const rate = isRecord(o.rate) ? o.rate : {};
@@ -151,7 +166,8 @@ export function circuitToForm(json: unknown, keyPrefix = ""): CircuitForm {
       };
     }),
     emptyParameters: isRecord(c.parameters) && Object.keys(c.parameters).length === 0,
-    extra: omit(c, ["format", "name", "description", "units", "volume_fL", "species", "parameters", "reactions"]),
+    orphanInfo: Object.fromEntries(Object.entries(info).filter(([name]) => !Object.prototype.hasOwnProperty.call(params, name))),
+    extra: omit(c, ["format", "name", "description", "units", "volume_fL", "species", "parameters", "parameter_info", "reactions"]),
   };
 }
 
@@ -169,7 +185,7 @@ const numberOrParam = numberText;
 /** Field keys, the address of each input: `species.<rowKey>.initial`, `reactions.<rowKey>.rate.K`, … */
 export const fieldKey = {
   species: (row: string, field?: "id" | "initial") => `species.${row}${field ? `.${field}` : ""}`,
-  parameter: (row: string, field?: "name" | "value") => `parameters.${row}${field ? `.${field}` : ""}`,
+  parameter: (row: string, field?: "name" | "value" | "unit" | "note") => `parameters.${row}${field ? `.${field}` : ""}`,
   reaction: (row: string, field?: string) => `reactions.${row}${field ? `.${field}` : ""}`,
 };
 
@@ -180,6 +196,7 @@ export const fieldKey = {
 export function formToCircuitJson(form: CircuitForm): { json: Record<string, unknown>; issues: FormIssue[] } {
   const issues: FormIssue[] = [];
   const parameters: Record<string, unknown> = {};
+  const info: Record<string, unknown> = {};
   for (const p of form.parameters) {
     const name = p.name.trim();
     if (name === "") {
@@ -191,6 +208,11 @@ export function formToCircuitJson(form: CircuitForm): { json: Record<string, unk
       continue;
     }
     parameters[name] = numberText(p.value);
+    const entry = dropUndefined({ unit: p.unit.trim() === "" ? undefined : p.unit, note: p.note.trim() === "" ? undefined : p.note });
+    if (Object.keys(entry).length) info[name] = entry;
+  }
+  for (const [name, entry] of Object.entries(form.orphanInfo)) {
+    if (!form.parameters.some((p) => p.name.trim() === name)) info[name] = entry;
   }
   const reactions = form.reactions.map((r) => {
     const side = (which: "reactants" | "products", t: string, keepEmpty: boolean) => {
@@ -224,6 +246,7 @@ export function formToCircuitJson(form: CircuitForm): { json: Record<string, unk
     volume_fL: numberText(form.volumeFL),
     species: form.species.map((s) => dropUndefined({ ...s.extra, id: s.id.trim(), initial: numberText(s.initial) })),
     parameters: form.parameters.length === 0 && !form.emptyParameters ? undefined : parameters,
+    parameter_info: Object.keys(info).length ? info : undefined,
     reactions,
   });
   return { json, issues };
@@ -287,6 +310,12 @@ export function issueField(path: readonly (string | number)[], form: CircuitForm
       const aboutName = /identifier|already used|duplicate|name/.test(message) && !/finite number/.test(message);
       return fieldKey.parameter(row.key, aboutName ? "name" : "value");
     }
+    case "parameter_info": {
+      // `parameter_info.<name>.unit` / `.note`; anything else about the entry goes beside its note
+      const row = form.parameters.find((p) => p.name.trim() === second);
+      if (!row) return "parameters";
+      return fieldKey.parameter(row.key, third === "unit" ? "unit" : "note");
+    }
     case "reactions": {
       const row = typeof second === "number" ? form.reactions[second] : undefined;
       if (!row) return "reactions";
@@ -342,7 +371,7 @@ export function indexIssues(form: CircuitForm, formIssues: FormIssue[], schemaIs
 }
 
 const FIELD_WORDS: Record<string, string> = {
-  id: "id", initial: "initial amount", name: "name", value: "value", reactants: "reactants", products: "products",
+  id: "id", initial: "initial amount", name: "name", value: "value", unit: "unit", note: "note", reactants: "reactants", products: "products",
   "rate.law": "rate law", "rate.k": "k", "rate.input": "input species", "rate.vmax": "vmax", "rate.K": "K", "rate.n": "n",
   "rate.basal": "basal leak", "rate.expression": "formula",
 };

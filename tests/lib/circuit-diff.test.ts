@@ -36,6 +36,30 @@ describe("diffCircuits", () => {
     expect(d.species.removed).toEqual([]);
   });
 
+  it("diffCircuits(a, b) reports a parameter's unit text and note added, changed and removed, beside its value", () => {
+    const a = ring();
+    a.parameter_info = { K: { unit: "nM", note: "half-repression level" }, g: { note: "dilution" } };
+    const b = ring();
+    b.parameter_info = { K: { unit: "nM", note: "half-repression level, from the fit" }, n: { unit: "1" }, vA: { unit: "nM/min" } };
+    b.parameters!.vA = 50;
+    const d = diffCircuits(a, b);
+    expect(d.isEmpty).toBe(false);
+    expect(d.parameters.changed).toEqual([
+      { id: "vA", changes: [{ field: "value", from: "40", to: "50" }, { field: "unit", from: null, to: "nM/min" }] },
+      { id: "K", changes: [{ field: "note", from: "half-repression level", to: "half-repression level, from the fit" }] },
+      { id: "n", changes: [{ field: "unit", from: null, to: "1" }] },
+      { id: "g", changes: [{ field: "note", from: "dilution", to: null }] },
+    ]);
+    expect(d.circuit).toEqual([]);
+    // a text-only edit is still a change; an added parameter's summary carries its unit text
+    const c = ring();
+    c.parameter_info = { g: { note: "dilution" } };
+    expect(diffCircuits(ring(), c).parameters.changed).toEqual([{ id: "g", changes: [{ field: "note", from: null, to: "dilution" }] }]);
+    c.parameters!.kx = 3;
+    c.parameter_info.kx = { unit: "1/min" };
+    expect(diffCircuits(ring(), c).parameters.added).toEqual([{ id: "kx", summary: "= 3, unit 1/min" }]);
+  });
+
   it("diffCircuits(a, b) reports a rate-law switch field by field (law, dropped and new fields)", () => {
     const b = ring();
     b.reactions[0].rate = { law: "mass_action", k: "vA" };

@@ -46,6 +46,35 @@ describe("form round trip", () => {
     expect(parseCircuit(formToCircuitJson(circuitToForm(c)).json)).toEqual(c);
   });
 
+  it("keeps parameter_info (unit text and note per parameter) through a round trip, and an untouched circuit without it gains none", () => {
+    const c = parseCircuit({ ...getTemplate("ring-timer")!, parameter_info: { K: { unit: "nM", note: "half-repression level" }, n: { note: "cooperativity" }, g: { unit: "1/min" } } });
+    const form = circuitToForm(c);
+    expect(form.parameters.map((p) => [p.name, p.unit, p.note])).toEqual([
+      ["vA", "", ""], ["vB", "", ""], ["vC", "", ""], ["K", "nM", "half-repression level"], ["n", "", "cooperativity"], ["g", "1/min", ""],
+    ]);
+    expect(parseCircuit(formToCircuitJson(form).json)).toEqual(c);
+    expect(formToCircuitJson(circuitToForm(getTemplate("ring-timer"))).json).not.toHaveProperty("parameter_info");
+  });
+
+  it("typed units and notes land in parameter_info in row order; blank ones are left out, and none at all drops the field", () => {
+    const form = circuitToForm(getTemplate("ring-timer")!);
+    const row = (name: string) => form.parameters.find((p) => p.name === name)!;
+    row("g").unit = "1/min";
+    row("g").note = "dilution by growth";
+    row("vA").note = "   ";
+    row("K").unit = "nM";
+    expect(formToCircuitJson(form).json.parameter_info).toEqual({ K: { unit: "nM" }, g: { unit: "1/min", note: "dilution by growth" } });
+    expect(Object.keys(formToCircuitJson(form).json.parameter_info as object)).toEqual(["K", "g"]);
+    // a renamed parameter keeps its text (it lives on the row)
+    row("g").name = "gamma";
+    form.reactions.slice(3).forEach((r) => (r.k = "gamma"));
+    expect(parseCircuit(formToCircuitJson(form).json).parameter_info).toEqual({ K: { unit: "nM" }, gamma: { unit: "1/min", note: "dilution by growth" } });
+    for (const p of form.parameters) (p.unit = ""), (p.note = "");
+    const json = formToCircuitJson(form).json;
+    expect(json).not.toHaveProperty("parameter_info");
+    expect(parseCircuit(json).parameters).toHaveProperty("gamma", 0.2);
+  });
+
   it("every template is a valid circuit, and the blank one is the smallest the schema accepts", () => {
     expect(CIRCUIT_TEMPLATES.map((t) => t.id)).toEqual(["blank", "birth-death", "two-stage-reporter", "ring-timer"]);
     for (const t of CIRCUIT_TEMPLATES) expect(() => parseCircuit(t.circuit)).not.toThrow();
@@ -115,6 +144,29 @@ describe("issues land on the field they concern", () => {
     expect(listed.filter((i) => i.message.includes('parameter "g"'))).toHaveLength(3);
   });
 
+  it("a too-long note or unit is reported beside that parameter's note or unit input; an entry for no parameter at the parameters section", () => {
+    const form = circuitToForm(getTemplate("ring-timer")!);
+    const K = form.parameters.find((p) => p.name === "K")!;
+    const g = form.parameters.find((p) => p.name === "g")!;
+    K.note = "n".repeat(501);
+    g.unit = "u".repeat(41);
+    const { json, issues } = formToCircuitJson(form);
+    const byField = indexIssues(form, issues, schemaIssues(json));
+    expect([...byField.entries()]).toEqual([
+      [fieldKey.parameter(K.key, "note"), ["must be at most 500 characters"]],
+      [fieldKey.parameter(g.key, "unit"), ["must be at most 40 characters"]],
+    ]);
+    expect(describeField(fieldKey.parameter(K.key, "note"), form)).toBe("parameter K, note");
+
+    // a raw file naming an undeclared parameter keeps that entry in the form, so the schema still reports it
+    const raw = circuitToForm({ ...getTemplate("ring-timer")!, parameter_info: { Kc: { unit: "nM" }, K: { note: "ok" } } });
+    const back = formToCircuitJson(raw);
+    expect(back.json.parameter_info).toEqual({ K: { note: "ok" }, Kc: { unit: "nM" } });
+    const rawIssues = schemaIssues(back.json);
+    expect(rawIssues).toEqual(['parameter_info.Kc: unknown parameter "Kc"']);
+    expect([...indexIssues(raw, back.issues, rawIssues).entries()]).toEqual([["parameters", ['unknown parameter "Kc"']]]);
+  });
+
   it("describeField names the place of a field key in words", () => {
     const form = circuitToForm(getTemplate("ring-timer")!);
     expect(describeField(fieldKey.reaction(form.reactions[1].key, "rate.K"), form)).toBe("reaction make_B, K");
@@ -130,7 +182,7 @@ describe("issues land on the field they concern", () => {
   it("a repeated or empty parameter name is reported at the name input of that row", () => {
     const form = circuitToForm(getTemplate("birth-death")!);
     form.parameters[1].name = "k";
-    form.parameters.push({ key: "extra", name: "", value: "1" });
+    form.parameters.push({ key: "extra", name: "", value: "1", unit: "", note: "" });
     const { issues } = formToCircuitJson(form);
     expect(issues).toEqual([
       { field: fieldKey.parameter(form.parameters[1].key, "name"), message: 'duplicate parameter name "k"' },

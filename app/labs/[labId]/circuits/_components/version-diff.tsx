@@ -3,7 +3,7 @@ import type { CircuitDiff, FieldChange, SectionDiff } from "@/lib/circuit-diff";
 const FIELD_LABEL: Record<string, string> = {
   "rate.law": "rate law", "rate.k": "k", "rate.input": "input species", "rate.vmax": "vmax", "rate.K": "K", "rate.n": "n",
   "rate.basal": "basal leak", "rate.expression": "formula", "units.time": "time unit", "units.amount": "amount unit",
-  volume_fL: "cell volume (fL)", value: "value", initial: "initial amount",
+  volume_fL: "cell volume (fL)", value: "value", initial: "initial amount", unit: "unit", note: "note",
 };
 
 function Change({ c }: { c: FieldChange }) {
