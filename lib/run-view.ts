@@ -90,8 +90,10 @@ export interface AnalysisJson {
   lna: { covariance: number[][]; cv: Record<string, number | null>; fano: Record<string, number | null> } | null;
 }
 
+/** Whether a run may still change: queued or running. */
 export const isActive = (s: RunStatus): boolean => s === "queued" || s === "running";
 
+/** How the pages name each method (our labels; the API value is shown beside them). */
 export const METHOD_LABEL: Record<RunMethod, string> = {
   ode: "Trace (deterministic ODE)",
   ssa: "Direct Gillespie",
@@ -146,12 +148,6 @@ export function formatNumber(v: number | null | undefined, digits = 4): string {
 export function formatCount(v: number | null | undefined): string {
   if (v == null || !Number.isFinite(v)) return "—";
   return Math.round(v).toLocaleString("en-US").replace(/,/g, "\u2009");
-}
-
-/** Histogram bars from edges (n + 1) and counts (n): [{ x0, x1, count }]. */
-export function histogramRows(edges: number[], counts: number[]): { x0: number; x1: number; count: number }[] {
-  if (edges.length !== counts.length + 1) return [];
-  return counts.map((count, b) => ({ x0: edges[b], x1: edges[b + 1], count }));
 }
 
 /**

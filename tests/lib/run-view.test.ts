@@ -2,7 +2,7 @@ import { describe, expect, it } from "vitest";
 
 import { bandsSpec, histogramSpec } from "@/lib/run-charts";
 import {
-  etaSeconds, formatDuration, formatNumber, histogramOf, histogramRows, momentsOf, splitApiError, valuesAfterBurnIn,
+  etaSeconds, formatDuration, formatNumber, histogramOf, momentsOf, splitApiError, valuesAfterBurnIn,
   type CellJson, type SummaryJson,
 } from "@/lib/run-view";
 
@@ -53,11 +53,6 @@ describe("histograms", () => {
     expect(h.counts.reduce((a, b) => a + b, 0)).toBe(100);
     expect(h.edges[0]).toBe(0.05);
     expect(h.edges[10]).toBeCloseTo(9.95, 12);
-  });
-
-  it("histogramRows(edges, counts) pairs each count with its bin, and gives nothing for mismatched lengths", () => {
-    expect(histogramRows([0, 1, 2], [5, 6])).toEqual([{ x0: 0, x1: 1, count: 5 }, { x0: 1, x1: 2, count: 6 }]);
-    expect(histogramRows([0, 1], [5, 6])).toEqual([]);
   });
 });
 

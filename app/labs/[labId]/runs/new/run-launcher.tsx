@@ -5,7 +5,7 @@ import { useEffect, useMemo, useRef, useState } from "react";
 
 import { ApiError, fetchJson } from "@/app/_components/run-api";
 import { EVENTS_PER_S_PER_THREAD, estimateRunCost, type CostEstimate } from "@/lib/run-cost";
-import { formatDuration, formatNumber } from "@/lib/run-view";
+import { formatDuration, formatNumber, splitApiError } from "@/lib/run-view";
 import { describeIssue } from "@/lib/schemas/common";
 import { RUN_LIMITS, RunCreate } from "@/lib/schemas/runs";
 import { omegaFor } from "@/ssa/model-core";
@@ -136,10 +136,8 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
     const next: Record<string, string> = {};
     const general: string[] = [];
     for (const m of messages) {
-      const i = m.indexOf(": ");
-      const field = i > 0 ? m.slice(0, i) : "";
-      const reason = i > 0 ? m.slice(i + 2) : m;
-      if (FORM_FIELDS.has(field) || field.startsWith("overrides.")) next[field] ??= reason;
+      const { field, reason } = splitApiError(m);
+      if (field && (FORM_FIELDS.has(field) || field.startsWith("overrides."))) next[field] ??= reason;
       else if (/after overrides$/.test(reason)) next.overrides ??= m;
       else general.push(m);
     }
