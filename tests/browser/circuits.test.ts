@@ -18,6 +18,7 @@ let page: Page;
 let labPath = "";
 let circuitPath = "";
 let circuitId = "";
+let sbmlPath = "";
 /** Script errors and React warnings seen in the modeler's page (hydration mismatches show up here). */
 const consoleErrors: string[] = [];
 
@@ -70,6 +71,9 @@ describe("circuits as the demo modeler", () => {
     circuitId = circuitPath.split("/").pop()!;
     await page.getByRole("heading", { level: 1, name: NAME }).waitFor();
     expect(await page.getByLabel("Value of n", { exact: true }).inputValue()).toBe("4");
+    // an empty unit shows the unit that follows from use as its placeholder
+    expect(await page.getByLabel("Unit of K", { exact: true }).getAttribute("placeholder")).toBe("nM");
+    expect(await page.getByLabel("Unit of K", { exact: true }).inputValue()).toBe("");
   });
 
   it("draws the loop A → B → C ⊣ A in the wiring view", async () => {
@@ -226,10 +230,32 @@ describe("circuits as the demo modeler", () => {
     await page.getByRole("button", { name: "Create circuit" }).click();
     await page.waitForURL(/\/circuits\/\d+$/);
     await page.getByRole("heading", { level: 1, name: "Gene test, Level 3" }).waitFor();
+    sbmlPath = new URL(page.url()).pathname;
     expect(await page.getByLabel("Formula of express", { exact: true }).inputValue()).toContain("K^h");
     await page.getByRole("navigation", { name: "Circuit views" }).getByRole("link", { name: "Versions" }).click();
     expect(await page.getByTestId("version-row").first().textContent()).toContain("SBML import");
     await shot(page, "circuits-10a-sbml-versions");
+  });
+
+  it("a parameter's unit and note are typed, checked beside the note, saved, and read back after a reload", async () => {
+    await page.goto(sbmlPath);
+    const unit = page.getByLabel("Unit of d", { exact: true });
+    const note = page.getByLabel("Note of d", { exact: true });
+    expect(await unit.inputValue()).toBe("");
+    await note.fill("x".repeat(501));
+    expect(await errorOf(page, "Note of d")).toBe("must be at most 500 characters");
+    expect(await page.getByRole("button", { name: "Save version" }).isDisabled()).toBe(true);
+    await unit.fill("1/h");
+    await note.fill("loss by dilution and decay");
+    await page.getByLabel("Message (optional)").fill("unit and note for d");
+    await page.getByRole("button", { name: "Save version" }).click();
+    await page.getByRole("status").filter({ hasText: "Saved as version 2." }).waitFor();
+    await page.reload();
+    expect(await page.getByLabel("Unit of d", { exact: true }).inputValue()).toBe("1/h");
+    expect(await page.getByLabel("Note of d", { exact: true }).inputValue()).toBe("loss by dilution and decay");
+    await shot(page, "circuits-10b-parameter-unit-note");
+    await page.getByRole("navigation", { name: "Circuit views" }).getByRole("link", { name: "Versions" }).click();
+    expect(await page.getByTestId("diff-parameter-d").textContent()).toBe("d changed: unit: none → 1/h; note: none → loss by dilution and decay");
   });
 
   it("the circuit file of a version downloads as JSON that parses back to the same circuit", async () => {

@@ -278,35 +278,52 @@ export function CircuitEditor(props: CircuitEditorProps) {
 
             <section aria-labelledby={`${uid}-params-h`} className="rounded-lg border border-ink/10 bg-white p-4">
               <h2 id={`${uid}-params-h`} className="mb-1 font-semibold">Parameters</h2>
-              <p className="mb-3 text-xs text-ink-soft">Named numbers that rate laws refer to. The unit column follows from where each one is used.</p>
+              <p className="mb-3 text-xs text-ink-soft">
+                Named numbers that rate laws refer to. Unit and note are text for readers and change no number; an empty unit shows, greyed, the unit that follows from where the parameter is used.
+              </p>
               {byField.get("parameters") && <p className="mb-2 text-sm text-red-700">{byField.get("parameters")!.join("; ")}</p>}
               {form.parameters.length === 0 && <p className="text-sm text-ink-soft">No parameters: every rate uses literal numbers.</p>}
               <ul className="flex flex-col gap-2">
                 {form.parameters.map((p, i) => {
                   const units = parameterUnits.get(p.name.trim());
+                  const inferred = units ? [...units].map((u) => (u === "1" ? "dimensionless" : u.replace(/uM/g, "µM"))).join(" and ") : undefined;
+                  const label = p.name || `parameter ${i + 1}`;
                   return (
-                    <li key={p.key} className="grid grid-cols-[minmax(0,1fr)_minmax(0,1fr)_minmax(0,1fr)_auto] items-start gap-2">
+                    <li
+                      key={p.key}
+                      className="grid grid-cols-[minmax(0,1fr)_minmax(0,1fr)_auto] items-start gap-2 sm:grid-cols-[minmax(0,0.8fr)_minmax(0,0.8fr)_minmax(0,1fr)_minmax(0,1.6fr)_auto]"
+                    >
                       <EditorField
                         fieldKey={fieldKey.parameter(p.key, "name")} label="Name" labelSuffix={`of parameter ${i + 1}`} hideLabel={i > 0}
                         value={p.name} issues={issues(fieldKey.parameter(p.key, "name"))} onChange={(v) => setParam(p.key, { name: v })}
                       />
                       <EditorField
-                        fieldKey={fieldKey.parameter(p.key, "value")} label="Value" labelSuffix={`of ${p.name || `parameter ${i + 1}`}`} hideLabel={i > 0}
+                        fieldKey={fieldKey.parameter(p.key, "value")} label="Value" labelSuffix={`of ${label}`} hideLabel={i > 0}
                         value={p.value} inputMode="decimal" issues={issues(fieldKey.parameter(p.key, "value"))} onChange={(v) => setParam(p.key, { value: v })}
                       />
-                      <div className="flex min-w-0 flex-col gap-0.5">
-                        {i === 0 && <span className="text-xs font-medium text-ink-soft">Unit (from use)</span>}
-                        <span className="py-1.5 text-sm text-ink-soft" data-testid={`unit-${p.name}`}>{units ? [...units].map((u) => (u === "1" ? "dimensionless" : u.replace(/uM/g, "µM"))).join(" and ") : "—"}</span>
-                      </div>
+                      <EditorField
+                        fieldKey={fieldKey.parameter(p.key, "unit")} label="Unit" labelSuffix={`of ${label}`} hideLabel={i > 0}
+                        className="col-start-1 row-start-2 sm:col-start-auto sm:row-start-auto"
+                        value={p.unit} placeholder={inferred} issues={issues(fieldKey.parameter(p.key, "unit"))} onChange={(v) => setParam(p.key, { unit: v })}
+                      />
+                      <EditorField
+                        fieldKey={fieldKey.parameter(p.key, "note")} label="Note" labelSuffix={`of ${label}`} hideLabel={i > 0}
+                        className="col-start-2 row-start-2 sm:col-start-auto sm:row-start-auto"
+                        value={p.note} issues={issues(fieldKey.parameter(p.key, "note"))} onChange={(v) => setParam(p.key, { note: v })}
+                      />
                       {props.canWrite && (
-                        <RemoveButton label={`Remove parameter ${p.name || i + 1}`} first={i === 0} onClick={() => patch((f) => ({ ...f, parameters: f.parameters.filter((x) => x.key !== p.key) }))} />
+                        <RemoveButton
+                          label={`Remove parameter ${p.name || i + 1}`} first={i === 0}
+                          className="col-start-3 row-start-1 sm:col-start-auto sm:row-start-auto"
+                          onClick={() => patch((f) => ({ ...f, parameters: f.parameters.filter((x) => x.key !== p.key) }))}
+                        />
                       )}
                     </li>
                   );
                 })}
               </ul>
               {props.canWrite && (
-                <AddButton onClick={() => patch((f) => ({ ...f, parameters: [...f.parameters, { key: newRowKey("p"), name: uniqueId("p", f.parameters.map((x) => x.name)), value: "1" }] }))}>
+                <AddButton onClick={() => patch((f) => ({ ...f, parameters: [...f.parameters, { key: newRowKey("p"), name: uniqueId("p", f.parameters.map((x) => x.name)), value: "1", unit: "", note: "" }] }))}>
                   Add parameter
                 </AddButton>
               )}
@@ -481,9 +498,9 @@ function AddButton({ onClick, children }: { onClick: () => void; children: React
   );
 }
 
-function RemoveButton({ label, onClick, first }: { label: string; onClick: () => void; first: boolean }) {
+function RemoveButton({ label, onClick, first, className = "" }: { label: string; onClick: () => void; first: boolean; className?: string }) {
   return (
-    <button type="button" aria-label={label} title={label} onClick={onClick} className={`rounded-md px-2 py-1.5 text-ink-soft hover:bg-red-50 hover:text-red-700 ${first ? "mt-4" : ""}`}>
+    <button type="button" aria-label={label} title={label} onClick={onClick} className={`rounded-md px-2 py-1.5 text-ink-soft hover:bg-red-50 hover:text-red-700 ${first ? "mt-4" : ""} ${className}`}>
       ✕
     </button>
   );
