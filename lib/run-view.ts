@@ -65,6 +65,8 @@ export interface SummaryJson {
   amount_unit?: string;
   omega?: number;
   trace?: Record<string, (number | null)[]>;
+  /** Every distinct amount after burn-in with its number of (cell, grid time) samples. */
+  stationary_distribution?: Record<string, { values: number[]; counts: number[] }>;
 }
 
 /** `GET /api/runs/:id/cells/:index`: one replayed cell. */
@@ -155,26 +157,38 @@ export function formatCount(v: number | null | undefined): string {
  * 60 of them (molecule counts), otherwise ⌈√n⌉ equal bins (at most 40). Bins are [x0, x1), the last closed.
  */
 export function histogramOf(values: number[]): { edges: number[]; counts: number[] } {
-  const finite = values.filter((v) => Number.isFinite(v));
+  return weightedHistogramOf(values, values.map(() => 1));
+}
+
+/**
+ * The same binning for values that each occur `weights[k]` times (an exact per-count tally,
+ * such as a summary's `stationary_distribution`); ⌈√n⌉ uses the total weight.
+ */
+export function weightedHistogramOf(values: number[], weights: number[]): { edges: number[]; counts: number[] } {
+  const keep = values.map((v, k) => Number.isFinite(v) && weights[k]! > 0);
+  const finite = values.filter((_, k) => keep[k]);
+  const w8 = weights.filter((_, k) => keep[k]);
   if (finite.length === 0) return { edges: [], counts: [] };
   let lo = Infinity;
   let hi = -Infinity;
-  for (const v of finite) {
-    if (v < lo) lo = v;
-    if (v > hi) hi = v;
+  let total = 0;
+  for (let k = 0; k < finite.length; k++) {
+    if (finite[k]! < lo) lo = finite[k]!;
+    if (finite[k]! > hi) hi = finite[k]!;
+    total += w8[k]!;
   }
   const integers = finite.every((v) => Number.isInteger(v));
   if (integers && hi - lo <= 60) {
     // One bin per count, centred on it: [k − ½, k + ½).
     const counts = new Array<number>(hi - lo + 1).fill(0);
-    for (const v of finite) counts[v - lo]++;
+    for (let k = 0; k < finite.length; k++) counts[finite[k]! - lo]! += w8[k]!;
     return { edges: Array.from({ length: counts.length + 1 }, (_, k) => lo - 0.5 + k), counts };
   }
-  if (hi === lo) return { edges: [lo - 0.5, hi + 0.5], counts: [finite.length] };
-  const bins = Math.min(40, Math.max(1, Math.ceil(Math.sqrt(finite.length))));
+  if (hi === lo) return { edges: [lo - 0.5, hi + 0.5], counts: [total] };
+  const bins = Math.min(40, Math.max(1, Math.ceil(Math.sqrt(total))));
   const w = (hi - lo) / bins;
   const counts = new Array<number>(bins).fill(0);
-  for (const v of finite) counts[Math.min(bins - 1, Math.floor((v - lo) / w))]++;
+  for (let k = 0; k < finite.length; k++) counts[Math.min(bins - 1, Math.floor((finite[k]! - lo) / w))]! += w8[k]!;
   return { edges: Array.from({ length: bins + 1 }, (_, b) => (b === bins ? hi : lo + b * w)), counts };
 }
 

@@ -138,6 +138,11 @@ describe("the modeler launches an ensemble and reads its results", () => {
     expect(await period.locator("tbody tr").first().textContent()).toContain(String(summary.period.A.count.toLocaleString("en-US")));
     await period.locator("svg g.mark-rect").first().waitFor(); // histogram bars
     await page.locator("section", { has: page.getByRole("heading", { name: "Sample cells" }) }).locator("svg g.mark-line").first().waitFor();
+    // The stationary distribution is the whole ensemble's exact tally, not the sample cells.
+    const dist = page.getByTestId("distribution-chart");
+    await expect.poll(async () => (await dist.locator("svg").textContent()) ?? "").toContain("A after burn-in, all 100 cells");
+    const total = summary.stationary_distribution.A.counts.reduce((x: number, y: number) => x + y, 0);
+    expect(total).toBe(100 * summary.times.filter((t: number) => t >= summary.burn_in).length);
     await shot(page, "runs-02-results-laptop");
   });
 

@@ -10,7 +10,7 @@ import { jsonFetcher } from "@/app/_components/run-api";
 import { bandsSpec, cellsSpec, histogramSpec, traceSpec } from "@/lib/run-charts";
 import { bandsCsv, exportBaseName, exportFileName, noiseCsv } from "@/lib/run-export";
 import {
-  amountUnitOf, burnInOf, formatNumber, histogramOf, momentsOf, valuesAfterBurnIn,
+  amountUnitOf, burnInOf, formatNumber, histogramOf, momentsOf, valuesAfterBurnIn, weightedHistogramOf,
   type CellJson, type RunJson, type SummaryJson,
 } from "@/lib/run-view";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
@@ -118,15 +118,25 @@ function SampleCells({ run, summary, species, units, burnIn }: { run: RunJson; s
   );
   const sample = useMemo(() => (cells ? valuesAfterBurnIn(cells, species, burnIn) : []), [cells, species, burnIn]);
   const sampleMoments = momentsOf(sample);
-  const histChart = useMemo(
-    () => (sample.length ? histogramSpec(histogramOf(sample), {
+  const st = summary.stationary[species];
+  // Runs stored since the summary carries the pooled tally draw the whole ensemble's distribution;
+  // older ones fall back to the sample cells, and say so.
+  const exact = summary.stationary_distribution?.[species];
+  const histChart = useMemo(() => {
+    if (exact && exact.values.length) {
+      const samples = exact.counts.reduce((a, b) => a + b, 0);
+      return histogramSpec(weightedHistogramOf(exact.values, exact.counts), {
+        title: `${species} after burn-in, all ${summary.runs.toLocaleString("en-US")} cells`,
+        subtitle: `${samples.toLocaleString("en-US")} samples (every cell at every grid time t ≥ ${formatNumber(burnIn)} ${units.time})`,
+        xTitle: `${species} (${units.amount})`, what: "Cells × grid times", mean: st?.mean ?? null,
+      });
+    }
+    return sample.length ? histogramSpec(histogramOf(sample), {
       title: `${species} after burn-in, in the ${n} sample cells`,
       subtitle: `${sample.length.toLocaleString("en-US")} grid values at t ≥ ${formatNumber(burnIn)} ${units.time}; a small sample, not the whole ensemble`,
       xTitle: `${species} (${units.amount})`, what: "Sample-cell values", mean: sampleMoments.mean,
-    }) : null),
-    [sample, species, n, burnIn, units, sampleMoments.mean],
-  );
-  const st = summary.stationary[species];
+    }) : null;
+  }, [exact, summary.runs, st?.mean, sample, species, n, burnIn, units, sampleMoments.mean]);
   return (
     <>
       <section aria-labelledby="cells-h" className="flex flex-col gap-2">
@@ -138,12 +148,21 @@ function SampleCells({ run, summary, species, units, burnIn }: { run: RunJson; s
       </section>
       <section aria-labelledby="dist-h" className="flex flex-col gap-2">
         <h2 id="dist-h" className="text-lg font-semibold">Distribution after burn-in</h2>
-        <p className="text-sm text-ink-soft">
-          The stored summary keeps the ensemble&apos;s moments after burn-in, not its per-count histogram, so this histogram pools only the {n} sample cells.
-          Compare: sample cells mean {formatNumber(sampleMoments.mean)}, CV {formatNumber(sampleMoments.cv)}; whole ensemble mean {formatNumber(st?.mean)}, CV {formatNumber(st?.cv)} ({units.amount}).
-        </p>
-        {histChart ? <Chart spec={histChart} fileBase={exportBaseName(run.id, `distribution-${species}`)} label={`Distribution of ${species} in the sample cells`} />
-          : !error && <ChartSkeleton height={240} />}
+        {exact ? (
+          <p className="text-sm text-ink-soft">
+            The stationary distribution of the whole ensemble: every cell at every sampling time after burn-in, pooled;
+            mean {formatNumber(st?.mean)}, CV {formatNumber(st?.cv)}, Fano {formatNumber(st?.fano)} ({units.amount}).
+          </p>
+        ) : (
+          <p className="text-sm text-ink-soft">
+            This run&apos;s stored summary keeps the ensemble&apos;s moments after burn-in, not its per-count histogram, so this histogram pools only the {n} sample cells.
+            Compare: sample cells mean {formatNumber(sampleMoments.mean)}, CV {formatNumber(sampleMoments.cv)}; whole ensemble mean {formatNumber(st?.mean)}, CV {formatNumber(st?.cv)} ({units.amount}).
+          </p>
+        )}
+        <div data-testid="distribution-chart">
+          {histChart ? <Chart spec={histChart} fileBase={exportBaseName(run.id, `distribution-${species}`)} label={`Distribution of ${species} after burn-in`} />
+            : !error && <ChartSkeleton height={240} />}
+        </div>
       </section>
     </>
   );
