@@ -32,8 +32,12 @@ const cache = globalThis as { burstwiseDb?: Knex };
 export const db: Knex = cache.burstwiseDb ?? createDb();
 cache.burstwiseDb = db;
 
-/** Closes the pool (worker shutdown, CLI, tests). */
+/** Closes the pool (worker shutdown, CLI, scripts); `openDb()` opens it again. */
 export async function closeDb(): Promise<void> {
   await db.destroy();
-  delete cache.burstwiseDb;
+}
+
+/** Re-opens the pool after `closeDb()` (scripts that run several steps in one process). */
+export function openDb(): void {
+  if (!(db.client as { pool?: unknown }).pool) db.initialize();
 }

@@ -47,6 +47,8 @@ const cache = globalThis as { burstwiseBoss?: Promise<PgBoss> };
 export function getSender(): Promise<PgBoss> {
   cache.burstwiseBoss ??= (async () => {
     const boss = createBoss({ supervise: false });
+    // A stopped sender (e.g. closed by a seed script) is replaced on the next send.
+    boss.on("stopped", () => delete cache.burstwiseBoss);
     await boss.start();
     await ensureQueues(boss);
     return boss;
@@ -55,4 +57,11 @@ export function getSender(): Promise<PgBoss> {
     throw e;
   });
   return cache.burstwiseBoss;
+}
+
+/** Stops this process's sender, if one was started (scripts that must exit when done). */
+export async function closeSender(): Promise<void> {
+  const pending = cache.burstwiseBoss;
+  delete cache.burstwiseBoss;
+  if (pending) await (await pending).stop({ graceful: false, close: true }).catch(() => undefined);
 }
