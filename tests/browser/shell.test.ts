@@ -47,11 +47,12 @@ describe("the signed-in shell in Chromium", () => {
     await shot(page, "03-shell-modeler");
   });
 
-  it("an empty section shows what belongs there", async () => {
+  it("a section says what belongs there (Comparisons: the demo lab's seeded comparison)", async () => {
     await page.getByRole("navigation", { name: "Sections" }).getByRole("link", { name: "Comparisons" }).click();
-    await page.getByRole("heading", { name: "No comparisons yet" }).waitFor();
-    expect(await page.getByRole("link", { name: "Comparisons" }).getAttribute("aria-current")).toBe("page");
-    await shot(page, "04-empty-comparisons");
+    await page.getByRole("heading", { name: "Comparisons", level: 1 }).waitFor();
+    await page.getByText(/CV, Fano factor and period precision side by side/).waitFor();
+    expect(await page.getByRole("navigation", { name: "Sections" }).getByRole("link", { name: "Comparisons" }).getAttribute("aria-current")).toBe("page");
+    await shot(page, "04-comparisons");
   });
 
   it("the Lab section lists the members; a modeler gets no role controls", async () => {

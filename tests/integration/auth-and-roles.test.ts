@@ -66,7 +66,24 @@ export const LAB_ROUTES: RouteCase[] = [
   { name: "withdraw an invitation", method: "DELETE", path: async (c) => `/api/labs/${c.labId}/invitations/${await c.disposableInvitation()}`, allowed: ["owner"] },
   { name: "read the audit trail", method: "GET", path: (c) => `/api/labs/${c.labId}/audit?action=run`, allowed: ["owner"] },
   { name: "set my run e-mails", method: "PUT", path: () => "/api/me/notifications", body: (c) => ({ lab_id: c.labId, runs: "mine" }), allowed: ["owner", "modeler", "reviewer"] },
+  { name: "list comparisons", method: "GET", path: (c) => `/api/comparisons?lab_id=${c.labId}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "create a comparison", method: "POST", path: () => "/api/comparisons", body: (c) => comparisonBody(c), allowed: ["owner", "modeler"] },
+  { name: "read a comparison", method: "GET", path: async (c) => `/api/comparisons/${await disposableComparison(c)}`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "download a comparison's noise table", method: "GET", path: async (c) => `/api/comparisons/${await disposableComparison(c)}/csv`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "read a comparison's bands", method: "GET", path: async (c) => `/api/comparisons/${await disposableComparison(c)}/bands?species=A`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "launch a comparison", method: "POST", path: async (c) => `/api/comparisons/${await disposableComparison(c)}/launch`, allowed: ["owner", "modeler"] },
+  { name: "cancel a comparison", method: "POST", path: async (c) => `/api/comparisons/${await disposableComparison(c, true)}/cancel`, allowed: ["owner", "modeler"] },
+  { name: "delete a comparison", method: "DELETE", path: async (c) => `/api/comparisons/${await disposableComparison(c)}`, allowed: ["owner"] },
 ];
+
+/** Two designs of the lab's ring timer, small enough never to matter (no worker runs in this file). */
+function comparisonBody(c: Ctx) {
+  return { lab_id: c.labId, name: `Comparison ${++serial}`, designs: [{ version_id: c.versionId }, { version_id: c.versionId, overrides: { n: 3 } }], settings: { t_end: 10, dt: 1, runs: 10 } };
+}
+/** A comparison made by the owner: a draft, or launched (its runs stay queued; afterAll cancels them). */
+async function disposableComparison(c: Ctx, launch = false): Promise<string> {
+  return (await owner.client.request("POST", "/api/comparisons", { ...comparisonBody(c), launch })).json.id;
+}
 
 let db: Knex;
 let owner: Awaited<ReturnType<typeof newUser>>;
