@@ -26,8 +26,10 @@ const button = "rounded-md border px-3 py-1.5 text-sm disabled:opacity-50";
 export function ComparisonView({ labId, initial, canLaunch, canCancel, canDelete, role }: ComparisonViewProps) {
   const router = useRouter();
   const { data, mutate } = useSWR<ComparisonJson>(`/api/comparisons/${initial.id}`, jsonFetcher, {
+    // With fallback data swr neither revalidates on mount nor hands it to refreshInterval: say both.
     fallbackData: initial,
-    refreshInterval: (d) => (d?.status === "running" ? 1500 : 0),
+    revalidateOnMount: initial.status === "running",
+    refreshInterval: (d) => ((d ?? initial).status === "running" ? 1500 : 0),
   });
   const c = data ?? initial;
   const [busy, setBusy] = useState(false);
@@ -62,7 +64,7 @@ export function ComparisonView({ labId, initial, canLaunch, canCancel, canDelete
           <h1 className="mt-1 flex flex-wrap items-center gap-3 text-2xl font-semibold">{c.name} <ComparisonStatusBadge status={c.status} /></h1>
           {c.description && <p className="mt-1 max-w-3xl text-sm text-ink-soft">{c.description}</p>}
           <p className="mt-2 text-sm text-ink-soft" data-testid="comparison-settings">
-            {c.kind === "sweep" ? "Sweep" : "Designs"} · {c.designs.length} designs · {s.runs.toLocaleString("en-US")} cells each ·{" "}
+            {c.kind === "sweep" ? `Sweep of ${(c.sweep?.axes ?? []).map((a) => a.parameter).join(" × ")}${c.sweep?.axes[0]?.scale === "log" ? " (log range)" : ""}` : "Designs listed"} · {c.designs.length} designs · {s.runs.toLocaleString("en-US")} cells each ·{" "}
             {s.method === "tau" ? "tau-leaping" : "direct Gillespie"} · t = 0…{formatNumber(s.t_end)}, step {formatNumber(s.dt)}
             {s.burn_in !== undefined ? `, burn-in ${formatNumber(s.burn_in)}` : ", burn-in t_end/5"} ·{" "}
             {c.common_seed ? <>common seed {c.seed}</> : <>seeds {c.seed} + design position</>} · #{c.id} by {c.created_by ?? "—"}, <When iso={c.created_at} />

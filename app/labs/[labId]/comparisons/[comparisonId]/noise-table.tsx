@@ -83,9 +83,15 @@ export function NoiseTable({ c, species }: { c: ComparisonJson; species: string 
           </tbody>
         </table>
       </div>
-      {rows.some(({ d }) => d.lna.stable !== true) && (
-        <p className="text-xs text-ink-soft">No LNA for {rows.filter(({ d }) => d.lna.stable !== true).map(({ d }) => `${d.label} (${d.lna.note})`).join("; ")}.</p>
-      )}
+      {(() => {
+        const without = rows.filter(({ d }) => d.lna.stable !== true);
+        if (!without.length) return null;
+        const notes = Array.from(new Set(without.map(({ d }) => d.lna.note)));
+        const text = without.length === rows.length && notes.length === 1
+          ? `No LNA for any design: ${notes[0]}.`
+          : `No LNA for ${without.map(({ d }) => `${d.label} (${d.lna.note})`).join("; ")}.`;
+        return <p className="text-xs text-ink-soft">{text}</p>;
+      })()}
     </section>
   );
 }
