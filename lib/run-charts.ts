@@ -143,3 +143,33 @@ export function histogramSpec(h: { edges: number[]; counts: number[] }, o: { tit
     layer: isNum(o.mean) ? [barLayer, meanLayer] : [barLayer],
   } as VisualizationSpec;
 }
+
+/**
+ * The simulated stationary distribution and a measured snapshot on one density axis (each
+ * integrates to 1), so their shapes compare whatever the number of cells; `measured` holds the
+ * measured densities in the same bins (lib/dataset-overlay.ts snapshotOverlayBins with `edges`).
+ */
+export function distributionVersusMeasuredSpec(
+  h: { edges: number[]; counts: number[] },
+  measured: { x0: number; x1: number; density: number; count: number }[],
+  o: { title: string; subtitle?: string; xTitle: string; measuredLabel: string },
+): VisualizationSpec {
+  const total = h.counts.reduce((a, b) => a + b, 0);
+  const simulated = h.counts.map((count, b) => ({
+    x0: h.edges[b], x1: h.edges[b + 1], density: total ? count / (total * (h.edges[b + 1]! - h.edges[b]!)) : 0, layer: "Simulated (all cells)",
+  }));
+  const colour = { field: "layer", type: "nominal" as const, title: null, scale: { domain: ["Simulated (all cells)", o.measuredLabel], range: ["#dd9a48", "#1d2433"] }, legend: { orient: "bottom" as const, direction: "horizontal" as const } };
+  return {
+    ...base, ...font, height: 220, title: { text: o.title, ...(o.subtitle ? { subtitle: o.subtitle } : {}), anchor: "start" },
+    layer: [
+      {
+        data: { values: simulated }, mark: { type: "rect", stroke: "#ffffff", strokeWidth: 0.5 },
+        encoding: { x: { field: "x0", type: "quantitative", title: o.xTitle, scale: { zero: false } }, x2: { field: "x1" }, y: { field: "density", type: "quantitative", title: "Density" }, y2: { datum: 0 }, color: colour },
+      },
+      {
+        data: { values: measured.map((m) => ({ ...m, layer: o.measuredLabel })) }, mark: { type: "rect", fillOpacity: 0, strokeWidth: 1.6 },
+        encoding: { x: { field: "x0", type: "quantitative" }, x2: { field: "x1" }, y: { field: "density", type: "quantitative" }, y2: { datum: 0 }, stroke: colour },
+      },
+    ],
+  } as unknown as VisualizationSpec;
+}

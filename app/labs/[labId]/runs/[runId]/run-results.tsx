@@ -7,7 +7,9 @@ import { Caution } from "@/app/_components/caution";
 import { Chart, ChartSkeleton } from "@/app/_components/charts/chart";
 import { downloadText } from "@/app/_components/charts/download";
 import { jsonFetcher } from "@/app/_components/run-api";
-import { bandsSpec, cellsSpec, histogramSpec, traceSpec } from "@/lib/run-charts";
+import { DatasetOverlayPicker, MeasuredNoiseTable, useDatasetValues } from "@/app/_components/dataset-overlay";
+import { seriesOverlayLayer, seriesOverlayPoints, snapshotOverlayBins, type DatasetJson, type OverlayTarget } from "@/lib/dataset-overlay";
+import { bandsSpec, cellsSpec, distributionVersusMeasuredSpec, histogramSpec, traceSpec } from "@/lib/run-charts";
 import { bandsCsv, exportBaseName, exportFileName, noiseCsv } from "@/lib/run-export";
 import {
   amountUnitOf, burnInOf, formatNumber, histogramOf, momentsOf, valuesAfterBurnIn, weightedHistogramOf,
@@ -44,19 +46,33 @@ function LoadedResults({ run, summary, timeUnit, modelAmountUnit }: { run: RunJs
   const lna = useLna(run, summary);
   const burnIn = summary.burn_in ?? burnInOf(run.settings);
   const isEnsemble = run.kind === "ensemble";
+  const [datasetId, setDatasetId] = useState<string | null>(null);
+  const { data: dataset, error: datasetError } = useDatasetValues(datasetId);
+  const target: OverlayTarget = { timeUnit: time as OverlayTarget["timeUnit"], amount: summary.units, omega: summary.omega };
+  const measured = dataset && dataset.id === datasetId ? dataset : null;
   return (
     <div className="flex flex-col gap-8">
       <Caution />
       {isEnsemble ? (
         <>
-          {summary.species.length > 1 && <SpeciesPicker species={summary.species} value={species} onChange={setSpecies} />}
-          <BandsSection run={run} summary={summary} species={species} units={units} />
-          <SampleCells run={run} summary={summary} species={species} units={units} burnIn={burnIn} />
+          <div className="flex flex-wrap items-center gap-x-6 gap-y-2">
+            {summary.species.length > 1 && <SpeciesPicker species={summary.species} value={species} onChange={setSpecies} />}
+            <div data-testid="overlay-picker"><DatasetOverlayPicker labId={run.lab_id} value={datasetId} onChange={setDatasetId} /></div>
+            {datasetError && <p role="alert" className="text-sm text-red-700">The dataset could not be loaded: {datasetError.message}</p>}
+          </div>
+          <BandsSection run={run} summary={summary} species={species} units={units} measured={measured?.kind === "series" ? measured : null} target={target} />
+          <SampleCells run={run} summary={summary} species={species} units={units} burnIn={burnIn} measured={measured?.kind === "snapshot" ? measured : null} target={target} />
         </>
       ) : (
         <TraceSection run={run} summary={summary} units={units} />
       )}
       <NoiseTable summary={summary} lna={lna} amountUnit={units.amount} timeUnit={units.time} burnIn={burnIn} />
+      {measured && (
+        <section aria-label="Measured noise" data-testid="measured-noise" className="flex flex-col gap-2">
+          <MeasuredNoiseTable dataset={measured} />
+          <p className="text-xs text-ink-soft">Measured values × the dataset&apos;s molecules-per-unit factor. Beside the simulated noise table above: the model predicts, the bench measures.</p>
+        </section>
+      )}
       <PeriodSpread run={run} summary={summary} species={species} onSpecies={setSpecies} units={units} burnIn={burnIn} />
       {isEnsemble && <ReplayCell run={run} units={units} />}
       <Downloads run={run} summary={summary} lna={lna} />
@@ -79,8 +95,13 @@ function SpeciesPicker({ species, value, onChange }: { species: string[]; value:
   );
 }
 
-function BandsSection({ run, summary, species, units }: { run: RunJson; summary: SummaryJson; species: string; units: Units }) {
-  const spec = useMemo(() => bandsSpec(summary, species, units), [summary, species, units]);
+function BandsSection({ run, summary, species, units, measured, target }: { run: RunJson; summary: SummaryJson; species: string; units: Units; measured: DatasetJson | null; target: OverlayTarget }) {
+  const spec = useMemo(() => {
+    const bands = bandsSpec(summary, species, units) as { layer: unknown[] };
+    if (!measured?.values) return bands as ReturnType<typeof bandsSpec>;
+    // A series over the bands: its points, converted to the run's time and amount units.
+    return { ...bands, layer: [...bands.layer, seriesOverlayLayer(seriesOverlayPoints(measured, target), measured.name)] } as ReturnType<typeof bandsSpec>;
+  }, [summary, species, units, measured, target]);
   return (
     <section aria-labelledby="bands-h" className="flex flex-col gap-2">
       <h2 id="bands-h" className="text-lg font-semibold">Bands</h2>
@@ -105,7 +126,7 @@ function TraceSection({ run, summary, units }: { run: RunJson; summary: SummaryJ
 }
 
 /** The first few cells of the ensemble (replayed by the API), and their values after burn-in as a histogram. */
-function SampleCells({ run, summary, species, units, burnIn }: { run: RunJson; summary: SummaryJson; species: string; units: Units; burnIn: number }) {
+function SampleCells({ run, summary, species, units, burnIn, measured, target }: { run: RunJson; summary: SummaryJson; species: string; units: Units; burnIn: number; measured: DatasetJson | null; target: OverlayTarget }) {
   const n = Math.min(RUN_LIMITS.sampleCells, run.settings.runs);
   const { data: cells, error } = useSWR<CellJson[]>(
     `cells:${run.id}:${n}`,
@@ -123,6 +144,16 @@ function SampleCells({ run, summary, species, units, burnIn }: { run: RunJson; s
   // older ones fall back to the sample cells, and say so.
   const exact = summary.stationary_distribution?.[species];
   const histChart = useMemo(() => {
+    if (exact && exact.values.length && measured?.values) {
+      // A snapshot against the whole ensemble, both as densities in the run's bins.
+      const h = weightedHistogramOf(exact.values, exact.counts);
+      const column = measured.columns[0]!;
+      return distributionVersusMeasuredSpec(h, snapshotOverlayBins(measured, column, target, { edges: h.edges }), {
+        title: `${species} after burn-in against ${measured.name}`,
+        subtitle: `Simulated: all ${summary.runs.toLocaleString("en-US")} cells at every grid time after burn-in; measured: column ${column}, × ${measured.units.molecules_per_unit} molecules per unit`,
+        xTitle: `${species} (${units.amount})`, measuredLabel: `Measured: ${measured.name}`,
+      });
+    }
     if (exact && exact.values.length) {
       const samples = exact.counts.reduce((a, b) => a + b, 0);
       return histogramSpec(weightedHistogramOf(exact.values, exact.counts), {
@@ -136,7 +167,7 @@ function SampleCells({ run, summary, species, units, burnIn }: { run: RunJson; s
       subtitle: `${sample.length.toLocaleString("en-US")} grid values at t ≥ ${formatNumber(burnIn)} ${units.time}; a small sample, not the whole ensemble`,
       xTitle: `${species} (${units.amount})`, what: "Sample-cell values", mean: sampleMoments.mean,
     }) : null;
-  }, [exact, summary.runs, st?.mean, sample, species, n, burnIn, units, sampleMoments.mean]);
+  }, [exact, measured, target, summary.runs, st?.mean, sample, species, n, burnIn, units, sampleMoments.mean]);
   return (
     <>
       <section aria-labelledby="cells-h" className="flex flex-col gap-2">
