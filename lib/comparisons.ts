@@ -9,7 +9,8 @@ import {
   type ComparisonRow, type DesignRow, type NewDesign,
 } from "@/lib/data/comparisons";
 import { getVersion, type VersionRow } from "@/lib/data/circuits";
-import { countActiveRuns, failRun, getRunSummaryParts } from "@/lib/data/runs";
+import { recordAudit } from "@/lib/data/audit";
+import { countActiveRuns, failRun, getRun, getRunSummaryParts } from "@/lib/data/runs";
 import { requireVersion } from "@/lib/data/version-access";
 import { conflict, idParam, notFound, tooMany, unprocessable } from "@/lib/http";
 import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
@@ -194,6 +195,19 @@ export async function launchComparison(userId: string, rawId: string): Promise<s
     throw e;
   }
   return ids;
+}
+
+/** One `run.launched` event per design run in the lab's audit trail, naming the comparison. */
+export async function recordDesignLaunches(actor: { id: string; email: string }, comparisonId: string, runIds: string[]): Promise<void> {
+  const c = await getComparison(comparisonId);
+  for (const id of runIds) {
+    const row = await getRun(id);
+    if (!row || !c) continue;
+    await recordAudit({
+      labId: row.labId, actor, action: "run.launched", target: { type: "run", id },
+      details: { circuit: row.circuitName, version_number: row.versionNumber, version_id: row.versionId, method: row.method, runs: row.settings.runs, seed: row.seed, comparison_id: c.id, comparison: c.name },
+    });
+  }
 }
 
 /** Cancels a running comparison and its unfinished runs. @throws 409 when it is not running. */

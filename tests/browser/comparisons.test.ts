@@ -105,6 +105,28 @@ describe("comparisons in Chromium", () => {
     await shot(page, "comparisons-03-test");
   });
 
+  it("a sweep set up in the form previews its designs, names a bad log bound, and saves as a draft", async () => {
+    await page.goto(`/labs/${labId}/comparisons/new`);
+    await page.getByLabel("Name", { exact: true }).fill("Production rate sweep (draft)");
+    await page.getByLabel(/A sweep of one parameter/).check();
+    const option = page.locator("#s-base option", { hasText: NAME });
+    await page.getByLabel("Circuit swept").selectOption((await option.getAttribute("value"))!);
+    await page.locator("#a-0-p option", { hasText: "k (now" }).waitFor({ state: "attached" });
+    await page.getByLabel("Swept parameter").selectOption("k");
+    await page.getByLabel("From", { exact: true }).fill("0");
+    await page.getByLabel("To", { exact: true }).fill("80");
+    await page.getByLabel("Points", { exact: true }).fill("3");
+    await expect.poll(() => page.getByTestId("sweep-preview").textContent()).toBe("sweep.axes[0].from: must be > 0 on a log range");
+    await page.getByLabel("From", { exact: true }).fill("5");
+    await expect.poll(() => page.getByTestId("sweep-preview").textContent()).toBe("This sweep gives 3 designs: k = 5 · k = 20 · k = 80");
+    await shot(page, "comparisons-05-sweep-form");
+    await page.getByRole("button", { name: "Save as draft" }).click();
+    await page.waitForURL(/\/comparisons\/\d+$/);
+    expect(await page.getByTestId("comparison-status").textContent()).toBe("draft");
+    expect(await page.getByTestId("design-progress").count()).toBe(3);
+    expect(await page.getByRole("button", { name: "Run all designs" }).count()).toBe(1);
+  });
+
   it("a reviewer opens the demo lab's ring-timer comparison and reads which design keeps the most precise period", async () => {
     await page.getByRole("button", { name: "Sign out" }).click();
     await page.waitForURL(/\/signin/);

@@ -178,6 +178,10 @@ describe("launch, cancel and the queue limit (no worker)", () => {
     const first = (await owner.client.request("GET", `/api/comparisons/${c.json.id}`)).json;
     expect(first.status).toBe("running");
     expect(first.designs.map((d: any) => d.label)).toEqual([`${birthDeath.name} v1`, `${birthDeath.name} v1 (k = 20)`]);
+    // Each design run is in the audit trail as a launched run naming the comparison.
+    const audit = (await owner.client.request("GET", `/api/labs/${owner.labId}/audit?action=run.launched`)).json.events;
+    const mine = audit.filter((e: any) => e.details.comparison_id === c.json.id);
+    expect(mine.map((e: any) => e.target_id).sort()).toEqual(first.designs.map((d: any) => d.run.id).sort());
     expect((await owner.client.request("POST", `/api/runs/${first.designs[0].run.id}/cancel`)).status).toBe(200);
     const after = (await owner.client.request("GET", `/api/comparisons/${c.json.id}`)).json;
     expect(after.status).toBe("failed");

@@ -83,10 +83,17 @@ export function ComparisonForm({ labId, circuits }: { labId: string; circuits: C
     return { body: { ...common, sweep: { version_id: base, ...(Object.keys(o).length ? { overrides: o } : {}), axes: axes.map(axisBody) } } };
   };
 
+  // The sweep's designs as the API will make them, or the first problem with the sweep's fields.
   const preview = (() => {
     if (mode !== "sweep") return null;
-    const parsed = ComparisonCreate.safeParse({ ...(body(false).body as object), name: name || "preview" });
-    if (!parsed.success || !parsed.data.sweep) return null;
+    const b = body(false);
+    if (b.error) return { problem: b.error };
+    const parsed = ComparisonCreate.safeParse({ ...(b.body as object), name: name || "preview" });
+    if (!parsed.success) {
+      const issue = parsed.error.issues.find((i) => i.path[0] === "sweep");
+      return issue && axes.every((a) => a.parameter) ? { problem: describeIssue(issue) } : null;
+    }
+    if (!parsed.data.sweep) return null;
     return { n: sweepSize(parsed.data.sweep), labels: sweepDesigns(parsed.data.sweep).map((d) => d.label) };
   })();
 
@@ -220,9 +227,11 @@ export function ComparisonForm({ labId, circuits }: { labId: string; circuits: C
               A grid of two parameters
             </label>
             <p className="text-xs text-ink-soft" aria-live="polite" data-testid="sweep-preview">
-              {preview
+              {preview?.labels
                 ? <>This sweep gives <strong className="text-ink">{preview.n} designs</strong>: {preview.labels.slice(0, 8).join(" · ")}{preview.labels.length > 8 ? " · …" : ""}</>
-                : `Choose a parameter and its values (at most ${COMPARISON_LIMITS.maxDesigns} designs in all; log ranges need positive ends).`}
+                : preview?.problem
+                  ? <span className="text-red-700">{preview.problem}</span>
+                  : `Choose a parameter and its values (at most ${COMPARISON_LIMITS.maxDesigns} designs in all; log ranges need positive ends).`}
             </p>
           </div>
         )}
