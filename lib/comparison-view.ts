@@ -221,14 +221,18 @@ export function sweepSpec(c: Pick<ComparisonJson, "sweep">, r: ComparisonResults
     : [];
   const log = first.scale === "log";
   const xEnc = { field: "x", type: "quantitative" as const, title: first.parameter, scale: { type: log ? ("log" as const) : ("linear" as const), zero: false, nice: !log } };
-  const yEnc = { type: "quantitative" as const, title: `${species}: ${measure === "cv" ? "CV" : "period CV"}`, scale: { zero: false, type: log ? ("log" as const) : ("linear" as const) } };
+  const yEnc = { type: "quantitative" as const, title: `${species}: ${measure === "cv" ? "CV" : "period CV"}`, scale: { zero: false, nice: !log, type: log ? ("log" as const) : ("linear" as const) } };
   const groups = Array.from(new Set(rows.map((q) => q.group)));
   const colour = { field: "group", type: "nominal" as const, title: second ? second.parameter : null, scale: { domain: groups, range: SERIES }, legend: second ? {} : null };
   return {
     ...sized(260), ...font,
     title: { text: `${species}: ${measure === "cv" ? "CV" : "period CV"} across the sweep of ${first.parameter}`, subtitle: `Ensembles with ${Math.round(r.level * 100)}% intervals${curve.length ? "; dashed: LNA prediction" : ""}${log ? "; log axes" : ""}`, anchor: "start" },
     layer: [
-      ...(curve.length ? [{ data: { values: curve }, mark: { type: "line" as const, strokeDash: [6, 4], strokeWidth: 1.5 }, encoding: { x: xEnc, y: { field: "value", ...yEnc }, color: colour, detail: { field: "group" } } }] : []),
+      // The LNA curve dashed; grey on a single sweep (the ensemble line has the colour), per group on a grid.
+      ...(curve.length ? [{
+        data: { values: curve }, mark: { type: "line" as const, strokeDash: [6, 4], strokeWidth: 1.5, ...(second ? {} : { color: "#4a5568" }) },
+        encoding: { x: xEnc, y: { field: "value", ...yEnc }, ...(second ? { color: colour } : {}), detail: { field: "group" } },
+      }] : []),
       { data: { values: rows }, mark: { type: "rule", strokeWidth: 2 }, encoding: { x: xEnc, y: { field: "lo", ...yEnc }, y2: { field: "hi" }, color: colour } },
       { data: { values: rows }, mark: { type: "line", point: { filled: true, size: 50 }, strokeWidth: 1 }, encoding: { x: xEnc, y: { field: "value", ...yEnc }, color: colour, tooltip: [{ field: "x", title: first.parameter }, { field: "value", format: ".4~g" }, { field: "lo", format: ".4~g" }, { field: "hi", format: ".4~g" }] } },
     ],

@@ -119,12 +119,19 @@ describe("comparisons in Chromium", () => {
     await expect.poll(() => page.getByTestId("sweep-preview").textContent()).toBe("sweep.axes[0].from: must be > 0 on a log range");
     await page.getByLabel("From", { exact: true }).fill("5");
     await expect.poll(() => page.getByTestId("sweep-preview").textContent()).toBe("This sweep gives 3 designs: k = 5 · k = 20 · k = 80");
+    await page.getByLabel("End time", { exact: true }).fill("200");
+    await page.getByLabel("Cells per design").fill("100");
     await shot(page, "comparisons-05-sweep-form");
     await page.getByRole("button", { name: "Save as draft" }).click();
     await page.waitForURL(/\/comparisons\/\d+$/);
     expect(await page.getByTestId("comparison-status").textContent()).toBe("draft");
     expect(await page.getByTestId("design-progress").count()).toBe(3);
-    expect(await page.getByRole("button", { name: "Run all designs" }).count()).toBe(1);
+    // Run it from the page: the sweep's charts put CV against k on log axes with the LNA curve.
+    await page.getByRole("button", { name: "Run all designs" }).click();
+    await expect.poll(() => page.getByTestId("comparison-status").textContent(), { timeout: 120_000, interval: 500 }).toBe("succeeded");
+    await page.getByTestId("chart-sweep-cv").locator("svg .mark-line path").first().waitFor();
+    expect(await page.getByTestId("chart-sweep-cv").textContent()).toMatch(/dashed: LNA prediction; log axes/);
+    await shot(page, "comparisons-06-sweep-results");
   });
 
   it("a reviewer opens the demo lab's ring-timer comparison and reads which design keeps the most precise period", async () => {

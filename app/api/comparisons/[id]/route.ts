@@ -1,6 +1,6 @@
 import { requireUser } from "@/lib/auth/session";
 import { loadComparisonJson, requireComparison } from "@/lib/comparisons";
-import { deleteComparison } from "@/lib/data/comparisons";
+import { cancelDesignRuns, deleteComparison } from "@/lib/data/comparisons";
 import { handle } from "@/lib/http";
 
 type Ctx = { params: Promise<{ id: string }> };
@@ -12,10 +12,12 @@ export const GET = handle("GET /api/comparisons/:id", async (req, ctx: Ctx) => {
   return Response.json(await loadComparisonJson(c));
 });
 
-/** Deletes the comparison (owner); its runs stay in the lab's runs. */
+/** Deletes the comparison (owner); its finished runs stay in the lab's runs. */
 export const DELETE = handle("DELETE /api/comparisons/:id", async (req, ctx: Ctx) => {
   const user = await requireUser(req);
   const c = await requireComparison(user.id, (await ctx.params).id, "delete");
+  // Its unfinished design runs would otherwise go on as loose runs: stop them first.
+  if (c.status === "running") await cancelDesignRuns(c.id);
   await deleteComparison(c.id);
   return new Response(null, { status: 204 });
 });

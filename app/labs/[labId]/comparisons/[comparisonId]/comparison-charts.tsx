@@ -40,7 +40,7 @@ export function ComparisonCharts({ c, species }: { c: ComparisonJson; species: s
         <Chart spec={interval} fileBase={comparisonFileBase(c.id, measure.replace("_", "-"))} label={`${MEASURES.find((m) => m.value === measure)?.label} per design with intervals`} />
       </div>
       {sweepCv && (
-        <div className="grid gap-4 lg:grid-cols-2">
+        <div className={`grid gap-4 ${sweepPeriod ? "lg:grid-cols-2" : ""}`}>
           <div className="rounded-lg border border-ink/10 bg-white p-3" data-testid="chart-sweep-cv">
             <Chart spec={sweepCv} fileBase={comparisonFileBase(c.id, `${species}-cv-sweep`)} label={`${species} CV across the sweep`} />
           </div>
