@@ -12,31 +12,19 @@ import {
   dropDatabase, ensureBuild, ensureDatabase, ensureLocalCluster, localUrl, migrate, psql, seedDemo, startChild, stopChild, stopLocalCluster,
 } from "../lib/bootstrap.mjs";
 
+import { benchClient, median, signInDemoModeler } from "./client";
+
 const PORT = Number(process.env.BENCH_PORT ?? 3410);
 const base = `http://127.0.0.1:${PORT}`;
+const call = benchClient(base);
 const CELLS = Number(process.env.BENCH_CELLS ?? 1000);
 const REPEATS = Number(process.env.BENCH_REPEATS ?? 1);
 const T_END = 2000;
 const DT = 1;
 const G_VALUES = { parameter: "g", scale: "log" as const, from: 0.15, to: 0.3, points: 5 };
 
-const cookies = new Map<string, string>();
-async function call(method: string, path: string, body?: unknown, form?: URLSearchParams) {
-  const headers: Record<string, string> = { cookie: [...cookies].map(([k, v]) => `${k}=${v}`).join("; ") };
-  if (body) headers["content-type"] = "application/json";
-  if (form) headers["content-type"] = "application/x-www-form-urlencoded";
-  const res = await fetch(base + path, { method, headers, body: form ?? (body ? JSON.stringify(body) : undefined), redirect: "manual" });
-  for (const c of res.headers.getSetCookie()) {
-    const [pair] = c.split(";");
-    const i = pair!.indexOf("=");
-    cookies.set(pair!.slice(0, i), pair!.slice(i + 1));
-  }
-  const text = await res.text();
-  return { status: res.status, text, json: (() => { try { return JSON.parse(text); } catch { return null; } })() };
-}
 
 const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
-const median = (xs: number[]) => { const s = [...xs].sort((a, b) => a - b); return s[Math.floor(s.length / 2)]!; };
 const STATS = ["mean", "sd", "quantiles", "final", "stationary", "period"];
 
 async function main() {
@@ -53,11 +41,7 @@ async function main() {
   const worker = startChild("worker", process.execPath, ["--import", "tsx", "worker/index.ts"], { ...env, WORKER_CONCURRENCY: "2" });
   const q = (sql: string) => psql(sql, dbName);
   try {
-    for (let i = 0; i < 200; i++) { try { if ((await fetch(`${base}/api/health`)).ok) break; } catch { /* starting */ } await sleep(250); }
-    const csrf = await call("GET", "/api/auth/csrf");
-    await call("POST", "/api/auth/callback/credentials", undefined,
-      new URLSearchParams({ csrfToken: csrf.json.csrfToken, email: "modeler@sentinel.example", password: "sentinel-demo", json: "true" }));
-    const lab = (await call("GET", "/api/labs")).json.labs[0];
+    const lab = { id: await signInDemoModeler(base, call) };
     // The seeded demo comparison runs first: it warms the worker's threads, and the timed sweep starts on an idle queue.
     const d0 = performance.now();
     while (Number(q("select count(*) from runs where status in ('queued','running')")) > 0) await sleep(250);

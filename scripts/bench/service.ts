@@ -9,29 +9,17 @@ import {
   dropDatabase, ensureBuild, ensureDatabase, ensureLocalCluster, localUrl, migrate, psql, seedDemo, startChild, stopChild, stopLocalCluster,
 } from "../lib/bootstrap.mjs";
 
+import { benchClient, median, signInDemoModeler } from "./client";
+
 const PORT = Number(process.env.BENCH_PORT ?? 3400);
 const base = `http://127.0.0.1:${PORT}`;
+const call = benchClient(base);
 const CELLS = Number(process.env.BENCH_CELLS ?? 1000);
 const T_END = 2000;
 const DT = 1;
 const SEED = 20261201;
 
-const cookies = new Map<string, string>();
-async function call(method: string, path: string, body?: unknown, form?: URLSearchParams) {
-  const headers: Record<string, string> = { cookie: [...cookies].map(([k, v]) => `${k}=${v}`).join("; ") };
-  if (body) headers["content-type"] = "application/json";
-  if (form) headers["content-type"] = "application/x-www-form-urlencoded";
-  const res = await fetch(base + path, { method, headers, body: form ?? (body ? JSON.stringify(body) : undefined), redirect: "manual" });
-  for (const c of res.headers.getSetCookie()) {
-    const [pair] = c.split(";");
-    const i = pair!.indexOf("=");
-    cookies.set(pair!.slice(0, i), pair!.slice(i + 1));
-  }
-  const text = await res.text();
-  return { status: res.status, text, json: (() => { try { return JSON.parse(text); } catch { return null; } })() };
-}
 
-const median = (xs: number[]) => { const s = [...xs].sort((a, b) => a - b); return s[Math.floor(s.length / 2)]!; };
 
 async function main() {
   const startedPg = ensureLocalCluster();
@@ -46,11 +34,7 @@ async function main() {
   const web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(PORT)], env);
   const worker = startChild("worker", process.execPath, ["--import", "tsx", "worker/index.ts"], { ...env, WORKER_CONCURRENCY: "2" });
   try {
-    for (let i = 0; i < 200; i++) { try { if ((await fetch(`${base}/api/health`)).ok) break; } catch { /* starting */ } await new Promise((r) => setTimeout(r, 250)); }
-    const csrf = await call("GET", "/api/auth/csrf");
-    await call("POST", "/api/auth/callback/credentials", undefined,
-      new URLSearchParams({ csrfToken: csrf.json.csrfToken, email: "modeler@sentinel.example", password: "sentinel-demo", json: "true" }));
-    const lab = (await call("GET", "/api/labs")).json.labs[0];
+    const lab = { id: await signInDemoModeler(base, call) };
     const circuit = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
     const c = await call("POST", "/api/circuits", { lab_id: lab.id, circuit: { ...circuit, name: "Bench ring timer" } });
     // Warm the worker's thread pool and compiled kernel with a small run first (as a live worker would be).
