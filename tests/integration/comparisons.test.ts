@@ -5,7 +5,7 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 
 import { Client, newUser } from "../support/client";
 import { testDb } from "../support/db";
-import { startWorker, stopWorker, waitForOutput } from "../support/worker";
+import { workerPool } from "../support/worker";
 
 const birthDeath = JSON.parse(readFileSync("examples/birth-death.circuit.json", "utf8"));
 const ringTimer = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
@@ -15,14 +15,8 @@ let owner: Awaited<ReturnType<typeof newUser>>;
 let reviewer: Client;
 let outsider: Client;
 let bdVersion: string;
-const workers: ReturnType<typeof startWorker>[] = [];
-
-async function worker() {
-  const w = startWorker();
-  workers.push(w);
-  await waitForOutput(w, /worker ready/);
-  return w;
-}
+const workers = workerPool();
+const worker = () => workers.start();
 
 async function create(body: Record<string, unknown>, client = owner.client) {
   return client.request("POST", "/api/comparisons", { lab_id: owner.labId, name: `Comparison ${Date.now()}`, ...body });
@@ -54,7 +48,7 @@ beforeAll(async () => {
 });
 
 afterEach(async () => {
-  await Promise.all(workers.splice(0).map((w) => stopWorker(w, "SIGKILL")));
+  await workers.killAll();
 });
 
 afterAll(async () => {

@@ -5,7 +5,7 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 
 import { Client, newUser } from "../support/client";
 import { testDb } from "../support/db";
-import { startWorker, stopWorker, waitForOutput } from "../support/worker";
+import { isFinished, stopWorker, waitForRun, workerPool } from "../support/worker";
 
 const ringTimer = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
 
@@ -16,14 +16,8 @@ let watcher: Awaited<ReturnType<typeof newUser>>; // opted in: every run in the 
 let quiet: Awaited<ReturnType<typeof newUser>>; // never opted in
 let bystander: Awaited<ReturnType<typeof newUser>>; // my runs, but launches none
 let versionId: string;
-const workers: ReturnType<typeof startWorker>[] = [];
-
-async function worker(env: Record<string, string> = {}) {
-  const w = startWorker(env);
-  workers.push(w);
-  await waitForOutput(w, /worker ready/);
-  return w;
-}
+const workers = workerPool();
+const worker = workers.start;
 
 async function optIn(client: Client, runs: "off" | "mine" | "lab") {
   const r = await client.request("PUT", "/api/me/notifications", { lab_id: owner.labId, runs });
@@ -36,15 +30,7 @@ async function launch(body: Record<string, unknown> = {}) {
   return r.json.id as string;
 }
 
-async function waitFinished(runId: string, timeoutMs = 120_000) {
-  const until = Date.now() + timeoutMs;
-  for (;;) {
-    const r = (await launcher.client.request("GET", `/api/runs/${runId}`)).json;
-    if (["succeeded", "failed", "cancelled"].includes(r.status)) return r;
-    if (Date.now() > until) throw new Error(`run ${runId} stuck: ${JSON.stringify(r)}`);
-    await new Promise((res) => setTimeout(res, 200));
-  }
-}
+const waitFinished = (runId: string, timeoutMs = 120_000) => waitForRun(launcher.client, runId, isFinished, timeoutMs);
 
 /** E-mails the fake received for `to` about run `runId`. */
 const mailsAbout = (to: string, runId: string) =>
@@ -76,7 +62,7 @@ beforeAll(async () => {
 });
 
 afterEach(async () => {
-  await Promise.all(workers.splice(0).map((w) => stopWorker(w, "SIGKILL")));
+  await workers.killAll();
 });
 
 afterAll(async () => {

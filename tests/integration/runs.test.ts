@@ -5,7 +5,7 @@ import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
 
 import { Client, newUser } from "../support/client";
 import { testDb } from "../support/db";
-import { runCli, startWorker, stopWorker, waitForOutput } from "../support/worker";
+import { isFinished, runCli, stopWorker, waitForRun, workerPool } from "../support/worker";
 
 const ringTimer = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
 const STATS = ["times", "mean", "sd", "quantiles", "final", "stationary", "period"] as const;
@@ -14,14 +14,8 @@ let db: Knex;
 let modeler: Client;
 let labId: string;
 let versionId: string;
-const workers: ReturnType<typeof startWorker>[] = [];
-
-async function worker(env: Record<string, string> = {}) {
-  const w = startWorker(env);
-  workers.push(w);
-  await waitForOutput(w, /worker ready/);
-  return w;
-}
+const workers = workerPool();
+const worker = workers.start;
 
 async function launch(body: Record<string, unknown>, client = modeler) {
   const r = await client.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 200, dt: 1, ...body });
@@ -29,17 +23,8 @@ async function launch(body: Record<string, unknown>, client = modeler) {
   return r.json as { id: string; seed: number };
 }
 
-async function waitFor(runId: string, done: (run: any) => boolean, timeoutMs = 90_000, client = modeler) {
-  const until = Date.now() + timeoutMs;
-  let last: any;
-  while (Date.now() < until) {
-    last = (await client.request("GET", `/api/runs/${runId}`)).json;
-    if (done(last)) return last;
-    await new Promise((r) => setTimeout(r, 200));
-  }
-  throw new Error(`run ${runId} stuck: ${JSON.stringify(last)}`);
-}
-const finished = (r: any) => ["succeeded", "failed", "cancelled"].includes(r.status);
+const waitFor = (runId: string, done: (run: any) => boolean, timeoutMs = 90_000, client = modeler) => waitForRun(client, runId, done, timeoutMs);
+const finished = isFinished;
 
 function pick(summary: any) {
   return Object.fromEntries(STATS.map((k) => [k, summary[k]]));
@@ -56,7 +41,7 @@ beforeAll(async () => {
 });
 
 afterEach(async () => {
-  await Promise.all(workers.splice(0).map((w) => stopWorker(w, "SIGKILL")));
+  await workers.killAll();
 });
 
 afterAll(async () => {

@@ -41,3 +41,33 @@ export function runCli(args: string[]): { status: number; stdout: string; stderr
   try { json = JSON.parse(r.stdout); } catch { /* not JSON */ }
   return { status: r.status ?? 1, stdout: r.stdout, stderr: r.stderr, json };
 }
+
+/** Worker processes a test file starts; `killAll` in afterEach leaves none behind. */
+export function workerPool() {
+  const live: ReturnType<typeof startWorker>[] = [];
+  return {
+    /** Starts a worker and waits until it takes jobs. */
+    async start(env: Record<string, string> = {}) {
+      const w = startWorker(env);
+      live.push(w);
+      await waitForOutput(w, /worker ready/);
+      return w;
+    },
+    killAll: () => Promise.all(live.splice(0).map((w) => stopWorker(w, "SIGKILL"))),
+  };
+}
+
+export const isFinished = (run: { status: string }) => ["succeeded", "failed", "cancelled"].includes(run.status);
+
+/** Polls GET /api/runs/:id until `done(run)`; the last state is in the error when it never comes. */
+export async function waitForRun(client: { request(method: string, path: string): Promise<{ json: any }> }, runId: string,
+  done: (run: any) => boolean = isFinished, timeoutMs = 90_000): Promise<any> {
+  const until = Date.now() + timeoutMs;
+  let last: any;
+  while (Date.now() < until) {
+    last = (await client.request("GET", `/api/runs/${runId}`)).json;
+    if (done(last)) return last;
+    await new Promise((r) => setTimeout(r, 200));
+  }
+  throw new Error(`run ${runId} stuck: ${JSON.stringify(last)}`);
+}
