@@ -9,7 +9,8 @@ import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type Direc
 import type { Model } from "./model-core";
 import { cellRngState } from "./rng";
 import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
-import { tauKernel } from "./tau";
+import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
+import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
 
 export type StochasticMethod = "ssa" | "tau";
@@ -24,8 +25,10 @@ export interface EnsembleOptions {
   burnIn?: number;
   /** Events allowed per cell before the run is stopped as runaway; default 2e9. */
   maxEventsPerCell?: number;
-  /** "generated" (default when possible) or "generic" direct-method kernel; tau ignores it. */
+  /** "generated" (default when possible) or "generic" kernel, for either method. */
   kernel?: "generated" | "generic";
+  /** ε of the tau-leaping step selection (ssa/tau.ts); default TAU_EPSILON. Ignored by ssa. */
+  tauEpsilon?: number;
   /** Minimum width of a cell's hysteresis band, in molecules, for its periods to count; default 2. */
   minPeriodBand?: number;
   /** Cells simulated between histogram folds (memory ∝ block · grid points · species); default 256. */
@@ -68,8 +71,16 @@ function withSentinel(grid: Float64Array): Float64Array {
 }
 
 /** The kernel for a model and method, compiled once per model object. */
-export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel">): DirectKernel {
-  if (o.method === "tau") return (m.kernels.tau ??= tauKernel(m));
+export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel" | "tauEpsilon">): DirectKernel {
+  if (o.method === "tau") {
+    const epsilon = o.tauEpsilon ?? TAU_EPSILON;
+    const generic = o.kernel === "generic" || !canGenerateKernel(m);
+    const cached = m.kernels.tau;
+    if (cached && cached.epsilon === epsilon && cached.generic === generic) return cached.fn;
+    const fn = generic ? tauKernel(m, { epsilon }) : compileTauKernel(m, { epsilon });
+    m.kernels.tau = { epsilon, generic, fn };
+    return fn;
+  }
   if (o.kernel === "generic" || !canGenerateKernel(m)) return (m.kernels.generic ??= directKernelGeneric(m));
   return (m.kernels.direct ??= compileDirectKernel(m));
 }
@@ -78,6 +89,9 @@ function checkOptions(m: Model, o: EnsembleOptions): void {
   if (o.method !== "ssa" && o.method !== "tau") throw new RangeError(`method must be "ssa" or "tau", got ${String(o.method)}`);
   if (!Number.isSafeInteger(o.seed) || o.seed < 0) throw new RangeError(`seed must be a non-negative integer, got ${o.seed}`);
   if (o.burnIn !== undefined && !(o.burnIn >= 0)) throw new RangeError(`burnIn must be >= 0, got ${o.burnIn}`);
+  if (o.tauEpsilon !== undefined && !(o.tauEpsilon > 0 && o.tauEpsilon <= MAX_TAU_EPSILON)) {
+    throw new RangeError(`tauEpsilon must be in (0, ${MAX_TAU_EPSILON}], got ${o.tauEpsilon}`);
+  }
   if (m.nSpecies < 1) throw new RangeError("model has no species");
 }
 
@@ -189,6 +203,7 @@ export function summarize(m: Model, o: EnsembleOptions, partial: Partial, ctx: S
     timeUnit: m.timeUnit,
     amountUnit: m.amountUnit,
     wallS: ctx.wallS ?? 0,
+    tauEpsilon: o.method === "tau" ? (o.tauEpsilon ?? TAU_EPSILON) : undefined,
   });
 }
 

@@ -62,11 +62,11 @@ export function hillTable(m: Model, j: number): Float64Array {
 }
 
 /** Clamp used for formula propensities: a negative or undefined value cannot fire. */
-const positivePart = (v: number): number => (v > 0 ? v : 0);
+export const positivePart = (v: number): number => (v > 0 ? v : 0);
 
-function reactantGuard(m: Model, j: number): string {
+function reactantGuard(m: Model, j: number, name: (i: number) => string): string {
   const parts: string[] = [];
-  for (let p = m.reactantPtr[j]; p < m.reactantPtr[j + 1]; p++) parts.push(`x${m.reactantIdx[p]} >= ${m.reactantNu[p]}`);
+  for (let p = m.reactantPtr[j]; p < m.reactantPtr[j + 1]; p++) parts.push(`${name(m.reactantIdx[p])} >= ${m.reactantNu[p]}`);
   return parts.join(" && ");
 }
 
@@ -76,8 +76,11 @@ function factorial(n: number): number {
   return f;
 }
 
-/** Source of reaction j's propensity over local counts x0, x1, … */
-function propensitySource(m: Model, j: number): string {
+/**
+ * Source of reaction j's propensity over local counts x0, x1, … (or the expressions `name(i)`
+ * gives, e.g. \`(x2 + 1)\` for a one-molecule difference).
+ */
+export function propensitySource(m: Model, j: number, name: (i: number) => string = (i) => `x${i}`): string {
   switch (m.law[j]) {
     case LawCode.MassAction: {
       // c · Π C(x, ν) = (c / Πν!) · Π x(x−1)…(x−ν+1) (Gillespie 1977).
@@ -87,7 +90,7 @@ function propensitySource(m: Model, j: number): string {
         const i = m.reactantIdx[p];
         const nu = m.reactantNu[p];
         coef /= factorial(nu);
-        for (let q = 0; q < nu; q++) factors.push(q === 0 ? `x${i}` : `(x${i} - ${q})`);
+        for (let q = 0; q < nu; q++) factors.push(q === 0 ? name(i) : `(${name(i)} - ${q})`);
       }
       if (coef === 0) return "0";
       return [formatNumber(coef), ...factors].join(" * ");
@@ -95,16 +98,17 @@ function propensitySource(m: Model, j: number): string {
     case LawCode.HillActivation:
     case LawCode.HillRepression: {
       const i = m.hillInput[j];
-      const body = `(x${i} < TN${j} ? T${j}[x${i}] : H${j}(x${i}))`;
-      const guard = reactantGuard(m, j);
+      const xi = name(i);
+      const body = `(${xi} < TN${j} ? T${j}[${xi}] : H${j}(${xi}))`;
+      const guard = reactantGuard(m, j, name);
       return guard ? `(${guard} ? ${body} : 0)` : body;
     }
     default: {
       const expr = m.expressions[j];
       if (!expr) throw new TypeError(`reaction ${j} has no expression`);
-      const f = expressionSource(expr, m.speciesIndex, new Map(Object.entries(m.parameters)), (i) => `x${i} * ${formatNumber(1 / m.omega)}`);
+      const f = expressionSource(expr, m.speciesIndex, new Map(Object.entries(m.parameters)), (i) => `${name(i)} * ${formatNumber(1 / m.omega)}`);
       const body = `P(${formatNumber(m.omega)} * ${f})`;
-      const guard = reactantGuard(m, j);
+      const guard = reactantGuard(m, j, name);
       return guard ? `(${guard} ? ${body} : 0)` : body;
     }
   }

@@ -99,7 +99,7 @@ export interface Model {
   /** Propensity of reaction j alone (molecules per model time) at counts x. */
   propensity(j: number, x: Float64Array): number;
   /** Kernels compiled on first use for this model (see ssa/ensemble.ts kernelFor). */
-  kernels: { direct?: KernelFn; generic?: KernelFn; tau?: KernelFn };
+  kernels: { direct?: KernelFn; generic?: KernelFn; tau?: { epsilon: number; generic: boolean; fn: KernelFn } };
   /** Scratch buffers reused by successive synchronous calls on this model (ssa/ensemble.ts). */
   scratch: { block?: Float64Array };
 }

@@ -429,6 +429,8 @@ export interface SimulateSummary {
   events: number;
   wall_s: number;
   events_per_s: number;
+  /** ε of the tau-leaping step selection (method "tau" only). */
+  tau_epsilon?: number;
   burn_in: number;
   time_unit: string;
   amount_unit: string;
@@ -447,6 +449,8 @@ export interface FinalizeOptions {
   timeUnit: string;
   amountUnit: string;
   wallS: number;
+  /** ε used by method "tau" (reported in the summary). */
+  tauEpsilon?: number;
 }
 
 function momentsOut(m: Moments, scale: number): SpeciesMoments {
@@ -577,6 +581,7 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
     events: partial.events,
     wall_s: o.wallS,
     events_per_s: o.wallS > 0 ? partial.events / o.wallS : NaN,
+    ...(o.method === "tau" ? { tau_epsilon: o.tauEpsilon } : {}),
     burn_in: o.burnIn,
     time_unit: o.timeUnit,
     amount_unit: o.units === "model" ? o.amountUnit : "molecules",

@@ -25,15 +25,16 @@ import type { DirectKernel } from "./kernel";
 import { LawCode, hillActivation, type Model } from "./model-core";
 import { poisson } from "./poisson";
 import { CellRng } from "./rng";
+export { MAX_TAU_EPSILON } from "./types";
 
 /** ε of Cao, Gillespie & Petzold 2006 (their recommended 0.03). */
 export const TAU_EPSILON = 0.03;
 /** Critical-reaction threshold n_c (paper: 10). */
-const N_CRITICAL = 10;
+export const N_CRITICAL = 10;
 /** Take direct steps when τ' < SSA_FACTOR / a0 (paper: 10). */
-const SSA_FACTOR = 10;
+export const SSA_FACTOR = 10;
 /** Direct steps taken in that case (paper: 100). */
-const SSA_STEPS = 100;
+export const SSA_STEPS = 100;
 
 export interface TauOptions {
   epsilon?: number;

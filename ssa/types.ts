@@ -88,3 +88,6 @@ export class ModelInputError extends RangeError {
     this.name = "ModelInputError";
   }
 }
+
+/** Largest ε accepted by tau-leaping (ssa/tau.ts): beyond it a leap may change propensities by more than a fifth. */
+export const MAX_TAU_EPSILON = 0.2;

@@ -18,6 +18,7 @@ export const RUN_FLAGS: FlagSpec = {
   "burn-in": "string",
   set: "list",
   units: "string",
+  "tau-epsilon": "string",
   threads: "string",
   out: "string",
 };
@@ -30,6 +31,8 @@ export const RUN_FLAGS_HELP = `  --method ode|ssa|tau   simulation method (defau
   --burn-in B            time before which stationary statistics and periods ignore samples (default T/5)
   --set name=value       override a parameter (repeatable)
   --units molecules|model  output units (default molecules for ssa/tau, model for ode)
+  --tau-epsilon E        tau-leaping step control: propensities may change by about E per leap
+                         (default 0.03; at most 0.2; ignored unless --method tau)
   --threads K            worker threads (default: all cores)
   --out FILE             write the JSON there instead of stdout`;
 
@@ -42,6 +45,7 @@ const FLAG_OF: Record<string, string> = {
   burnIn: "--burn-in",
   overrides: "--set",
   units: "--units",
+  tauEpsilon: "--tau-epsilon",
   threads: "--threads",
 };
 
@@ -58,6 +62,7 @@ export async function runOptionsFromFlags(flags: ParsedFlags, circuit: Circuit):
     burnIn: numberFlag(flags, "burn-in"),
     overrides: overridesFlag(flags),
     units: flags.values.units as string | undefined,
+    tauEpsilon: numberFlag(flags, "tau-epsilon"),
     threads: numberFlag(flags, "threads"),
   };
   const res = SimulateOptions.safeParse(Object.fromEntries(Object.entries(raw).filter(([, v]) => v !== undefined)));

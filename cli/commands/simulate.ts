@@ -28,6 +28,7 @@ Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of t
       burnIn: o.burnIn,
       overrides: o.overrides,
       units: o.units,
+      tauEpsilon: o.tauEpsilon,
       threads: o.threads ?? defaultThreads(),
     });
     writeJson(summary, flags.values.out as string | undefined);

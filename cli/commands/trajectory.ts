@@ -35,6 +35,7 @@ Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of t
       burnIn: o.burnIn,
       overrides: o.overrides,
       units: o.units,
+      tauEpsilon: o.tauEpsilon,
     });
     writeJson(result, flags.values.out as string | undefined);
   },

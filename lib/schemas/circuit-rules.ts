@@ -8,7 +8,7 @@
 import { z } from "zod";
 
 import type { ExprScope, ParseResult } from "@/ssa/expr";
-import { CIRCUIT_FORMAT, type Circuit } from "@/ssa/types";
+import { CIRCUIT_FORMAT, MAX_TAU_EPSILON, type Circuit } from "@/ssa/types";
 
 /** Parses and checks one rate formula (ssa/expr.ts parseExpression). */
 export type FormulaChecker = (text: string, scope: ExprScope) => ParseResult;
@@ -288,6 +288,11 @@ export const SimulateOptions = z
     burnIn: z.number({ error: "must be a number" }).nonnegative("must be >= 0").optional(),
     overrides: z.record(z.string().regex(IDENTIFIER, "must be a parameter name"), finiteNumber()).optional(),
     units: z.enum(["molecules", "model"], { error: `must be "molecules" or "model"` }).optional(),
+    tauEpsilon: z
+      .number({ error: "must be a number" })
+      .positive("must be > 0")
+      .max(MAX_TAU_EPSILON, `must be at most ${MAX_TAU_EPSILON}`)
+      .optional(),
     threads: z
       .number({ error: "must be a positive integer" })
       .int("must be a positive integer")

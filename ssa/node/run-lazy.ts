@@ -23,6 +23,8 @@ export interface RunOptions {
   overrides?: Record<string, number>;
   units?: "molecules" | "model";
   threads?: number;
+  /** ε of the tau-leaping step selection (method "tau"); default ssa/tau.ts TAU_EPSILON. */
+  tauEpsilon?: number;
   /** Add the mean-field trace on the same grid and units to an ensemble summary (the API does). */
   includeTrace?: boolean;
 }
@@ -40,7 +42,7 @@ export async function runSimulation(circuit: Circuit, o: RunOptions, pool: PoolR
     return summary;
   }
   if (o.seed === undefined) throw new RangeError("seed is required for a stochastic run");
-  const options: EnsembleOptions = { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn };
+  const options: EnsembleOptions = { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn, tauEpsilon: o.tauEpsilon };
   makeGrid(o.tEnd, o.dt); // validates before any thread starts
   const runs = o.runs ?? 1;
   const partial = await simulateCellsPooled(circuit, o.overrides, options, runs, { threads: o.threads, ...pool });
@@ -60,5 +62,5 @@ export async function runTrajectoryLazily(circuit: Circuit, o: RunOptions & { se
 /** The trajectory of cell `o.index` for a compiled model. @throws RangeError for method "ode" or a bad index. */
 export function trajectoryOf(model: Model, o: RunOptions & { seed: number; index: number }): TrajectoryResult {
   if (o.method === "ode") throw new RangeError(`method must be "ssa" or "tau" for a trajectory`);
-  return trajectory(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.index, o.units ?? "molecules");
+  return trajectory(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn, tauEpsilon: o.tauEpsilon }, o.index, o.units ?? "molecules");
 }
