@@ -32,8 +32,9 @@ export function logFactorial(k: number): number {
 
 /** Means below this use the tables; at or above, PTRS. */
 export const POISSON_TABLE_MAX = 64;
-/** Tabulated means are multiples of 1/QUANTA. */
-const QUANTA = 4;
+/** Tabulated means are multiples of 1/POISSON_QUANTA. */
+export const POISSON_QUANTA = 4;
+const QUANTA = POISSON_QUANTA;
 const N_TABLES = POISSON_TABLE_MAX * QUANTA;
 
 /** Tables of Poisson(q/QUANTA) for q = 1 … N_TABLES−1, built once per thread when the module loads. */
@@ -81,6 +82,28 @@ const GUIDE: Int32Array = (() => {
   return guide;
 })();
 
+/**
+ * The tables, for kernels that inline the table branch of `poisson` with their own copy of the
+ * stream (ssa/tau-kernel.ts); they must follow it step for step (tests compare the two).
+ */
+export const POISSON_TABLES = { cdf: CDF, guide: GUIDE, start: TABLE_START, length: TABLE_LENGTH } as const;
+
+/**
+ * Poisson(δ) for 0 < δ < 1/QUANTA by sequential inversion of the uniform u, for u ≥ 1 − δ (below,
+ * the answer is 0 and callers need not call).
+ */
+export function poissonRemainder(u: number, d: number): number {
+  let p = Math.exp(-d);
+  let c = p;
+  let j = 0;
+  while (u >= c && j < 40) {
+    j++;
+    p *= d / j;
+    c += p;
+  }
+  return j;
+}
+
 /** One Poisson(mean) variate; 0 for mean ≤ 0. */
 export function poisson(rng: CellRng, mean: number): number {
   if (!(mean > 0)) return 0;
@@ -97,17 +120,7 @@ export function poisson(rng: CellRng, mean: number): number {
     if (d > 0) {
       // Inversion of Poisson(δ); u < 1 − δ ≤ e^(−δ) settles the usual answer 0 without the exponential.
       const u = rng.uniform();
-      if (u >= 1 - d) {
-        let p = Math.exp(-d);
-        let c = p;
-        let j = 0;
-        while (u >= c && j < 40) {
-          j++;
-          p *= d / j;
-          c += p;
-        }
-        k += j;
-      }
+      if (u >= 1 - d) k += poissonRemainder(u, d);
     }
     return k;
   }

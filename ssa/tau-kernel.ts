@@ -1,10 +1,11 @@
 /**
  * Tau-leaping kernel specialised per circuit: the algorithm of ssa/tau.ts (Cao, Gillespie & Petzold
  * 2006 step selection, with the two bounds stated there) generated as straight-line code, the way
- * ssa/kernel.ts generates the direct method. Counts, propensities, the g_i of eq. 27 ff., μ̂_i, σ̂²_i
- * and the drift Jacobian's non-zero entries are local variables; Hill propensities and Hill
- * log-sensitivities are read from per-count tables; the Jacobian's one-molecule differences are
- * table reads too. Only array indices, integer literals and formatted numbers reach the source
+ * ssa/kernel.ts generates the direct method. Counts, propensities, the g_i of eq. 27 ff., μ̂_i, σ̂²_i,
+ * the drift Jacobian's non-zero entries and the Tyche-i state are local variables; Hill propensities
+ * and Hill log-sensitivities are read from per-count tables; the Jacobian's one-molecule
+ * differences are table reads too; the table branch of ssa/poisson.ts is inlined per reaction
+ * (means of 64 and more call `poisson` itself, with the stream handed over through `rs`). Only array indices, integer literals and formatted numbers reach the source
  * (formula laws come from the validated AST), never user text.
  *
  * It consumes the cell's stream exactly as `tauKernel` does (same draws in the same order) and
@@ -14,8 +15,8 @@
 import { formatNumber } from "./expr-ast";
 import { hillPropensity, hillTable, positivePart, propensitySource, type DirectKernel } from "./kernel";
 import { LawCode, hillActivation, type Model } from "./model-core";
-import { poisson } from "./poisson";
-import { CellRng } from "./rng";
+import { POISSON_QUANTA, POISSON_TABLE_MAX, POISSON_TABLES, poisson, poissonRemainder } from "./poisson";
+import { CellRng, TWO_POW_M32, TYCHEI_STEP_SOURCE } from "./rng";
 import { N_CRITICAL, SSA_FACTOR, SSA_STEPS, TAU_EPSILON, type TauOptions } from "./tau";
 
 const isHill = (m: Model, j: number): boolean => m.law[j] === LawCode.HillActivation || m.law[j] === LawCode.HillRepression;
@@ -37,6 +38,32 @@ function orderTerm(order: number, nu: number, xi: string): string {
   return String(order + nu);
 }
 
+/** The Tyche-i step of ssa/rng.ts as one comma expression (the new word in `ra`). */
+const TYCHEI_STEP_EXPR = TYCHEI_STEP_SOURCE.trim()
+  .replace(/;\s*$/, "")
+  .split(/;\s*/)
+  .join(", ");
+
+/**
+ * Source that sets `f${j}` to Poisson(a_j·τ) exactly as ssa/poisson.ts `poisson` does from the same
+ * stream: its table branch inline over the local stream, else a call with the stream handed over.
+ */
+function poissonSource(j: number, guard: string, uniform: string, saveRng: string, loadRng: string): string {
+  const mean = `m${j}`;
+  return [
+    `let f${j} = 0;`,
+    `if (${guard}) {`,
+    `  const ${mean} = a${j} * tau;`,
+    `  if (${mean} < ${POISSON_TABLE_MAX}) {`,
+    `    const q = Math.floor(${mean} * ${POISSON_QUANTA});`,
+    `    const dd = ${mean} - q / ${POISSON_QUANTA};`,
+    `    if (q > 0) { const u = ${uniform}; const s = PS[q]; let k = PG[s + Math.floor(u * PL[q])]; while (PC[s + k] <= u) k++; f${j} = k; }`,
+    `    if (dd > 0) { const u = ${uniform}; if (u >= 1 - dd) f${j} += PR(u, dd); }`,
+    `  } else { ${saveRng} f${j} = POIS(rng, ${mean}); ${loadRng} }`,
+    `}`,
+  ].join("\n      ");
+}
+
 /** Generated source of the tau-leaping kernel (exported for inspection and tests). */
 export function tauKernelSource(m: Model, epsilon: number = TAU_EPSILON): string {
   const nS = m.nSpecies;
@@ -55,7 +82,12 @@ export function tauKernelSource(m: Model, epsilon: number = TAU_EPSILON): string
   for (let p = 0; p < m.changeIdx.length; p++) if (m.changeDelta[p] < 0) canFall[m.changeIdx[p]] = 1;
 
   const sample = [`out[o] = x0;`, ...Array.from({ length: nS - 1 }, (_, k) => `out[o + s${k + 1}] = ${X(k + 1)};`)].join(" ");
-  const writeBack = Array.from({ length: nS }, (_, i) => `x[${i}] = ${X(i)};`).join(" ");
+  const saveRng = `rs[0] = ra; rs[1] = rb; rs[2] = rc; rs[3] = rd;`;
+  const loadRng = `ra = rs[0] | 0; rb = rs[1] | 0; rc = rs[2] | 0; rd = rs[3] | 0;`;
+  const writeBack = [...Array.from({ length: nS }, (_, i) => `x[${i}] = ${X(i)};`), saveRng].join(" ");
+  // One Tyche-i step, then CellRng's uniform on [0, 1) or uniformPositive on (0, 1].
+  const uniform = `(${TYCHEI_STEP_EXPR}, (ra >>> 0) * ${TWO_POW_M32})`;
+  const uniformPositive = `(${TYCHEI_STEP_EXPR}, 1 - (ra >>> 0) * ${TWO_POW_M32})`;
   const allPropensities = (indent: string) => {
     for (let j = 0; j < nR; j++) L.push(`${indent}a${j} = ${propensitySource(m, j)};`);
   };
@@ -67,6 +99,7 @@ export function tauKernelSource(m: Model, epsilon: number = TAU_EPSILON): string
     if (isHill(m, j)) L.push(`  const T${j} = T[${j}], TN${j} = T${j}.length, H${j} = H[${j}], G${j} = G[${j}], GF${j} = GF[${j}];`);
   }
   L.push(`  const rng = new R(rs);`);
+  L.push(`  let ra = rs[0] | 0, rb = rs[1] | 0, rc = rs[2] | 0, rd = rs[3] | 0;`);
   for (let i = 0; i < nS; i++) L.push(`  let ${X(i)} = x[${i}];`);
   for (let i = 1; i < nS; i++) L.push(`  const s${i} = ${i} * B;`);
   L.push(`  const tB = ${nS} * B;`);
@@ -162,17 +195,17 @@ export function tauKernelSource(m: Model, epsilon: number = TAU_EPSILON): string
 
   // Direct-method steps when a leap would be too short to pay (paper step 4).
   L.push(`    if (tauPrime < ${SSA_FACTOR} / asum) {`);
+  // The propensities are current on entry; after an event only its dependents are recomputed
+  // (the dependency graph of ssa/kernel.ts), which gives the same values as recomputing all.
   L.push(`      for (let step = 0; step < ${SSA_STEPS}; step++) {`);
-  L.push(`        if (step > 0) {`);
-  allPropensities("          ");
-  L.push(`          asum = ${sumA};`);
-  L.push(`        }`);
-  L.push(`        const tNext = asum > 0 ? t - Math.log(rng.uniformPositive()) / asum : Infinity;`);
+  L.push(`        if (step > 0) asum = ${sumA};`);
+  L.push(`        const tNext = asum > 0 ? t - Math.log(${uniformPositive}) / asum : Infinity;`);
   L.push(`        while (tg < tNext) { ${sample} o += tB; if (++g === nGrid) { ${writeBack} return events; } tg = grid[g]; }`);
-  L.push(`        let r = rng.uniform() * asum;`);
+  L.push(`        let r = ${uniform} * asum;`);
   for (let j = 0; j < nR; j++) {
     const cond = j < nR - 1 ? `(r -= a${j}) < 0` : `a${j} > 0`;
     const body = changes(j).map(([i, d]) => `${X(i)} += ${d};`);
+    for (let p = m.depPtr[j]; p < m.depPtr[j + 1]; p++) body.push(`a${m.depIdx[p]} = ${propensitySource(m, m.depIdx[p])};`);
     L.push(`        ${j === 0 ? "if" : "else if"} (${cond}) { ${body.join(" ")} }`);
   }
   L.push(`        t = tNext;`);
@@ -183,18 +216,18 @@ export function tauKernelSource(m: Model, epsilon: number = TAU_EPSILON): string
 
   // The leap, retried with τ' halved while it would drive a count negative (paper step 6).
   L.push(`    for (;;) {`);
-  L.push(`      const tauCrit = acrit > 0 ? -Math.log(rng.uniformPositive()) / acrit : Infinity;`);
+  L.push(`      const tauCrit = acrit > 0 ? -Math.log(${uniformPositive}) / acrit : Infinity;`);
   L.push(`      const toGrid = tg - t;`);
   L.push(`      let tau, fireCritical = false;`);
   L.push(`      if (toGrid <= tauPrime && toGrid <= tauCrit) tau = toGrid;`);
   L.push(`      else if (tauPrime < tauCrit) tau = tauPrime;`);
   L.push(`      else { tau = tauCrit; fireCritical = true; }`);
   for (let j = 0; j < nR; j++) {
-    L.push(`      let f${j} = ${criticalOf[j] ? `!c${j} && ` : ""}a${j} > 0 ? POIS(rng, a${j} * tau) : 0;`);
+    L.push(`      ${poissonSource(j, `${criticalOf[j] ? `!c${j} && ` : ""}a${j} > 0`, uniform, saveRng, loadRng)}`);
   }
   if (crit.length) {
     L.push(`      if (fireCritical) {`);
-    L.push(`        let r = rng.uniform() * acrit, jc = -1;`);
+    L.push(`        let r = ${uniform} * acrit, jc = -1;`);
     L.push(`        do { ${crit.map((j) => `if (c${j}) { jc = ${j}; if ((r -= a${j}) < 0) break; }`).join(" ")} } while (false);`);
     L.push(`        ${crit.map((j) => `if (jc === ${j}) f${j} += 1;`).join(" else ")}`);
     L.push(`      }`);
@@ -243,7 +276,7 @@ export function compileTauKernel(m: Model, opts: TauOptions = {}): DirectKernel 
   }
   const source = tauKernelSource(m, opts.epsilon ?? TAU_EPSILON);
   // Generated from the validated model only (indices and formatted numbers), see the file header.
-  const factory = new Function("T", "H", "G", "GF", "P", "R", "POIS", source) as (
+  const factory = new Function("T", "H", "G", "GF", "P", "R", "POIS", "PC", "PG", "PS", "PL", "PR", source) as (
     t: typeof T,
     h: typeof H,
     g: typeof G,
@@ -251,6 +284,12 @@ export function compileTauKernel(m: Model, opts: TauOptions = {}): DirectKernel 
     p: typeof positivePart,
     r: typeof CellRng,
     pois: typeof poisson,
+    pc: Float64Array,
+    pg: Int32Array,
+    ps: Int32Array,
+    pl: Int32Array,
+    pr: typeof poissonRemainder,
   ) => DirectKernel;
-  return factory(T, H, G, GF, positivePart, CellRng, poisson);
+  const t = POISSON_TABLES;
+  return factory(T, H, G, GF, positivePart, CellRng, poisson, t.cdf, t.guide, t.start, t.length, poissonRemainder);
 }

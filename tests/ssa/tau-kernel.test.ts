@@ -51,6 +51,22 @@ const dimer = (): Circuit =>
     ],
   });
 
+// A busy birth–death beside an 8-molecule switch: the switch's reactions are always critical
+// (fewer than n_c = 10 firings from exhausting a reactant), so leaps fire them one at a time.
+const switched = (): Circuit =>
+  parseCircuit({
+    format: "burstwise.circuit/1",
+    units: { time: "s", amount: "molecules" },
+    species: [{ id: "X", initial: 0 }, { id: "Y", initial: 8 }, { id: "Z", initial: 0 }],
+    parameters: { k: 2000, g: 1, s: 0.5 },
+    reactions: [
+      { id: "make", products: { X: 1 }, rate: { law: "mass_action", k: "k" } },
+      { id: "lose", reactants: { X: 1 }, rate: { law: "mass_action", k: "g" } },
+      { id: "on", reactants: { Y: 1 }, products: { Z: 1 }, rate: { law: "mass_action", k: "s" } },
+      { id: "off", reactants: { Z: 1 }, products: { Y: 1 }, rate: { law: "mass_action", k: "s" } },
+    ],
+  });
+
 function runKernel(m: Model, kernel: ReturnType<typeof tauKernel>, tEnd: number, seed: number) {
   const nT = 101;
   const grid = new Float64Array(nT + 1);
@@ -64,12 +80,17 @@ function runKernel(m: Model, kernel: ReturnType<typeof tauKernel>, tEnd: number,
 }
 
 describe("generated tau-leaping kernel", () => {
-  it("follows the generic kernel's path for the same stream (ring timer at 100 fL, Hill inputs; dimerisation, third order, formula)", () => {
-    for (const [c, tEnd] of [[ring(100), 200], [dimer(), 50]] as const) {
+  it("follows the generic kernel's path for the same stream (ring timer at 100 fL, Hill inputs; dimerisation, third order, formula; critical reactions)", () => {
+    for (const [c, tEnd, epsilon] of [
+      [ring(100), 200, 0.03],
+      [ring(100), 200, 0.1], // means of 64 and more: the inline table branch hands the stream to poisson()
+      [dimer(), 50, 0.03],
+      [switched(), 20, 0.03], // leaps that fire one critical reaction
+    ] as const) {
       const m = compileModel(c);
       for (const seed of [1, 2]) {
-        const a = runKernel(m, compileTauKernel(m), tEnd, seed);
-        const b = runKernel(m, tauKernel(m), tEnd, seed);
+        const a = runKernel(m, compileTauKernel(m, { epsilon }), tEnd, seed);
+        const b = runKernel(m, tauKernel(m, { epsilon }), tEnd, seed);
         expect(a.events).toBeGreaterThan(10_000);
         expect(a).toEqual(b);
       }
@@ -81,7 +102,7 @@ describe("generated tau-leaping kernel", () => {
     for (const word of ["dimerise", "trimer", "feed", "kd", "kb", "k0", '"M"', "sqrt(D"]) expect(src).not.toContain(word);
     const identifiers = new Set(src.match(/[A-Za-z_$][A-Za-z0-9_$]*/g));
     const allowed =
-      /^(x\d+|y\d+|a\d+|c\d+|f\d+|g\d+|mu\d+|sg\d+|J\d+_\d+|s\d+|T\d+|TN\d+|H\d+|G\d+|GF\d+|T|H|G|GF|P|R|POIS|rng|uniform|uniformPositive|x|rs|grid|nGrid|out|o|B|maxEvents|events|t|g|tg|tB|tau|tauPrime|tauCrit|toGrid|fireCritical|asum|acrit|bd|d|jn|row|r|jc|step|tNext|Math|log|sqrt|exp|pow|min|max|abs|Infinity|NaN|length|use|strict|return|function|tauKernel|new|let|const|for|while|do|break|continue|if|else|false|true|e\d*)$/;
+      /^(x\d+|y\d+|a\d+|c\d+|f\d+|g\d+|m\d+|mu\d+|sg\d+|J\d+_\d+|s\d+|T\d+|TN\d+|H\d+|G\d+|GF\d+|T|H|G|GF|P|R|POIS|PC|PG|PS|PL|PR|rng|ra|rb|rc|rd|u|s|k|q|dd|x|rs|grid|nGrid|out|o|B|maxEvents|events|t|g|tg|tB|tau|tauPrime|tauCrit|toGrid|fireCritical|asum|acrit|bd|d|jn|row|r|jc|step|tNext|Math|log|sqrt|exp|pow|min|max|abs|floor|Infinity|NaN|length|use|strict|return|function|tauKernel|new|let|const|for|while|do|break|continue|if|else|false|true|e\d*)$/;
     for (const id of identifiers) expect(id).toMatch(allowed);
   });
 
