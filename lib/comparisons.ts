@@ -22,6 +22,7 @@ import { analyze } from "@/ssa/analyze";
 import { bootstrapNoise, compareCv, type Interval } from "@/ssa/bootstrap";
 import { decodeCellStats, type CellStats } from "@/ssa/cell-stats";
 import { compileModel } from "@/ssa/model";
+import { TAU_EPSILON } from "@/ssa/types";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** Two-sided level of the difference test. */
@@ -179,6 +180,7 @@ export async function launchComparison(userId: string, rawId: string): Promise<s
     const settings: RunSettings = {
       t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}),
       ...(d.overrides && Object.keys(d.overrides).length ? { overrides: d.overrides } : {}), units: "molecules",
+      ...(s.method === "tau" ? { tau_epsilon: TAU_EPSILON } : {}),
     };
     return { designId: d.id, versionId: d.versionId, method: s.method, settings, seed: c.commonSeed ? c.seed : c.seed + d.position, chunksTotal };
   });

@@ -14,7 +14,7 @@ export interface RunJson {
   progress: number;
   error?: string;
   seed: number;
-  settings: { t_end: number; dt: number; runs: number; burn_in?: number; overrides?: Record<string, number>; units: "molecules" | "model" };
+  settings: { t_end: number; dt: number; runs: number; burn_in?: number; overrides?: Record<string, number>; units: "molecules" | "model"; tau_epsilon?: number };
   version_id: string;
   circuit_id: string;
   circuit_name: string;

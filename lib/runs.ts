@@ -7,6 +7,7 @@ import { idParam, notFound, tooMany } from "@/lib/http";
 import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
 import { checkOverrides } from "@/lib/schemas/circuit";
 import { RUN_LIMITS, type RunCreate, type RunSettings } from "@/lib/schemas/runs";
+import { TAU_EPSILON } from "@/ssa/types";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** A fresh seed for a run that names none (printed back, so the run can be repeated). */
@@ -31,6 +32,7 @@ export async function createRun(userId: string, body: RunCreate): Promise<{ id: 
     ...(body.burn_in !== undefined ? { burn_in: body.burn_in } : {}),
     ...(body.overrides && Object.keys(body.overrides).length ? { overrides: body.overrides } : {}),
     units: body.units ?? (kind === "trace" ? "model" : "molecules"),
+    ...(body.method === "tau" ? { tau_epsilon: body.tau_epsilon ?? TAU_EPSILON } : {}),
   };
   const seed = body.seed ?? drawSeed();
   const chunksTotal = Math.ceil(cells / RUN_LIMITS.chunkCells);

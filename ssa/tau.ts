@@ -4,7 +4,8 @@
  *
  * Per step: propensities a_j(x); critical reactions are those within n_c = 10 firings of exhausting
  * a reactant (eq. 29 ff.); τ' from the bounds on the expected change μ̂_i and variance σ̂²_i of each
- * species read by a propensity, max(ε·x_i/g_i, 1) with ε = 0.03 (eq. 33); when τ' < 10/a0 the method
+ * species read by a propensity, max(ε·x_i/g_i, 1) (eq. 33; ε defaults to TAU_EPSILON = 0.05, chosen by
+ * measurement, where the paper suggests 0.03; see ssa/types.ts); when τ' < 10/a0 the method
  * takes 100 direct-method steps instead; τ'' ~ Exp(Σ critical a_j) decides whether one critical
  * reaction fires; non-critical reactions fire Poisson(a_j·τ) times; a step that drives a count
  * negative is rejected and τ' halved. Leaps stop at grid times so that samples are exact leap states.
@@ -25,10 +26,9 @@ import type { DirectKernel } from "./kernel";
 import { LawCode, hillActivation, type Model } from "./model-core";
 import { poisson } from "./poisson";
 import { CellRng } from "./rng";
-export { MAX_TAU_EPSILON } from "./types";
+import { TAU_EPSILON } from "./types";
+export { MAX_TAU_EPSILON, TAU_EPSILON } from "./types";
 
-/** ε of Cao, Gillespie & Petzold 2006 (their recommended 0.03). */
-export const TAU_EPSILON = 0.03;
 /** Critical-reaction threshold n_c (paper: 10). */
 export const N_CRITICAL = 10;
 /** Take direct steps when τ' < SSA_FACTOR / a0 (paper: 10). */

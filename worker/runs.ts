@@ -34,6 +34,7 @@ export function ensembleOptions(run: RunRow): EnsembleOptions {
   return {
     method: run.method as "ssa" | "tau", tEnd: s.t_end, dt: s.dt, seed: run.seed,
     ...(s.burn_in !== undefined ? { burnIn: s.burn_in } : {}),
+    ...(s.tau_epsilon !== undefined ? { tauEpsilon: s.tau_epsilon } : {}),
     maxEventsPerCell: RUN_LIMITS.maxEventsPerCell,
   };
 }

@@ -32,7 +32,8 @@ export const RUN_FLAGS_HELP = `  --method ode|ssa|tau   simulation method (defau
   --set name=value       override a parameter (repeatable)
   --units molecules|model  output units (default molecules for ssa/tau, model for ode)
   --tau-epsilon E        tau-leaping step control: propensities may change by about E per leap
-                         (default 0.03; at most 0.2; ignored unless --method tau)
+                         (default 0.05; 0.03 is Cao, Gillespie & Petzold's value; at most 0.2;
+                         only with --method tau)
   --threads K            worker threads (default: all cores)
   --out FILE             write the JSON there instead of stdout`;
 

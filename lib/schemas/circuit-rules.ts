@@ -301,6 +301,7 @@ export const SimulateOptions = z
       .optional(),
   })
   .superRefine((o, ctx) => {
+    if (o.tauEpsilon !== undefined && o.method !== "tau") ctx.addIssue({ code: "custom", path: ["tauEpsilon"], message: 'applies only to method "tau"' });
     if (o.dt > o.tEnd) ctx.addIssue({ code: "custom", path: ["dt"], message: `must be <= tEnd (${o.tEnd})` });
     else if (o.tEnd / o.dt > SIMULATE_LIMITS.maxGridPoints) {
       ctx.addIssue({ code: "custom", path: ["dt"], message: `gives more than ${SIMULATE_LIMITS.maxGridPoints} grid points` });

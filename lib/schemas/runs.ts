@@ -1,6 +1,7 @@
 import { z } from "zod";
 
 import { IdField } from "@/lib/schemas/api";
+import { MAX_TAU_EPSILON } from "@/ssa/types";
 
 /** Limits of the API and worker; the CLI has its own, looser ones. */
 export const RUN_LIMITS = {
@@ -30,7 +31,10 @@ export const RunCreate = z.strictObject({
   burn_in: z.number({ error: "must be a number" }).nonnegative("must be >= 0").optional(),
   overrides: z.record(z.string(), z.number({ error: "must be a finite number" }).finite("must be a finite number")).optional(),
   units: z.enum(["molecules", "model"], { error: 'must be "molecules" or "model"' }).optional(),
+  /** Leap tolerance ε of tau-leaping (ssa/tau.ts); default 0.03. */
+  tau_epsilon: z.number({ error: "must be a number" }).positive("must be > 0").max(MAX_TAU_EPSILON, `must be at most ${MAX_TAU_EPSILON}`).optional(),
 }).superRefine((b, ctx) => {
+  if (b.tau_epsilon !== undefined && b.method !== "tau") ctx.addIssue({ code: "custom", path: ["tau_epsilon"], message: 'applies only to method "tau"' });
   if (b.dt > b.t_end) ctx.addIssue({ code: "custom", path: ["dt"], message: `must be <= t_end (${b.t_end})` });
   else if (Math.floor(b.t_end / b.dt) + 1 > RUN_LIMITS.maxGridPoints) {
     ctx.addIssue({ code: "custom", path: ["dt"], message: `gives more than ${RUN_LIMITS.maxGridPoints} grid points; use a larger dt` });
@@ -43,6 +47,8 @@ export type RunCreate = z.infer<typeof RunCreate>;
 /** What a run stores as its settings (snake_case, as the API shows them). */
 export interface RunSettings {
   t_end: number; dt: number; runs: number; burn_in?: number; overrides?: Record<string, number>; units: "molecules" | "model";
+  /** Tau-leaping runs store the ε they used, so that a rerun matches whatever the default becomes. */
+  tau_epsilon?: number;
 }
 
 export const RUN_STATUSES = ["queued", "running", "succeeded", "failed", "cancelled"] as const;

@@ -95,6 +95,7 @@ describe("cli simulate and trajectory", () => {
       [["simulate", ring, "--t-end", "10", "--dt", "20"], /^--dt: must be <= tEnd \(10\)\n$/],
       [["simulate", ring, "--t-end", "10", "--method", "tau", "--tau-epsilon", "0.5"], /^--tau-epsilon: must be at most 0.2\n$/],
       [["simulate", ring, "--t-end", "10", "--method", "tau", "--tau-epsilon", "0"], /^--tau-epsilon: must be > 0\n$/],
+      [["simulate", ring, "--t-end", "10", "--tau-epsilon", "0.05"], /^--tau-epsilon: applies only to method "tau"\n$/],
       [["simulate", ring, "--t-end", "10", "--colour", "red"], /^--colour: unknown option/],
       [["simulate", notJson, "--t-end", "10"], /broken\.json: not valid JSON/],
       [["simulate", join(dir, "absent.json"), "--t-end", "10"], /absent\.json: no such file\n$/],

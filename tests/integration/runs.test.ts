@@ -102,6 +102,39 @@ describe("ensembles through the API and the worker", () => {
     expect(JSON.stringify(pick(summary))).toBe(JSON.stringify(pick(cli.json)));
   });
 
+  it("a tau-leaping run stores its ε, equals `cli simulate --method tau --tau-epsilon` and replays a cell with it", async () => {
+    await worker();
+    const { id } = await launch({ method: "tau", runs: 60, seed: 31, tau_epsilon: 0.1 });
+    const run = await waitFor(id, finished);
+    expect(run.status).toBe("succeeded");
+    expect(run.settings.tau_epsilon).toBe(0.1);
+    const summary = (await modeler.request("GET", `/api/runs/${id}/summary`)).json;
+    expect(summary.tau_epsilon).toBe(0.1);
+    const args = ["examples/ring-timer.circuit.json", "--method", "tau", "--tau-epsilon", "0.1", "--seed", "31", "--t-end", "200", "--dt", "1"];
+    const cli = runCli(["simulate", ...args, "--runs", "60"]);
+    expect(cli.status, cli.stderr).toBe(0);
+    expect(JSON.stringify(pick(summary))).toBe(JSON.stringify(pick(cli.json)));
+    const cell = await modeler.request("GET", `/api/runs/${id}/cells/5`);
+    expect(cell.json.values).toEqual(runCli(["trajectory", ...args, "--index", "5"]).json.values);
+    // Without ε a tau run records the default, so a rerun matches even if the default changes.
+    const plain = await launch({ method: "tau", runs: 1, seed: 1, t_end: 10 });
+    expect((await modeler.request("GET", `/api/runs/${plain.id}`)).json.settings.tau_epsilon).toBe(0.05);
+  });
+
+  it("tau_epsilon outside (0, 0.2] or with another method is a 422 naming it, and nothing is stored", async () => {
+    const before = Number((await db("runs").count({ n: "*" }))[0]?.n);
+    for (const [body, message] of [
+      [{ method: "tau", tau_epsilon: 0.5 }, /^tau_epsilon: must be at most 0.2/],
+      [{ method: "tau", tau_epsilon: 0 }, /^tau_epsilon: must be > 0/],
+      [{ method: "ssa", tau_epsilon: 0.05 }, /^tau_epsilon: applies only to method "tau"/],
+    ] as const) {
+      const r = await modeler.request("POST", "/api/runs", { version_id: versionId, t_end: 10, dt: 1, runs: 2, ...body });
+      expect(r.status, r.text).toBe(422);
+      expect(r.json.error).toMatch(message);
+    }
+    expect(Number((await db("runs").count({ n: "*" }))[0]?.n)).toBe(before);
+  });
+
   it("a deterministic trace run stores the mean-field path", async () => {
     await worker();
     const { id } = await launch({ method: "ode" });

@@ -109,8 +109,9 @@ describe("generated tau-leaping kernel", () => {
   it("a larger ε takes fewer leaps and is reported in the summary; ε outside (0, 0.2] is refused", () => {
     const m = compileModel(ring(100));
     const o = { method: "tau" as const, tEnd: 100, dt: 1, seed: 3 };
-    const s03 = simulateEnsemble(m, o, 2);
+    const s03 = simulateEnsemble(m, { ...o, tauEpsilon: 0.03 }, 2);
     const s10 = simulateEnsemble(m, { ...o, tauEpsilon: 0.1 }, 2);
+    expect(simulateEnsemble(m, o, 1).tau_epsilon).toBe(0.05); // the default
     expect(s03.tau_epsilon).toBe(0.03);
     expect(s10.tau_epsilon).toBe(0.1);
     expect(s10.mean.A).not.toEqual(s03.mean.A);

@@ -153,6 +153,7 @@ function RunProvenance({ labId, run, contentHash, canLaunch, role, timeUnit, mod
           ...(run.kind === "ensemble" ? { runs: s.runs, seed: run.seed } : {}),
           ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}),
           ...(s.overrides ? { overrides: s.overrides } : {}),
+          ...(s.tau_epsilon !== undefined ? { tau_epsilon: s.tau_epsilon } : {}),
           units: s.units,
         },
       });
@@ -168,6 +169,7 @@ function RunProvenance({ labId, run, contentHash, canLaunch, role, timeUnit, mod
     ["Version", `${run.version_number}`],
     ["Content hash", <code key="h" title={contentHash ?? undefined} className="break-all text-xs">{contentHash ? contentHash.slice(0, 16) + "…" : "—"}</code>],
     ["Method", `${METHOD_LABEL[run.method]} (${run.method})`],
+    ...(s.tau_epsilon !== undefined ? ([["Leap tolerance ε", formatNumber(s.tau_epsilon)]] as [string, React.ReactNode][]) : []),
     ...(run.kind === "ensemble" ? ([["Seed", <span key="s" data-testid="run-seed">{run.seed}</span>], ["Cells", formatCount(s.runs)]] as [string, React.ReactNode][]) : []),
     ["End time", `${s.t_end} ${timeUnit}`],
     ["Sampling step", `${s.dt} ${timeUnit}`],

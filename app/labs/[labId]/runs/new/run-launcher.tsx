@@ -9,7 +9,7 @@ import { formatDuration, formatNumber, splitApiError } from "@/lib/run-view";
 import { describeIssue } from "@/lib/schemas/common";
 import { RUN_LIMITS, RunCreate } from "@/lib/schemas/runs";
 import { omegaFor } from "@/ssa/model-core";
-import type { Circuit } from "@/ssa/types";
+import { MAX_TAU_EPSILON, TAU_EPSILON, type Circuit } from "@/ssa/types";
 
 export interface RunLauncherProps {
   labId: string;
@@ -39,7 +39,7 @@ function newSeed(): number {
 }
 
 /** Fields of the form an API error can name; anything else is shown above the launch button. */
-const FORM_FIELDS = new Set(["method", "t_end", "dt", "runs", "seed", "burn_in", "units"]);
+const FORM_FIELDS = new Set(["method", "t_end", "dt", "runs", "seed", "burn_in", "units", "tau_epsilon"]);
 
 function NumberInput(props: {
   id: string; label: string; value: string; onChange: (v: string) => void; unit?: string; hint?: React.ReactNode;
@@ -81,6 +81,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
   const [burnIn, setBurnIn] = useState<string | null>(null); // null: follows t_end / 5
   const [overrides, setOverrides] = useState<OverrideRow[]>([]);
   const [units, setUnits] = useState<"molecules" | "model" | null>(null); // null: the method's default
+  const [tauEpsilon, setTauEpsilon] = useState(String(TAU_EPSILON));
   const [errors, setErrors] = useState<Record<string, string>>({});
   const [formError, setFormError] = useState<string | null>(null);
   const [busy, setBusy] = useState(false);
@@ -111,6 +112,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
     ...(isTrace ? {} : { runs: num(cells), seed: num(seed) }),
     ...(burnIn === null ? (autoBurnIn !== undefined ? { burn_in: autoBurnIn } : {}) : { burn_in: num(burnIn) }),
     ...(overrides.length ? { overrides: overrideValues } : {}),
+    ...(method === "tau" ? { tau_epsilon: num(tauEpsilon) } : {}),
     units: effectiveUnits,
   });
 
@@ -211,6 +213,10 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
           </NumberInput>
           <NumberInput id="burn_in" label="Burn-in" unit={timeUnit} value={burnInText} onChange={(v) => setBurnIn(v)} error={errors.burn_in}
             hint={<>Stationary statistics and periods use grid times ≥ burn-in. {burnIn === null ? "Default: t_end / 5." : <button type="button" className="text-ochre-dark underline" onClick={() => setBurnIn(null)}>Back to t_end / 5</button>}</>} />
+          {method === "tau" && (
+            <NumberInput id="tau_epsilon" label="Leap tolerance ε" value={tauEpsilon} onChange={setTauEpsilon} error={errors.tau_epsilon}
+              hint={`How much a propensity may change within one leap (Cao, Gillespie & Petzold 2006). Default ${TAU_EPSILON}; at most ${MAX_TAU_EPSILON}. Larger is faster and less exact.`} />
+          )}
           <fieldset className="flex flex-col gap-1">
             <legend className="text-sm font-medium">Output amounts</legend>
             {modelAmount === "molecules" ? (

@@ -16,6 +16,7 @@ export const GET = handle("GET /api/runs/:id/cells/:index", async (req, ctx: { p
   const cell = runTrajectory(await getRunCircuit(run.id), {
     method: run.method, tEnd: s.t_end, dt: s.dt, seed: run.seed, index, units: s.units, overrides: s.overrides,
     ...(s.burn_in !== undefined ? { burnIn: s.burn_in } : {}),
+    ...(s.tau_epsilon !== undefined ? { tauEpsilon: s.tau_epsilon } : {}),
   });
   return Response.json(cell);
 });
