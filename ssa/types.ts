@@ -92,8 +92,8 @@ export class ModelInputError extends RangeError {
 /**
  * Default leap tolerance ε of tau-leaping (ssa/tau.ts). Cao, Gillespie & Petzold 2006 suggest 0.03;
  * we chose 0.05 by measurement (ssa/README.md, "Benchmarks"): on the ring timer at 100 fL it keeps
- * every stationary CV within 1.4% of the direct method's while running well over 10× faster, where
- * 0.03 (CV within 0.8%) runs 8–13× faster. `--tau-epsilon 0.03` gives the paper's value.
+ * every stationary CV within 1.4% of the direct method's while running 11.6–17× faster, where
+ * 0.03 (CV within 0.8%) runs 8.2–11× faster. `--tau-epsilon 0.03` gives the paper's value.
  */
 export const TAU_EPSILON = 0.05;
 

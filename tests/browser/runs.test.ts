@@ -217,6 +217,28 @@ describe("errors, cancel and failure", () => {
     await shot(page, "runs-03-launcher-error");
   });
 
+  it("tau-leaping shows the leap tolerance ε: 0.5 is flagged at the field, 0.1 is launched and shown in the provenance", async () => {
+    await page.goto(`/labs/${labId}/runs/new?version=${versionId}`);
+    expect(await page.getByLabel(/^Leap tolerance/).count()).toBe(0); // only for tau
+    await page.getByLabel(/^Tau-leaping/).check();
+    const eps = page.getByLabel(/^Leap tolerance/);
+    expect(await eps.inputValue()).toBe("0.05");
+    await page.getByLabel(/^End time/).fill("20");
+    await page.getByLabel(/^Cells/).fill("10");
+    await eps.fill("0.5");
+    await page.getByRole("button", { name: "Launch ensemble" }).click();
+    await page.getByText("must be at most 0.2").waitFor();
+    expect(await eps.getAttribute("aria-invalid")).toBe("true");
+    await eps.fill("0.1");
+    await page.getByRole("button", { name: "Launch ensemble" }).click();
+    await page.waitForURL(/\/runs\/[0-9a-f-]{36}$/);
+    const id = page.url().split("/").pop()!;
+    expect((await modeler.request("GET", `/api/runs/${id}`)).json.settings.tau_epsilon).toBe(0.1);
+    const provenance = page.locator("dt", { hasText: "Leap tolerance ε" }).locator("xpath=following-sibling::dd[1]");
+    await provenance.waitFor();
+    expect(await provenance.innerText()).toBe("0.1");
+  });
+
   it("a long run shows live progress; the reviewer cannot cancel it and the modeler cancels it from the page", async () => {
     const r = await modeler.request("POST", "/api/runs", { version_id: versionId, method: "ssa", t_end: 2000, dt: 1, runs: 4000, seed: 5 });
     expect(r.status, r.text).toBe(202);
