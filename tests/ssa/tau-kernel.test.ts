@@ -2,6 +2,8 @@
  * The generated tau-leaping kernel against the generic one (same algorithm, same stream), the
  * table-based Poisson sampler against simple-statistics' Poisson probabilities, and the ε option.
  */
+import { readFileSync } from "node:fs";
+
 import { chiSquaredDistributionTable, poissonDistribution } from "simple-statistics";
 import { describe, expect, it } from "vitest";
 
@@ -15,22 +17,12 @@ import { tauKernel } from "@/ssa/tau";
 import { compileTauKernel, tauKernelSource } from "@/ssa/tau-kernel";
 import type { Circuit } from "@/ssa/types";
 
-const ring = (volumeFL: number): Circuit =>
-  parseCircuit({
-    format: "burstwise.circuit/1",
-    units: { time: "min", amount: "nM" },
-    volume_fL: volumeFL,
-    species: [{ id: "A", initial: 0 }, { id: "B", initial: 0 }, { id: "C", initial: 0 }],
-    parameters: { v: 40, K: 20, n: 4, g: 0.2 },
-    reactions: [
-      { id: "make_A", products: { A: 1 }, rate: { law: "hill_repression", input: "C", vmax: "v", K: "K", n: "n" } },
-      { id: "make_B", products: { B: 1 }, rate: { law: "hill_activation", input: "A", vmax: "v", K: "K", n: "n" } },
-      { id: "make_C", products: { C: 1 }, rate: { law: "hill_activation", input: "B", vmax: "v", K: "K", n: "n", basal: 0.5 } },
-      { id: "lose_A", reactants: { A: 1 }, rate: { law: "mass_action", k: "g" } },
-      { id: "lose_B", reactants: { B: 1 }, rate: { law: "mass_action", k: "g" } },
-      { id: "lose_C", reactants: { C: 1 }, rate: { law: "mass_action", k: "g" } },
-    ],
-  });
+// The shipped ring timer at another volume, with a basal rate on make_C so that tables carry it too.
+const ring = (volumeFL: number): Circuit => {
+  const c = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
+  c.reactions[2].rate.basal = 0.5;
+  return parseCircuit({ ...c, volume_fL: volumeFL });
+};
 
 // Second- and third-order mass action (g_i from the highest order, CGP 2006 eq. 27 ff.) and a formula.
 const dimer = (): Circuit =>
