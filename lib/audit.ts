@@ -14,6 +14,10 @@ export const AUDIT_ACTIONS = {
   "run.cancelled": "cancelled run",
   "run.deleted": "deleted run",
   "run.finished": "finished run",
+  "comparison.created": "created comparison",
+  "comparison.launched": "launched comparison",
+  "comparison.cancelled": "cancelled comparison",
+  "comparison.deleted": "deleted comparison",
   "dataset.uploaded": "uploaded dataset",
   "dataset.deleted": "deleted dataset",
   "invitation.sent": "invited",
@@ -28,7 +32,7 @@ export type AuditAction = keyof typeof AUDIT_ACTIONS;
 export const AUDIT_ACTION_NAMES = Object.keys(AUDIT_ACTIONS) as AuditAction[];
 
 /** The kinds of thing an event is about (the prefix of its action). */
-export const AUDIT_SUBJECTS = ["circuit", "run", "dataset", "invitation", "member", "lab"] as const;
+export const AUDIT_SUBJECTS = ["circuit", "run", "comparison", "dataset", "invitation", "member", "lab"] as const;
 
 export interface AuditEventJson {
   id: string; action: AuditAction; actor: string | null; target_type: string; target_id: string | null;
@@ -75,6 +79,8 @@ export function describeAuditEvent(e: Pick<AuditEventJson, "action" | "actor" | 
   else if (e.action === "run.finished") extra = `: ${String(d.status)}${d.error ? ` (${String(d.error)})` : ""}`;
   else if (e.action === "invitation.sent" || e.action === "member.added") extra = ` as ${String(d.role)}`;
   else if (e.action === "circuit.version_saved") extra = ` as version ${String(d.number)}`;
+  else if (e.action === "comparison.launched") extra = ` (${String(d.runs)} design runs)`;
+  else if (e.action === "comparison.cancelled" && Number(d.runs_cancelled) > 0) extra = ` and ${String(d.runs_cancelled)} of its runs`;
   else if (e.action === "invitation.accepted") return `${who} accepted the invitation and joined as ${String(d.role)}${d.account_created ? " (new account)" : ""}`;
   else if (e.action === "lab.renamed") return `${who} renamed the lab from "${String(d.from)}" to "${String(d.to)}"`;
   return `${who} ${verb} ${name}${extra}`.replace(/\s+/g, " ").trim();

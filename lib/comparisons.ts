@@ -213,12 +213,25 @@ export async function recordDesignLaunches(actor: { id: string; email: string },
 }
 
 /** Cancels a running comparison and its unfinished runs. @throws 409 when it is not running. */
-export async function cancelComparison(userId: string, rawId: string): Promise<ComparisonRow> {
+export async function cancelComparison(userId: string, rawId: string): Promise<{ comparison: ComparisonRow; runsCancelled: number }> {
   const c = await requireComparison(userId, rawId, "run:cancel");
   if (c.status !== "running") throw conflict(`status: the comparison is ${c.status}`);
-  await cancelDesignRuns(c.id);
+  const runsCancelled = await cancelDesignRuns(c.id);
   await endComparison(c.id, "cancelled", "cancelled by a member of the lab");
-  return (await getComparison(c.id)) ?? c;
+  return { comparison: (await getComparison(c.id)) ?? c, runsCancelled };
+}
+
+/** One comparison.* event in the lab's audit trail, naming the comparison. */
+export async function recordComparisonEvent(
+  actor: { id: string; email: string },
+  comparisonId: string,
+  action: "comparison.created" | "comparison.launched" | "comparison.cancelled" | "comparison.deleted",
+  details: Record<string, unknown>,
+  row?: ComparisonRow,
+): Promise<void> {
+  const c = row ?? (await getComparison(comparisonId));
+  if (!c) return;
+  await recordAudit({ labId: c.labId, actor, action, target: { type: "comparison", id: c.id }, details: { name: c.name, kind: c.kind, ...details } });
 }
 
 /**

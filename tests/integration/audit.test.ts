@@ -69,6 +69,22 @@ beforeAll(async () => {
     expect((await owner.client.request("DELETE", `/api/runs/${queued.json.id}`)).status).toBe(204);
     expected.push({ action: "run.deleted", targetId: queued.json.id, actor: owner.email });
 
+    // A comparison of the two versions: created as a draft, launched (two design runs; no worker
+    // is running), cancelled with its runs, deleted by the owner.
+    const cmp = await modeler.client.request("POST", "/api/comparisons", {
+      lab_id: owner.labId, name: "Audit pair", designs: [{ version_id: c.json.version_id }, { version_id: v2.json.version_id }], settings: { t_end: 20, dt: 1, runs: 10 },
+    });
+    expect(cmp.status, cmp.text).toBe(201);
+    expected.push({ action: "comparison.created", targetId: cmp.json.id, actor: modeler.email });
+    const launched = await modeler.client.request("POST", `/api/comparisons/${cmp.json.id}/launch`);
+    expect(launched.status, launched.text).toBe(202);
+    expected.push({ action: "comparison.launched", targetId: cmp.json.id, actor: modeler.email });
+    for (const id of launched.json.runs as string[]) expected.push({ action: "run.launched", targetId: id, actor: modeler.email });
+    expect((await modeler.client.request("POST", `/api/comparisons/${cmp.json.id}/cancel`)).status).toBe(200);
+    expected.push({ action: "comparison.cancelled", targetId: cmp.json.id, actor: modeler.email });
+    expect((await owner.client.request("DELETE", `/api/comparisons/${cmp.json.id}`)).status).toBe(204);
+    expected.push({ action: "comparison.deleted", targetId: cmp.json.id, actor: owner.email });
+
     const f = new FormData();
     for (const [k, v] of Object.entries({ lab_id: owner.labId, kind: "snapshot", name: "Audit plate", amount_unit: "molecules" })) f.set(k, v);
     f.set("file", new Blob(["P\n10\n20\n"], { type: "text/csv" }), "plate.csv");
@@ -112,9 +128,12 @@ describe("the audit trail", () => {
     expect(seen).toEqual(expected.map((e) => `${e.action} ${e.targetId} ${e.actor}`).sort());
     const kinds = new Set(all.map((e) => e.action));
     for (const a of ["circuit.created", "circuit.version_saved", "circuit.deleted", "run.launched", "run.cancelled", "run.deleted", "run.finished",
+      "comparison.created", "comparison.launched", "comparison.cancelled", "comparison.deleted",
       "dataset.uploaded", "dataset.deleted", "invitation.sent", "invitation.accepted", "invitation.revoked", "member.role_changed", "member.removed"]) {
       expect(kinds.has(a), a).toBe(true);
     }
+    expect(all.find((e) => e.action === "comparison.cancelled")!.details).toEqual({ name: "Audit pair", kind: "designs", runs_cancelled: 2 });
+    expect(all.find((e) => e.action === "comparison.launched")!.details).toMatchObject({ name: "Audit pair", runs: 2 });
     const role = all.find((e) => e.action === "member.role_changed")!;
     expect(role.details).toEqual({ email: modeler.email, from: "reviewer", to: "modeler" });
     expect(all.find((e) => e.action === "run.finished")!.details).toMatchObject({ status: "succeeded", circuit: "Two-stage reporter", version_number: 2 });
@@ -123,7 +142,9 @@ describe("the audit trail", () => {
   it("filters by action (one, or every action on a subject), by actor, and by dates", async () => {
     const runs = await events(owner.client, "?action=run");
     expect(new Set(runs.events.map((e) => e.action))).toEqual(new Set(["run.launched", "run.finished", "run.cancelled", "run.deleted"]));
-    expect((await events(owner.client, "?action=run.launched")).total).toBe(2);
+    expect((await events(owner.client, "?action=run.launched")).total).toBe(expected.filter((e) => e.action === "run.launched").length); // 2 runs + 2 design runs
+    const comparisons = await events(owner.client, "?action=comparison");
+    expect(comparisons.events.map((e) => e.action).reverse()).toEqual(["comparison.created", "comparison.launched", "comparison.cancelled", "comparison.deleted"]);
     const byModeler = await events(owner.client, `?actor=${encodeURIComponent(modeler.email.toUpperCase())}`);
     expect(byModeler.total).toBe(expected.filter((e) => e.actor === modeler.email).length);
     expect((await events(owner.client, "?actor=worker")).events.map((e) => e.action)).toEqual(["run.finished"]);

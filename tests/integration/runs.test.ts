@@ -91,14 +91,15 @@ describe("ensembles through the API and the worker", () => {
 
   it("two workers at once share one run and give the same numbers", async () => {
     const [a, b] = [await worker({ WORKER_CONCURRENCY: "1" }), await worker({ WORKER_CONCURRENCY: "1" })];
-    const { id } = await launch({ runs: 300, seed: 7, t_end: 500 });
+    // 20 chunks of about 0.1 s: more than a poll interval (0.5 s) of work, so both workers get some.
+    const { id } = await launch({ runs: 1000, seed: 7, t_end: 500 });
     const run = await waitFor(id, finished);
     expect(run.status).toBe("succeeded");
     const by = await db("run_chunks").where({ run_id: id }).select("worker");
     expect(new Set(by.map((r) => r.worker)).size).toBe(2);
     expect(a.output.join("") + b.output.join("")).not.toMatch(/Error/);
     const summary = (await modeler.request("GET", `/api/runs/${id}/summary`)).json;
-    const cli = runCli(["simulate", "examples/ring-timer.circuit.json", "--runs", "300", "--seed", "7", "--t-end", "500", "--dt", "1"]);
+    const cli = runCli(["simulate", "examples/ring-timer.circuit.json", "--runs", "1000", "--seed", "7", "--t-end", "500", "--dt", "1"]);
     expect(JSON.stringify(pick(summary))).toBe(JSON.stringify(pick(cli.json)));
   });
 

@@ -1,5 +1,5 @@
 import { requireUser } from "@/lib/auth/session";
-import { loadComparisonJson, requireComparison } from "@/lib/comparisons";
+import { loadComparisonJson, recordComparisonEvent, requireComparison } from "@/lib/comparisons";
 import { cancelDesignRuns, deleteComparison } from "@/lib/data/comparisons";
 import { handle } from "@/lib/http";
 
@@ -17,7 +17,8 @@ export const DELETE = handle("DELETE /api/comparisons/:id", async (req, ctx: Ctx
   const user = await requireUser(req);
   const c = await requireComparison(user.id, (await ctx.params).id, "delete");
   // Its unfinished design runs would otherwise go on as loose runs: stop them first.
-  if (c.status === "running") await cancelDesignRuns(c.id);
+  const runsCancelled = c.status === "running" ? await cancelDesignRuns(c.id) : 0;
   await deleteComparison(c.id);
+  await recordComparisonEvent(user, c.id, "comparison.deleted", { status: c.status, runs_cancelled: runsCancelled }, c);
   return new Response(null, { status: 204 });
 });

@@ -1,5 +1,5 @@
 import { requireUser } from "@/lib/auth/session";
-import { launchComparison, recordDesignLaunches } from "@/lib/comparisons";
+import { launchComparison, recordComparisonEvent, recordDesignLaunches } from "@/lib/comparisons";
 import { handle } from "@/lib/http";
 
 /** Launches one ensemble per design (a draft, or again after a failure or cancel). */
@@ -7,6 +7,7 @@ export const POST = handle("POST /api/comparisons/:id/launch", async (req, ctx: 
   const user = await requireUser(req);
   const { id } = await ctx.params;
   const runs = await launchComparison(user.id, id);
+  await recordComparisonEvent(user, id, "comparison.launched", { runs: runs.length });
   await recordDesignLaunches(user, id, runs);
   return Response.json({ id, runs }, { status: 202 });
 });
