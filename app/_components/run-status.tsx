@@ -1,20 +1,10 @@
 import { METHOD_LABEL, type RunJson, type RunStatus } from "@/lib/run-view";
 
-const STATUS_STYLE: Record<RunStatus, string> = {
-  queued: "bg-ink/5 text-ink-soft border-ink/20",
-  running: "bg-ochre-light text-ochre-dark border-ochre/40",
-  succeeded: "bg-moss-light text-moss border-moss/30",
-  failed: "bg-red-50 text-red-800 border-red-300",
-  cancelled: "bg-ink/5 text-ink-soft border-ink/20 line-through decoration-ink/40",
-};
+import { StatusBadge } from "@/app/_components/status-badge";
 
 /** A run's status as a small labelled badge. */
 export function RunStatusBadge({ status }: { status: RunStatus }) {
-  return (
-    <span data-testid="run-status" className={`inline-flex items-center rounded-full border px-2 py-0.5 text-xs font-medium ${STATUS_STYLE[status]}`}>
-      {status}
-    </span>
-  );
+  return <StatusBadge status={status} testId="run-status" />;
 }
 
 /** A thin progress bar (0..1) with an accessible name and value. */

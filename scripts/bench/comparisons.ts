@@ -8,11 +8,7 @@ import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { performance } from "node:perf_hooks";
 
-import {
-  dropDatabase, ensureBuild, ensureDatabase, ensureLocalCluster, localUrl, migrate, psql, seedDemo, startChild, stopChild, stopLocalCluster,
-} from "../lib/bootstrap.mjs";
-
-import { benchClient, median, signInDemoModeler } from "./client";
+import { benchClient, median, startBenchStack } from "./client";
 
 const PORT = Number(process.env.BENCH_PORT ?? 3410);
 const base = `http://127.0.0.1:${PORT}`;
@@ -28,20 +24,8 @@ const sleep = (ms: number) => new Promise((r) => setTimeout(r, ms));
 const STATS = ["mean", "sd", "quantiles", "final", "stationary", "period"];
 
 async function main() {
-  const startedPg = ensureLocalCluster();
-  const dbName = "burstwise_bench_cmp";
-  dropDatabase(dbName);
-  ensureDatabase(dbName);
-  const databaseUrl = localUrl(dbName);
-  migrate(databaseUrl);
-  seedDemo(databaseUrl);
-  ensureBuild();
-  const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: "bench", NEXTAUTH_URL: base, NODE_ENV: "production" };
-  const web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(PORT)], env);
-  const worker = startChild("worker", process.execPath, ["--import", "tsx", "worker/index.ts"], { ...env, WORKER_CONCURRENCY: "2" });
-  const q = (sql: string) => psql(sql, dbName);
+  const { lab, q, stop } = await startBenchStack("burstwise_bench_cmp", PORT, call);
   try {
-    const lab = { id: await signInDemoModeler(base, call) };
     // The seeded demo comparison runs first: it warms the worker's threads, and the timed sweep starts on an idle queue.
     const d0 = performance.now();
     while (Number(q("select count(*) from runs where status in ('queued','running')")) > 0) await sleep(250);
@@ -101,10 +85,7 @@ async function main() {
       rounds,
     }, null, 2));
   } finally {
-    await stopChild(worker);
-    await stopChild(web);
-    dropDatabase(dbName);
-    if (startedPg) stopLocalCluster();
+    await stop();
   }
 }
 

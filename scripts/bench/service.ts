@@ -5,11 +5,7 @@ import { spawnSync } from "node:child_process";
 import { readFileSync } from "node:fs";
 import { performance } from "node:perf_hooks";
 
-import {
-  dropDatabase, ensureBuild, ensureDatabase, ensureLocalCluster, localUrl, migrate, psql, seedDemo, startChild, stopChild, stopLocalCluster,
-} from "../lib/bootstrap.mjs";
-
-import { benchClient, median, signInDemoModeler } from "./client";
+import { benchClient, median, startBenchStack } from "./client";
 
 const PORT = Number(process.env.BENCH_PORT ?? 3400);
 const base = `http://127.0.0.1:${PORT}`;
@@ -22,19 +18,8 @@ const SEED = 20261201;
 
 
 async function main() {
-  const startedPg = ensureLocalCluster();
-  const dbName = "burstwise_bench";
-  dropDatabase(dbName);
-  ensureDatabase(dbName);
-  const databaseUrl = localUrl(dbName);
-  migrate(databaseUrl);
-  seedDemo(databaseUrl);
-  ensureBuild();
-  const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: "bench", NEXTAUTH_URL: base, NODE_ENV: "production" };
-  const web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(PORT)], env);
-  const worker = startChild("worker", process.execPath, ["--import", "tsx", "worker/index.ts"], { ...env, WORKER_CONCURRENCY: "2" });
+  const { lab, q, stop } = await startBenchStack("burstwise_bench", PORT, call);
   try {
-    const lab = { id: await signInDemoModeler(base, call) };
     const circuit = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
     const c = await call("POST", "/api/circuits", { lab_id: lab.id, circuit: { ...circuit, name: "Bench ring timer" } });
     // Warm the worker's thread pool and compiled kernel with a small run first (as a live worker would be).
@@ -68,7 +53,6 @@ async function main() {
     const keys = ["mean", "sd", "quantiles", "final", "stationary", "period"];
     const identical = keys.every((k) => JSON.stringify(api[k]) === JSON.stringify(cliJson[k]));
 
-    const q = (sql: string) => psql(sql, dbName);
     const id = run.json.id;
     const out = {
       cells: CELLS, t_end: T_END, dt: DT, grid_points: Math.floor(T_END / DT) + 1, species: 3,
@@ -87,10 +71,7 @@ async function main() {
     };
     console.log(JSON.stringify(out, null, 2));
   } finally {
-    await stopChild(worker);
-    await stopChild(web);
-    dropDatabase(dbName);
-    if (startedPg) stopLocalCluster();
+    await stop();
   }
 }
 
