@@ -7,6 +7,7 @@
  */
 import { z } from "zod";
 
+import { describeIssue as describeAnyIssue, formatPath } from "@/lib/schemas/common";
 import type { ExprScope, ParseResult } from "@/ssa/expr";
 import { CIRCUIT_FORMAT, MAX_TAU_EPSILON, type Circuit } from "@/ssa/types";
 
@@ -32,12 +33,10 @@ export class CircuitError extends Error {
 type PathKey = PropertyKey;
 
 /** Formats a path the CONTRACT.md way: `reactions[3].rate.K`. */
-export const formatPath = (path: readonly PathKey[]): string =>
-  path.map((k, n) => (typeof k === "number" ? `[${k}]` : (n ? "." : "") + String(k))).join("");
+export { formatPath };
 
-/** One zod issue as `<field>: <reason>` (the field is `(root)` for the whole document). */
-export const describeIssue = (i: { path: readonly PathKey[]; message: string }): string =>
-  `${i.path.length ? formatPath(i.path) : "(root)"}: ${i.message}`;
+/** One zod issue of a circuit file as `<field>: <reason>` (the field is `(root)` for the whole document). */
+export const describeIssue = (i: { path: readonly PathKey[]; message: string }): string => describeAnyIssue(i, "(root)");
 
 const IDENTIFIER = /^[A-Za-z_][A-Za-z0-9_]*$/;
 const MAX_SPECIES = 2000;
