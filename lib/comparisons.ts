@@ -4,17 +4,17 @@ import type {
 } from "@/lib/comparison-view";
 import { MODEL_CAVEAT, comparisonProgress } from "@/lib/comparison-view";
 import {
-  cancelDesignRuns, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunNoise, insertComparison, insertDesignRuns,
-  listDesigns, listSettledRunningComparisons, storeComparisonResults, getComparisonResults,
+  cancelComparisonRuns, cancelDesignRuns, deleteComparison, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunNoise,
+  insertComparison, insertDesignRuns, listDesigns, listSettledRunningComparisons, storeComparisonResults, getComparisonResults,
   type ComparisonRow, type DesignRow, type NewDesign,
 } from "@/lib/data/comparisons";
 import { getVersion, type VersionRow } from "@/lib/data/circuits";
-import { recordAudit } from "@/lib/data/audit";
+import type { AuditEventInput } from "@/lib/data/audit";
 import { countActiveRuns, failRun, getRun, getRunSummaryParts } from "@/lib/data/runs";
 import { requireVersion } from "@/lib/data/version-access";
 import { conflict, idParam, notFound, tooMany, unprocessable } from "@/lib/http";
 import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
-import { drawSeed } from "@/lib/runs";
+import { drawSeed, launchedEvent } from "@/lib/runs";
 import { checkOverrides, CircuitError } from "@/lib/schemas/circuit";
 import { COMPARISON_LIMITS, axisValues, sweepDesigns, type ComparisonCreate, type Sweep } from "@/lib/schemas/comparisons";
 import { RUN_LIMITS, type RunSettings } from "@/lib/schemas/runs";
@@ -104,7 +104,7 @@ const labelOf = (v: VersionRow, overrides: Record<string, number>) => {
  * launches it when asked. Every design's overrides are checked against its circuit.
  * @throws 404/403 (lab, role), 422 naming the field (versions, parameters, bounds), 429 (queue).
  */
-export async function createComparison(userId: string, body: ComparisonCreate): Promise<{ id: string; designs: number; runs: string[] | null }> {
+export async function createComparison(userId: string, body: ComparisonCreate, actor?: Actor): Promise<{ id: string; designs: number; runs: string[] | null }> {
   await requireLabRole(userId, body.lab_id, "comparison:write");
   const designs: NewDesign[] = [];
   if (body.designs) {
@@ -151,13 +151,14 @@ export async function createComparison(userId: string, body: ComparisonCreate): 
     if (n > 1) d.label = `${d.label} (${n})`;
   }
   const s = body.settings;
+  const kind = body.designs ? "designs" : "sweep";
   const id = await insertComparison({
-    labId: body.lab_id, name: body.name, description: body.description ?? null, kind: body.designs ? "designs" : "sweep",
+    labId: body.lab_id, name: body.name, description: body.description ?? null, kind,
     sweep: body.sweep ?? null,
     settings: { method: s.method, t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}) },
     seed: s.seed ?? drawSeed(), commonSeed: s.common_seed, createdBy: userId,
-  }, designs);
-  const runs = body.launch ? await launchComparison(userId, id) : null;
+  }, designs, actor ? (cid) => comparisonEvent(actor, { id: cid, labId: body.lab_id, name: body.name, kind }, "comparison.created", { designs: designs.length, launched: body.launch }) : undefined);
+  const runs = body.launch ? await launchComparison(userId, id, actor) : null;
   return { id, designs: designs.length, runs };
 }
 
@@ -166,7 +167,7 @@ export async function createComparison(userId: string, body: ComparisonCreate): 
  * common random numbers, else S + position. The comparison counts once toward the lab's queue limit.
  * @throws 404/403, 409 when it is running or finished, 429 when the lab's queue is full.
  */
-export async function launchComparison(userId: string, rawId: string): Promise<string[]> {
+export async function launchComparison(userId: string, rawId: string, actor?: Actor): Promise<string[]> {
   const c = await requireComparison(userId, rawId, "run:launch");
   if (!["draft", "failed", "cancelled"].includes(c.status)) throw conflict(`status: the comparison is ${c.status}; only a draft, failed or cancelled one can be launched`);
   const designs = await listDesigns(c.id);
@@ -184,7 +185,15 @@ export async function launchComparison(userId: string, rawId: string): Promise<s
     };
     return { designId: d.id, versionId: d.versionId, method: s.method, settings, seed: c.commonSeed ? c.seed : c.seed + d.position, chunksTotal };
   });
-  const ids = await insertDesignRuns(c.id, c.labId, userId, ENGINE_VERSION, inserts);
+  // The design runs, comparison.launched and one run.launched per design run commit together.
+  const ids = await insertDesignRuns(c.id, c.labId, userId, ENGINE_VERSION, inserts, actor ? async (runIds, trx) => {
+    if (!runIds) return null;
+    const rows = await Promise.all(runIds.map((id) => getRun(id, trx)));
+    return [
+      comparisonEvent(actor, c, "comparison.launched", { runs: runIds.length }),
+      ...rows.map((row) => launchedEvent(actor, row!, { comparison_id: c.id, comparison: c.name })),
+    ];
+  } : undefined);
   if (!ids) throw conflict("status: the comparison was launched meanwhile");
   const jobs = ids.flatMap((runId) => Array.from({ length: chunksTotal }, (_, chunkIndex) => ({
     data: { runId, chunkIndex } satisfies RunChunkJob, singletonKey: `${runId}:${chunkIndex}`,
@@ -199,39 +208,27 @@ export async function launchComparison(userId: string, rawId: string): Promise<s
   return ids;
 }
 
-/** One `run.launched` event per design run in the lab's audit trail, naming the comparison. */
-export async function recordDesignLaunches(actor: { id: string; email: string }, comparisonId: string, runIds: string[]): Promise<void> {
-  const c = await getComparison(comparisonId);
-  for (const id of runIds) {
-    const row = await getRun(id);
-    if (!row || !c) continue;
-    await recordAudit({
-      labId: row.labId, actor, action: "run.launched", target: { type: "run", id },
-      details: { circuit: row.circuitName, version_number: row.versionNumber, version_id: row.versionId, method: row.method, runs: row.settings.runs, seed: row.seed, comparison_id: c.id, comparison: c.name },
-    });
-  }
-}
-
 /** Cancels a running comparison and its unfinished runs. @throws 409 when it is not running. */
-export async function cancelComparison(userId: string, rawId: string): Promise<{ comparison: ComparisonRow; runsCancelled: number }> {
-  const c = await requireComparison(userId, rawId, "run:cancel");
+export async function cancelComparison(actor: Actor, rawId: string): Promise<ComparisonRow> {
+  const c = await requireComparison(actor.id, rawId, "run:cancel");
   if (c.status !== "running") throw conflict(`status: the comparison is ${c.status}`);
-  const runsCancelled = await cancelDesignRuns(c.id);
-  await endComparison(c.id, "cancelled", "cancelled by a member of the lab");
-  return { comparison: (await getComparison(c.id)) ?? c, runsCancelled };
+  const cancelled = await cancelComparisonRuns(c.id, "cancelled by a member of the lab", (n) => n === null ? null : comparisonEvent(actor, c, "comparison.cancelled", { runs_cancelled: n }));
+  if (cancelled === null) throw conflict("status: the comparison ended meanwhile");
+  return (await getComparison(c.id)) ?? c;
 }
 
-/** One comparison.* event in the lab's audit trail, naming the comparison. */
-export async function recordComparisonEvent(
-  actor: { id: string; email: string },
-  comparisonId: string,
-  action: "comparison.created" | "comparison.launched" | "comparison.cancelled" | "comparison.deleted",
-  details: Record<string, unknown>,
-  row?: ComparisonRow,
-): Promise<void> {
-  const c = row ?? (await getComparison(comparisonId));
-  if (!c) return;
-  await recordAudit({ labId: c.labId, actor, action, target: { type: "comparison", id: c.id }, details: { name: c.name, kind: c.kind, ...details } });
+/** Deletes a comparison (owner), cancelling its unfinished design runs; its finished runs stay in the lab's runs. */
+export async function removeComparison(actor: Actor, rawId: string): Promise<void> {
+  const c = await requireComparison(actor.id, rawId, "delete");
+  await deleteComparison(c.id, (n) => comparisonEvent(actor, c, "comparison.deleted", { status: c.status, runs_cancelled: n }));
+}
+
+type Actor = { id: string; email: string };
+type ComparisonAction = "comparison.created" | "comparison.launched" | "comparison.cancelled" | "comparison.deleted";
+
+/** A comparison.* event naming the comparison (its name and kind, plus `details`). */
+export function comparisonEvent(actor: Actor, c: Pick<ComparisonRow, "id" | "labId" | "name" | "kind">, action: ComparisonAction, details: Record<string, unknown> = {}): AuditEventInput {
+  return { labId: c.labId, actor, action, target: { type: "comparison", id: c.id }, details: { name: c.name, kind: c.kind, ...details } };
 }
 
 /**

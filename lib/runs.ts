@@ -1,6 +1,7 @@
 import { randomInt } from "node:crypto";
 
 import { requireLabRole, type Action } from "@/lib/access";
+import type { AuditEventInput } from "@/lib/data/audit";
 import { countActiveRuns, failRun, getRun, insertRun, type RunRow } from "@/lib/data/runs";
 import { requireVersion } from "@/lib/data/version-access";
 import { idParam, notFound, tooMany } from "@/lib/http";
@@ -18,7 +19,7 @@ export const drawSeed = (): number => randomInt(1, 2 ** 31);
  * the run, and sends one job per chunk of cells.
  * @throws 404/403 (version, role), 422 (overrides), 429 (too many runs waiting).
  */
-export async function createRun(userId: string, body: RunCreate): Promise<{ id: string; seed: number }> {
+export async function createRun(userId: string, body: RunCreate, actor?: { id: string; email: string }): Promise<{ id: string; seed: number }> {
   const version = await requireVersion(userId, body.version_id, "lab:read");
   await requireLabRole(userId, version.labId, "run:launch", "version");
   checkOverrides(version.circuit, body.overrides);
@@ -36,10 +37,11 @@ export async function createRun(userId: string, body: RunCreate): Promise<{ id: 
   };
   const seed = body.seed ?? drawSeed();
   const chunksTotal = Math.ceil(cells / RUN_LIMITS.chunkCells);
+  // The run and its run.launched event commit together; the jobs follow (a failure to queue fails the run).
   const id = await insertRun({
     labId: version.labId, versionId: version.id, kind, method: body.method, settings, seed, chunksTotal,
     engineVersion: ENGINE_VERSION, createdBy: userId,
-  });
+  }, actor ? async (runId, trx) => launchedEvent(actor, (await getRun(runId, trx))!) : undefined);
   const jobs = Array.from({ length: chunksTotal }, (_, chunkIndex) => ({
     data: { runId: id, chunkIndex } satisfies RunChunkJob,
     singletonKey: `${id}:${chunkIndex}`,
@@ -52,6 +54,14 @@ export async function createRun(userId: string, body: RunCreate): Promise<{ id: 
     throw e;
   }
   return { id, seed };
+}
+
+/** The `run.launched` event of a run, by `actor` (details name the circuit, version, method, cells and seed). */
+export function launchedEvent(actor: { id: string; email: string }, row: RunRow, extra: Record<string, unknown> = {}): AuditEventInput {
+  return {
+    labId: row.labId, actor, action: "run.launched", target: { type: "run", id: row.id },
+    details: { circuit: row.circuitName, version_number: row.versionNumber, version_id: row.versionId, method: row.method, runs: row.settings.runs, seed: row.seed, ...extra },
+  };
 }
 
 /** A run as the API shows it (CONTRACT.md §3 `GET /api/runs/:id`). */

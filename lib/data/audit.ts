@@ -27,6 +27,25 @@ export async function recordAudit(e: AuditEventInput, q: Knex | Knex.Transaction
   return rows.length > 0;
 }
 
+/** What a change records once it knows its result (inside its transaction); null records nothing. */
+export type AuditFor<R> = (
+  result: R,
+  trx: Knex.Transaction,
+) => AuditEventInput | AuditEventInput[] | null | Promise<AuditEventInput | AuditEventInput[] | null>;
+
+/**
+ * Runs `change` and records the events `audit` derives from its result in one transaction, so
+ * the trail never misses a change nor names one that was rolled back.
+ */
+export async function audited<R>(change: (trx: Knex.Transaction) => Promise<R>, audit?: AuditFor<R>): Promise<R> {
+  return db.transaction(async (trx) => {
+    const result = await change(trx);
+    const events = audit ? await audit(result, trx) : null;
+    for (const e of events === null ? [] : Array.isArray(events) ? events : [events]) await recordAudit(e, trx);
+    return result;
+  });
+}
+
 /** The lab's audit trail, newest first, filtered as GET /api/labs/:id/audit describes. */
 export async function listAuditEvents(labId: string, f: AuditQuery): Promise<{ events: AuditEventJson[]; total: number }> {
   const base = db("audit_events").where({ labId });

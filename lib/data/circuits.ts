@@ -1,6 +1,7 @@
 import { createHash } from "node:crypto";
 
 import { db } from "@/db/client";
+import { audited, type AuditFor } from "@/lib/data/audit";
 import { conflict, notFound } from "@/lib/http";
 import type { Circuit } from "@/ssa/types";
 
@@ -31,15 +32,17 @@ const isUnique = (e: unknown) => (e as { code?: string }).code === "23505";
  * Stores a new circuit and its version 1 in one transaction.
  * @throws 409 when the lab already has a circuit of that name.
  */
-export async function createCircuit(labId: string, userId: string, circuit: Circuit, sourceFormat = "circuit"): Promise<{ id: string; versionId: string }> {
+export async function createCircuit(
+  labId: string, userId: string, circuit: Circuit, sourceFormat = "circuit", audit?: AuditFor<{ id: string; versionId: string }>,
+): Promise<{ id: string; versionId: string }> {
   try {
-    return await db.transaction(async (trx) => {
+    return await audited(async (trx) => {
       const [c] = await trx("circuits").insert({ labId, name: circuit.name, createdBy: userId }).returning(["id"]);
       const [v] = await trx("circuit_versions").insert({
         circuitId: c.id, number: 1, circuit: canonicalJson(circuit), contentHash: contentHash(circuit), sourceFormat, createdBy: userId,
       }).returning(["id"]);
       return { id: String(c.id), versionId: String(v.id) };
-    });
+    }, audit);
   } catch (e) {
     if (isUnique(e)) throw conflict(`circuit.name: the lab already has a circuit named "${circuit.name}"`);
     throw e;
@@ -50,9 +53,12 @@ export async function createCircuit(labId: string, userId: string, circuit: Circ
  * Saves an edit as the next version; an edit identical to an existing version returns that
  * version instead (`created: false`).
  */
-export async function addVersion(circuitId: string, userId: string, circuit: Circuit, message?: string, sourceFormat = "circuit"): Promise<{ versionId: string; number: number; created: boolean }> {
+export async function addVersion(
+  circuitId: string, userId: string, circuit: Circuit, message?: string, sourceFormat = "circuit",
+  audit?: AuditFor<{ versionId: string; number: number; created: boolean }>,
+): Promise<{ versionId: string; number: number; created: boolean }> {
   const hash = contentHash(circuit);
-  return db.transaction(async (trx) => {
+  return audited(async (trx) => {
     // Lock the circuit row so concurrent saves get consecutive numbers.
     const c = await trx("circuits").where({ id: circuitId }).forUpdate().first("id", "name");
     if (!c) throw notFound("circuit");
@@ -74,7 +80,7 @@ export async function addVersion(circuitId: string, userId: string, circuit: Cir
       await trx("circuits").where({ id: circuitId }).update({ updatedAt: trx.fn.now() });
     }
     return { versionId: String(v.id), number, created: true };
-  });
+  }, audit);
 }
 
 /** The lab's circuits, newest change first, optionally filtered by a name fragment. */
@@ -121,6 +127,8 @@ export async function getVersion(id: string): Promise<VersionRow | null> {
   return row ? { ...row, id: String(row.id), circuitId: String(row.circuitId), labId: String(row.labId) } : null;
 }
 
-export async function deleteCircuit(id: string): Promise<void> {
-  await db("circuits").where({ id }).delete();
+export async function deleteCircuit(id: string, audit?: AuditFor<void>): Promise<void> {
+  await audited(async (trx) => {
+    await trx("circuits").where({ id }).delete();
+  }, audit);
 }

@@ -3,6 +3,7 @@ import { gunzipSync } from "node:zlib";
 import type { Knex } from "knex";
 
 import { db } from "@/db/client";
+import { audited, type AuditFor } from "@/lib/data/audit";
 import type { RunSettings } from "@/lib/schemas/runs";
 
 export type ComparisonStatus = "draft" | "running" | "succeeded" | "failed" | "cancelled";
@@ -90,8 +91,8 @@ export interface NewDesign { position: number; label: string; versionId: string;
 export async function insertComparison(row: {
   labId: string; name: string; description: string | null; kind: "designs" | "sweep"; sweep: unknown;
   settings: ComparisonStoredSettings; seed: number; commonSeed: boolean; createdBy: string;
-}, designs: NewDesign[]): Promise<string> {
-  return db.transaction(async (trx) => {
+}, designs: NewDesign[], audit?: AuditFor<string>): Promise<string> {
+  return audited(async (trx) => {
     const [c] = await trx("comparisons").insert({
       ...row, sweep: row.sweep == null ? null : JSON.stringify(row.sweep), settings: JSON.stringify(row.settings),
     }).returning(["id"]);
@@ -101,7 +102,7 @@ export async function insertComparison(row: {
       overrides: JSON.stringify(d.overrides), sweepValues: d.sweepValues ? JSON.stringify(d.sweepValues) : null,
     })));
     return id;
-  });
+  }, audit);
 }
 
 export interface DesignRunInsert {
@@ -113,8 +114,10 @@ export interface DesignRunInsert {
  * stores one queued run per design and points each design at its run. Returns the run ids in
  * design order, or null when the comparison was not in a launchable state (someone else won).
  */
-export async function insertDesignRuns(comparisonId: string, labId: string, createdBy: string, engineVersion: string, runs: DesignRunInsert[]): Promise<string[] | null> {
-  return db.transaction(async (trx) => {
+export async function insertDesignRuns(
+  comparisonId: string, labId: string, createdBy: string, engineVersion: string, runs: DesignRunInsert[], audit?: AuditFor<string[] | null>,
+): Promise<string[] | null> {
+  return audited(async (trx) => {
     const claimed = await trx("comparisons").where({ id: comparisonId }).whereIn("status", ["draft", "failed", "cancelled"])
       .update({ status: "running", error: null, results: null, launchedAt: trx.fn.now(), finishedAt: null }).returning(["id"]);
     if (claimed.length === 0) return null;
@@ -128,7 +131,7 @@ export async function insertDesignRuns(comparisonId: string, labId: string, crea
       await trx("comparison_designs").where({ id: r.designId }).update({ runId: run.id });
     }
     return ids;
-  });
+  }, audit);
 }
 
 /** Stores the noise table and marks the comparison succeeded; false when it was not running (already done). */
@@ -139,13 +142,29 @@ export async function storeComparisonResults(id: string, results: unknown): Prom
 }
 
 /** Ends a running comparison as failed or cancelled with a reason; false when it was not running. */
-export async function endComparison(id: string, status: "failed" | "cancelled", error: string): Promise<boolean> {
-  const n = await db("comparisons").where({ id, status: "running" }).update({ status, error: error.slice(0, 2000), finishedAt: db.fn.now() });
+export async function endComparison(id: string, status: "failed" | "cancelled", error: string, q: Knex | Knex.Transaction = db): Promise<boolean> {
+  const n = await q("comparisons").where({ id, status: "running" }).update({ status, error: error.slice(0, 2000), finishedAt: q.fn.now() });
   return n > 0;
 }
 
-export async function deleteComparison(id: string): Promise<void> {
-  await db("comparisons").where({ id }).delete();
+/**
+ * Cancels a running comparison and its unfinished design runs in one transaction; returns how
+ * many runs it cancelled, or null when the comparison was not running.
+ */
+export async function cancelComparisonRuns(id: string, error: string, audit?: AuditFor<number | null>): Promise<number | null> {
+  return audited(async (trx) => {
+    if (!(await endComparison(id, "cancelled", error, trx))) return null;
+    return cancelDesignRuns(id, trx);
+  }, audit);
+}
+
+/** Deletes a comparison after cancelling its unfinished design runs (which would otherwise go on as loose runs); returns how many it cancelled. */
+export async function deleteComparison(id: string, audit?: AuditFor<number>): Promise<number> {
+  return audited(async (trx) => {
+    const cancelled = await cancelDesignRuns(id, trx);
+    await trx("comparisons").where({ id }).delete();
+    return cancelled;
+  }, audit);
 }
 
 /** The comparison a run belongs to as a design (its latest run), or null. */
@@ -181,8 +200,8 @@ export async function getRunNoise<T>(runId: string): Promise<T | null> {
 }
 
 /** Cancels a comparison's unfinished runs; returns how many were cancelled. */
-export async function cancelDesignRuns(comparisonId: string): Promise<number> {
-  const ids = db("comparison_designs").where({ comparisonId }).whereNotNull("runId").select("runId");
-  return db("runs").whereIn("id", ids).whereIn("status", ["queued", "running"])
-    .update({ status: "cancelled", cancelRequestedAt: db.fn.now(), finishedAt: db.fn.now() });
+export async function cancelDesignRuns(comparisonId: string, q: Knex | Knex.Transaction = db): Promise<number> {
+  const ids = q("comparison_designs").where({ comparisonId }).whereNotNull("runId").select("runId");
+  return q("runs").whereIn("id", ids).whereIn("status", ["queued", "running"])
+    .update({ status: "cancelled", cancelRequestedAt: q.fn.now(), finishedAt: q.fn.now() });
 }

@@ -3,6 +3,7 @@ import { gunzipSync, gzipSync } from "node:zlib";
 import type { Knex } from "knex";
 
 import { db } from "@/db/client";
+import { audited, type AuditFor } from "@/lib/data/audit";
 import type { RunSettings } from "@/lib/schemas/runs";
 import type { Circuit } from "@/ssa/types";
 
@@ -66,16 +67,20 @@ export async function countActiveRuns(labId: string): Promise<number> {
 export async function insertRun(row: {
   labId: string; versionId: string; kind: "trace" | "ensemble"; method: string; settings: RunSettings; seed: number;
   chunksTotal: number; engineVersion: string; createdBy: string;
-}): Promise<string> {
-  const [r] = await db("runs").insert({ ...row, settings: JSON.stringify(row.settings) }).returning(["id"]);
-  return String(r.id);
+}, audit?: AuditFor<string>): Promise<string> {
+  return audited(async (trx) => {
+    const [r] = await trx("runs").insert({ ...row, settings: JSON.stringify(row.settings) }).returning(["id"]);
+    return String(r.id);
+  }, audit);
 }
 
-/** Marks a queued or running run cancelled; false when it had already finished. */
-export async function cancelRun(id: string): Promise<boolean> {
-  const n = await db("runs").where({ id }).whereIn("status", ["queued", "running"])
-    .update({ status: "cancelled", cancelRequestedAt: db.fn.now(), finishedAt: db.fn.now() });
-  return n > 0;
+/** Marks a queued or running run cancelled; false when it had already finished (`audit` sees which). */
+export async function cancelRun(id: string, audit?: AuditFor<boolean>): Promise<boolean> {
+  return audited(async (trx) => {
+    const n = await trx("runs").where({ id }).whereIn("status", ["queued", "running"])
+      .update({ status: "cancelled", cancelRequestedAt: trx.fn.now(), finishedAt: trx.fn.now() });
+    return n > 0;
+  }, audit);
 }
 
 /** Marks an unfinished run failed with a reason the user can read. */
@@ -83,8 +88,10 @@ export async function failRun(id: string, error: string): Promise<void> {
   await db("runs").where({ id }).whereIn("status", ["queued", "running"]).update({ status: "failed", error: error.slice(0, 2000), finishedAt: db.fn.now() });
 }
 
-export async function deleteRun(id: string): Promise<void> {
-  await db("runs").where({ id }).delete();
+export async function deleteRun(id: string, audit?: AuditFor<void>): Promise<void> {
+  await audited(async (trx) => {
+    await trx("runs").where({ id }).delete();
+  }, audit);
 }
 
 /** The circuit a run ran (its version's stored JSON). */

@@ -173,3 +173,53 @@ describe("the audit trail", () => {
     await expect(db("audit_events").where({ lab_id: owner.labId }).update({ action: "lab.renamed" })).rejects.toThrow(/append-only/);
   });
 });
+
+describe("a change and its audit event commit together", () => {
+  // A trigger that refuses any event mentioning "unauditable" stands in for a failure between the
+  // change and its event (a crash, a full disk): the change must be rolled back with the event.
+  beforeAll(async () => {
+    await db.raw(`create function test_refuse_unauditable() returns trigger language plpgsql as $$
+      begin if new.details::text ilike '%unauditable%' then raise exception 'audit refused (test)'; end if; return new; end $$`);
+  });
+  afterAll(async () => {
+    await db.raw("drop trigger if exists test_refuse_unauditable on audit_events");
+    await db.raw("drop function if exists test_refuse_unauditable()");
+  });
+
+  it("a circuit, a run, a comparison, a launch, a rename and a role change whose events cannot be stored leave nothing behind", async () => {
+    const c = await modeler.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: { ...twoStage, name: "Unauditable reporter" } });
+    expect(c.status, c.text).toBe(201);
+    const draft = await modeler.client.request("POST", "/api/comparisons", {
+      lab_id: owner.labId, name: "Audit draft", designs: [{ version_id: c.json.version_id }, { version_id: c.json.version_id, overrides: { km: 3 } }], settings: { t_end: 10, dt: 1, runs: 10 },
+    });
+    expect(draft.status, draft.text).toBe(201);
+    await db.raw("create trigger test_refuse_unauditable before insert on audit_events for each row execute function test_refuse_unauditable()");
+    const count = async (table: string) => Number((await db(table).where({ lab_id: owner.labId }).count({ n: "*" }))[0]?.n);
+    const before = { circuits: await count("circuits"), runs: await count("runs"), comparisons: await count("comparisons"), events: await count("audit_events") };
+
+    const circuit = await modeler.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: { ...twoStage, name: "Unauditable copy" } });
+    expect(circuit.status).toBe(500);
+    const run = await modeler.client.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 10, dt: 1, runs: 10 });
+    expect(run.status).toBe(500);
+    const cmp = await modeler.client.request("POST", "/api/comparisons", {
+      lab_id: owner.labId, name: "Unauditable pair", designs: [{ version_id: c.json.version_id }, { version_id: c.json.version_id }], settings: { t_end: 10, dt: 1, runs: 10 }, launch: true,
+    });
+    expect(cmp.status).toBe(500);
+    // Launching the draft: its design runs name the circuit, so their run.launched events are refused.
+    expect((await modeler.client.request("POST", `/api/comparisons/${draft.json.id}/launch`)).status).toBe(500);
+    const rename = await owner.client.request("PATCH", `/api/labs/${owner.labId}`, { name: "Unauditable lab" });
+    expect(rename.status).toBe(500);
+    const who = await db("users").where({ email: modeler.email }).first("id");
+    await db.raw("update users set email = ? where id = ?", [`unauditable-${modeler.email}`, who.id]);
+    try {
+      expect((await owner.client.request("PATCH", `/api/labs/${owner.labId}/members/${modeler.userId}`, { role: "reviewer" })).status).toBe(500);
+    } finally {
+      await db.raw("update users set email = ? where id = ?", [modeler.email, who.id]);
+    }
+
+    expect({ circuits: await count("circuits"), runs: await count("runs"), comparisons: await count("comparisons"), events: await count("audit_events") }).toEqual(before);
+    expect((await db("labs").where({ id: owner.labId }).first("name")).name).toBe("Audited lab");
+    expect((await db("comparisons").where({ id: draft.json.id }).first("status")).status).toBe("draft");
+    expect((await db("memberships").where({ lab_id: owner.labId, user_id: modeler.userId }).first("role")).role).toBe("modeler");
+  });
+});

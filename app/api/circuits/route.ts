@@ -1,7 +1,6 @@
 import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
 import { circuitFromBody } from "@/lib/circuit-input";
-import { recordAudit } from "@/lib/data/audit";
 import { createCircuit, listCircuits } from "@/lib/data/circuits";
 import { handle, readJson } from "@/lib/http";
 import { CircuitCreate, ListQuery } from "@/lib/schemas/api";
@@ -24,7 +23,8 @@ export const POST = handle("POST /api/circuits", async (req) => {
   const body = CircuitCreate.parse(await readJson(req, 6 * 1024 * 1024));
   await requireLabRole(user.id, body.lab_id, "circuit:write");
   const { circuit, sourceFormat, warnings } = await circuitFromBody(body);
-  const { id, versionId } = await createCircuit(body.lab_id, user.id, circuit, sourceFormat);
-  await recordAudit({ labId: body.lab_id, actor: user, action: "circuit.created", target: { type: "circuit", id }, details: { name: circuit.name, version_id: versionId, source: sourceFormat } });
+  const { id, versionId } = await createCircuit(body.lab_id, user.id, circuit, sourceFormat, (r) => ({
+    labId: body.lab_id, actor: user, action: "circuit.created", target: { type: "circuit", id: r.id }, details: { name: circuit.name, version_id: r.versionId, source: sourceFormat },
+  }));
   return Response.json({ id, version_id: versionId, ...(warnings.length ? { warnings } : {}) }, { status: 201 });
 });

@@ -1,6 +1,6 @@
 import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
-import { createComparison, recordComparisonEvent, recordDesignLaunches } from "@/lib/comparisons";
+import { createComparison } from "@/lib/comparisons";
 import { listComparisons } from "@/lib/data/comparisons";
 import { handle, readJson } from "@/lib/http";
 import { ComparisonCreate, ComparisonListQuery } from "@/lib/schemas/comparisons";
@@ -9,12 +9,7 @@ import { ComparisonCreate, ComparisonListQuery } from "@/lib/schemas/comparisons
 export const POST = handle("POST /api/comparisons", async (req) => {
   const user = await requireUser(req);
   const body = ComparisonCreate.parse(await readJson(req, 256 * 1024));
-  const created = await createComparison(user.id, body);
-  await recordComparisonEvent(user, created.id, "comparison.created", { designs: created.designs, launched: created.runs !== null });
-  if (created.runs) {
-    await recordComparisonEvent(user, created.id, "comparison.launched", { runs: created.runs.length });
-    await recordDesignLaunches(user, created.id, created.runs);
-  }
+  const created = await createComparison(user.id, body, user);
   return Response.json(created, { status: 201 });
 });
 

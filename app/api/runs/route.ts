@@ -1,7 +1,6 @@
 import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
-import { recordAudit } from "@/lib/data/audit";
-import { getRun, listRuns } from "@/lib/data/runs";
+import { listRuns } from "@/lib/data/runs";
 import { handle, readJson } from "@/lib/http";
 import { createRun, runToJson } from "@/lib/runs";
 import { RunCreate, RunListQuery } from "@/lib/schemas/runs";
@@ -9,14 +8,7 @@ import { RunCreate, RunListQuery } from "@/lib/schemas/runs";
 export const POST = handle("POST /api/runs", async (req) => {
   const user = await requireUser(req);
   const body = RunCreate.parse(await readJson(req, 256 * 1024));
-  const run = await createRun(user.id, body);
-  const row = await getRun(run.id);
-  if (row) {
-    await recordAudit({
-      labId: row.labId, actor: user, action: "run.launched", target: { type: "run", id: run.id },
-      details: { circuit: row.circuitName, version_number: row.versionNumber, version_id: row.versionId, method: row.method, runs: row.settings.runs, seed: run.seed },
-    });
-  }
+  const run = await createRun(user.id, body, user);
   return Response.json(run, { status: 202 });
 });
 

@@ -1,6 +1,5 @@
 import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
-import { recordAudit } from "@/lib/data/audit";
 import { deleteCircuit, getCircuit, listVersions } from "@/lib/data/circuits";
 import { handle, idParam, notFound } from "@/lib/http";
 
@@ -23,7 +22,6 @@ export const DELETE = handle("DELETE /api/circuits/:id", async (req, ctx: Ctx) =
   const circuit = await getCircuit(idParam((await ctx.params).id, "circuit"));
   if (!circuit) throw notFound("circuit");
   await requireLabRole(user.id, circuit.labId, "delete", "circuit");
-  await deleteCircuit(circuit.id);
-  await recordAudit({ labId: circuit.labId, actor: user, action: "circuit.deleted", target: { type: "circuit", id: circuit.id }, details: { name: circuit.name } });
+  await deleteCircuit(circuit.id, () => ({ labId: circuit.labId, actor: user, action: "circuit.deleted", target: { type: "circuit", id: circuit.id }, details: { name: circuit.name } }));
   return new Response(null, { status: 204 });
 });

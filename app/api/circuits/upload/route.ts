@@ -4,7 +4,6 @@ import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
 import { circuitFromBody } from "@/lib/circuit-input";
 import { createCircuit } from "@/lib/data/circuits";
-import { recordAudit } from "@/lib/data/audit";
 import { DatasetFileError, decodeTextFile } from "@/lib/datasets";
 import { handle, HttpError, unprocessable } from "@/lib/http";
 import { IdField } from "@/lib/schemas/api";
@@ -51,10 +50,9 @@ export const POST = handle("POST /api/circuits/upload", async (req) => {
     if (e instanceof HttpError && e.status === 422) throw unprocessable(`file: ${e.message}`);
     throw e;
   }
-  const { id, versionId } = await createCircuit(lab_id, user.id, parsed.circuit, parsed.sourceFormat);
-  await recordAudit({
-    labId: lab_id, actor: { id: user.id, email: user.email }, action: "circuit.created", target: { type: "circuit", id },
-    details: { name: parsed.circuit.name, version_id: versionId, source: parsed.sourceFormat, file_name: file.name },
-  });
+  const { id, versionId } = await createCircuit(lab_id, user.id, parsed.circuit, parsed.sourceFormat, (r) => ({
+    labId: lab_id, actor: { id: user.id, email: user.email }, action: "circuit.created", target: { type: "circuit", id: r.id },
+    details: { name: parsed.circuit.name, version_id: r.versionId, source: parsed.sourceFormat, file_name: file.name },
+  }));
   return Response.json({ id, version_id: versionId, name: parsed.circuit.name, source_format: parsed.sourceFormat, ...(parsed.warnings.length ? { warnings: parsed.warnings } : {}) }, { status: 201 });
 });

@@ -1,6 +1,5 @@
 import { requireUser } from "@/lib/auth/session";
-import { loadComparisonJson, recordComparisonEvent, requireComparison } from "@/lib/comparisons";
-import { cancelDesignRuns, deleteComparison } from "@/lib/data/comparisons";
+import { loadComparisonJson, removeComparison, requireComparison } from "@/lib/comparisons";
 import { handle } from "@/lib/http";
 
 type Ctx = { params: Promise<{ id: string }> };
@@ -15,10 +14,6 @@ export const GET = handle("GET /api/comparisons/:id", async (req, ctx: Ctx) => {
 /** Deletes the comparison (owner); its finished runs stay in the lab's runs. */
 export const DELETE = handle("DELETE /api/comparisons/:id", async (req, ctx: Ctx) => {
   const user = await requireUser(req);
-  const c = await requireComparison(user.id, (await ctx.params).id, "delete");
-  // Its unfinished design runs would otherwise go on as loose runs: stop them first.
-  const runsCancelled = c.status === "running" ? await cancelDesignRuns(c.id) : 0;
-  await deleteComparison(c.id);
-  await recordComparisonEvent(user, c.id, "comparison.deleted", { status: c.status, runs_cancelled: runsCancelled }, c);
+  await removeComparison(user, (await ctx.params).id);
   return new Response(null, { status: 204 });
 });

@@ -1,6 +1,5 @@
 import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
-import { recordAudit } from "@/lib/data/audit";
 import { getLab, renameLab } from "@/lib/data/labs";
 import { handle, idParam, notFound, readJson } from "@/lib/http";
 import { LabRename } from "@/lib/schemas/auth";
@@ -21,8 +20,6 @@ export const PATCH = handle("PATCH /api/labs/:id", async (req, ctx: Ctx) => {
   const labId = idParam((await ctx.params).labId, "lab");
   await requireLabRole(user.id, labId, "lab:manage");
   const { name } = LabRename.parse(await readJson(req));
-  const before = await getLab(labId);
-  await renameLab(labId, name);
-  if (before && before.name !== name) await recordAudit({ labId, actor: user, action: "lab.renamed", target: { type: "lab", id: labId }, details: { from: before.name, to: name } });
+  await renameLab(labId, name, (r) => r && r.from !== name ? { labId, actor: user, action: "lab.renamed", target: { type: "lab", id: labId }, details: { from: r.from, to: name } } : null);
   return Response.json({ id: labId, name });
 });

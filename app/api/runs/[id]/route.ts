@@ -1,5 +1,4 @@
 import { requireUser } from "@/lib/auth/session";
-import { recordAudit } from "@/lib/data/audit";
 import { deleteRun } from "@/lib/data/runs";
 import { handle } from "@/lib/http";
 import { requireRun, runToJson } from "@/lib/runs";
@@ -14,7 +13,6 @@ export const GET = handle("GET /api/runs/:id", async (req, ctx: Ctx) => {
 export const DELETE = handle("DELETE /api/runs/:id", async (req, ctx: Ctx) => {
   const user = await requireUser(req);
   const run = await requireRun(user.id, (await ctx.params).id, "delete");
-  await deleteRun(run.id);
-  await recordAudit({ labId: run.labId, actor: user, action: "run.deleted", target: { type: "run", id: run.id }, details: { circuit: run.circuitName, version_number: run.versionNumber, status: run.status } });
+  await deleteRun(run.id, () => ({ labId: run.labId, actor: user, action: "run.deleted", target: { type: "run", id: run.id }, details: { circuit: run.circuitName, version_number: run.versionNumber, status: run.status } }));
   return new Response(null, { status: 204 });
 });

@@ -1,13 +1,11 @@
 import { requireUser } from "@/lib/auth/session";
-import { launchComparison, recordComparisonEvent, recordDesignLaunches } from "@/lib/comparisons";
+import { launchComparison } from "@/lib/comparisons";
 import { handle } from "@/lib/http";
 
 /** Launches one ensemble per design (a draft, or again after a failure or cancel). */
 export const POST = handle("POST /api/comparisons/:id/launch", async (req, ctx: { params: Promise<{ id: string }> }) => {
   const user = await requireUser(req);
   const { id } = await ctx.params;
-  const runs = await launchComparison(user.id, id);
-  await recordComparisonEvent(user, id, "comparison.launched", { runs: runs.length });
-  await recordDesignLaunches(user, id, runs);
+  const runs = await launchComparison(user.id, id, user);
   return Response.json({ id, runs }, { status: 202 });
 });

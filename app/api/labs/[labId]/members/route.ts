@@ -1,6 +1,5 @@
 import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
-import { recordAudit } from "@/lib/data/audit";
 import { addMember, listMembers } from "@/lib/data/labs";
 import { handle, idParam, readJson } from "@/lib/http";
 import { MemberAdd } from "@/lib/schemas/auth";
@@ -21,7 +20,6 @@ export const POST = handle("POST /api/labs/:id/members", async (req, ctx: Ctx) =
   const labId = idParam((await ctx.params).labId, "lab");
   await requireLabRole(user.id, labId, "lab:manage");
   const { email, role } = MemberAdd.parse(await readJson(req));
-  const member = await addMember(labId, email, role);
-  await recordAudit({ labId, actor: user, action: "member.added", target: { type: "user", id: member.userId }, details: { email: member.email, role } });
+  const member = await addMember(labId, email, role, (m) => ({ labId, actor: user, action: "member.added", target: { type: "user", id: m.userId }, details: { email: m.email, role } }));
   return Response.json(toJson(member), { status: 201 });
 });

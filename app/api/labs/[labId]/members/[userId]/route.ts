@@ -1,7 +1,6 @@
 import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
-import { recordAudit } from "@/lib/data/audit";
-import { listMembers, setMemberRole } from "@/lib/data/labs";
+import { setMemberRole } from "@/lib/data/labs";
 import { handle, idParam, readJson } from "@/lib/http";
 import { MemberRole } from "@/lib/schemas/auth";
 
@@ -17,11 +16,9 @@ export const PATCH = handle("PATCH /api/labs/:id/members/:userId", async (req, c
   const { labId, userId } = await target(ctx);
   await requireLabRole(user.id, labId, "lab:manage");
   const { role } = MemberRole.parse(await readJson(req));
-  const before = (await listMembers(labId)).find((m) => m.userId === userId);
-  await setMemberRole(labId, userId, role);
-  if (before && before.role !== role) {
-    await recordAudit({ labId, actor: user, action: "member.role_changed", target: { type: "user", id: userId }, details: { email: before.email, from: before.role, to: role } });
-  }
+  await setMemberRole(labId, userId, role, (before) => before.from !== role
+    ? { labId, actor: user, action: "member.role_changed", target: { type: "user", id: userId }, details: { email: before.email, from: before.from, to: role } }
+    : null);
   return Response.json({ user_id: userId, role });
 });
 
@@ -29,8 +26,8 @@ export const DELETE = handle("DELETE /api/labs/:id/members/:userId", async (req,
   const user = await requireUser(req);
   const { labId, userId } = await target(ctx);
   await requireLabRole(user.id, labId, "lab:manage");
-  const before = (await listMembers(labId)).find((m) => m.userId === userId);
-  await setMemberRole(labId, userId, null);
-  if (before) await recordAudit({ labId, actor: user, action: "member.removed", target: { type: "user", id: userId }, details: { email: before.email, role: before.role } });
+  await setMemberRole(labId, userId, null, (before) => ({
+    labId, actor: user, action: "member.removed", target: { type: "user", id: userId }, details: { email: before.email, role: before.from },
+  }));
   return new Response(null, { status: 204 });
 });
