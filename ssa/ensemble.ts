@@ -5,6 +5,7 @@
  * cell alone. Cell k always uses the stream of (seed, k) (ssa/rng.ts), so a cell's path, and hence
  * every statistic, is independent of chunking and threads. Pure: no I/O, no clock.
  */
+import { makeGrid } from "./grid";
 import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type DirectKernel } from "./kernel";
 import type { Model } from "./model-core";
 import { cellRngState } from "./rng";
@@ -37,26 +38,7 @@ export interface EnsembleOptions {
 
 const DEFAULT_MAX_EVENTS = 2e9;
 
-/**
- * The sampling grid 0, dt, 2dt, …: k·dt for k = 0 … ⌊tEnd/dt⌋ (with a 1e-9 relative allowance so
- * that 10/0.1 gives 101 points), plus tEnd itself when dt does not divide it. The same points as
- * the mean-field trace (ssa/ode.ts outputGrid; a test keeps the two equal). Kept here so that
- * worker threads need not load the ODE code.
- * @throws RangeError unless 0 < dt ≤ tEnd and the grid has at most 1e7 points.
- */
-export function makeGrid(tEnd: number, dt: number): Float64Array {
-  if (!(Number.isFinite(tEnd) && tEnd > 0)) throw new RangeError(`tEnd must be > 0, got ${tEnd}`);
-  if (!(Number.isFinite(dt) && dt > 0 && dt <= tEnd)) throw new RangeError(`dt must be in (0, tEnd], got ${dt}`);
-  if (tEnd / dt > 1e7) throw new RangeError(`tEnd/dt gives more than 1e7 grid points`);
-  const steps = Math.floor(tEnd / dt + 1e-9);
-  const lastOnGrid = steps * dt;
-  const extra = Math.abs(lastOnGrid - tEnd) > 1e-9 * tEnd ? 1 : 0;
-  const grid = new Float64Array(steps + 1 + extra);
-  for (let k = 0; k <= steps; k++) grid[k] = k * dt;
-  if (extra) grid[steps + 1] = tEnd;
-  else grid[steps] = Math.min(grid[steps], tEnd);
-  return grid;
-}
+export { makeGrid };
 
 /** Burn-in actually used: the option, else tEnd/5 (CONTRACT.md §2). */
 export function burnInOf(o: { tEnd: number; burnIn?: number }): number {

@@ -2,6 +2,7 @@
  * Mean-field trace of a compiled circuit: dy/dt = Sᵀ·f(y) (SCIENCE.md "Deterministic model"),
  * integrated by ode-solvers.ts and sampled on the grid 0, dt, 2dt, …, tEnd. Pure: no I/O.
  */
+import { makeGrid } from "./grid";
 import { meanFieldJacobianEvaluator, type JacobianModel } from "./lna";
 import type { Model } from "./model";
 import { integrate, type IntegrateStats, type OdeMethod, type OdeRhs } from "./ode-solvers";
@@ -37,23 +38,8 @@ export interface OdeSolution {
   stats: IntegrateStats;
 }
 
-/**
- * The output grid 0, dt, 2dt, …: k·dt for k = 0 … ⌊tEnd/dt⌋ (with a 1e-9 relative allowance so
- * that 10/0.1 gives 101 points), plus tEnd itself when dt does not divide it.
- * @throws RangeError unless 0 < dt ≤ tEnd.
- */
-export function outputGrid(tEnd: number, dt: number): Float64Array {
-  if (!(Number.isFinite(tEnd) && tEnd > 0)) throw new RangeError(`tEnd must be > 0, got ${tEnd}`);
-  if (!(Number.isFinite(dt) && dt > 0 && dt <= tEnd)) throw new RangeError(`dt must be in (0, tEnd], got ${dt}`);
-  const steps = Math.floor(tEnd / dt + 1e-9);
-  const lastOnGrid = steps * dt;
-  const extra = Math.abs(lastOnGrid - tEnd) > 1e-9 * tEnd ? 1 : 0;
-  const grid = new Float64Array(steps + 1 + extra);
-  for (let k = 0; k <= steps; k++) grid[k] = k * dt;
-  if (extra) grid[steps + 1] = tEnd;
-  else grid[steps] = Math.min(grid[steps], tEnd);
-  return grid;
-}
+/** The output grid: the same points as an ensemble's (ssa/grid.ts). */
+export const outputGrid = makeGrid;
 
 /** Right-hand side dy/dt = Sᵀ·f(y) of a model, in model amount per model time. */
 export function meanFieldRhs(model: MeanFieldModel): OdeRhs {

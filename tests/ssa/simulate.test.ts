@@ -63,11 +63,14 @@ describe("parameter_info is display text only", () => {
 });
 
 describe("grids", () => {
-  it("makeGrid (ensembles) and outputGrid (mean field) give the same points", async () => {
-    const { makeGrid } = await import("@/ssa/ensemble");
-    const { outputGrid } = await import("@/ssa/ode");
-    for (const [tEnd, dt] of [[10, 0.1], [100, 7], [2000, 1], [1, 1], [5, 0.3], [1e4, 2.5]] as const) {
-      expect(Array.from(makeGrid(tEnd, dt))).toEqual(Array.from(outputGrid(tEnd, dt)));
+  it("an ensemble's sample times are the mean-field trace's times, also when dt does not divide t_end", () => {
+    const c = parseCircuit(JSON.parse(readFileSync("examples/birth-death.circuit.json", "utf8")));
+    for (const [tEnd, dt] of [[10, 0.1], [100, 7], [5, 0.3]] as const) {
+      const ensemble = simulate(compileModel(c), { method: "ssa", tEnd, dt, runs: 2, seed: 1 });
+      const trace = simulate(compileModel(c), { method: "ode", tEnd, dt });
+      expect(ensemble.times).toEqual(trace.times);
+      expect(ensemble.times[ensemble.times.length - 1]).toBe(tEnd);
+      expect(ensemble.mean[c.species[0]!.id]).toHaveLength(ensemble.times.length);
     }
   });
 });

@@ -4,6 +4,7 @@ import Link from "next/link";
 import { ComparisonStatusBadge } from "@/app/_components/comparison-status";
 import { EmptyState } from "@/app/_components/empty-state";
 import { RunProgressBar, When } from "@/app/_components/run-status";
+import { TableHead } from "@/app/_components/table-head";
 import { may } from "@/lib/access";
 import { requirePageUser } from "@/lib/auth/page";
 import { listComparisons } from "@/lib/data/comparisons";
@@ -46,16 +47,7 @@ export default async function ComparisonsPage({ params, searchParams }: {
       ) : (
         <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
           <table className="w-full min-w-[44rem] text-sm" aria-label="Comparisons">
-            <thead className="bg-paper text-left text-ink-soft">
-              <tr>
-                <th scope="col" className="px-3 py-2">Comparison</th>
-                <th scope="col" className="px-3 py-2">Status</th>
-                <th scope="col" className="px-3 py-2 text-right">Designs</th>
-                <th scope="col" className="px-3 py-2">Cells each</th>
-                <th scope="col" className="px-3 py-2">Progress</th>
-                <th scope="col" className="px-3 py-2">Created</th>
-              </tr>
-            </thead>
+            <TableHead columns={["Comparison", "Status", { label: "Designs", numeric: true }, "Cells each", "Progress", "Created"]} />
             <tbody>
               {comparisons.map((c) => {
                 const progress = c.status === "succeeded" ? 1 : c.chunksTotal > 0 ? c.chunksDone / c.chunksTotal : 0;

@@ -7,6 +7,7 @@ import useSWR from "swr";
 import { EmptyState } from "@/app/_components/empty-state";
 import { jsonFetcher } from "@/app/_components/run-api";
 import { RunProgressBar, RunStatusBadge, When, runKindLabel } from "@/app/_components/run-status";
+import { TableHead } from "@/app/_components/table-head";
 import { formatCount, formatDuration, isActive, type RunJson } from "@/lib/run-view";
 
 const PAGE_SIZE = 25;
@@ -94,18 +95,7 @@ export function RunsTable({ labId, canLaunch, status, circuit, page }: RunsTable
           <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
             <table className="w-full min-w-[44rem] text-sm">
               <caption className="sr-only">Runs of this lab</caption>
-              <thead className="bg-paper text-left text-ink-soft">
-                <tr>
-                  <th scope="col" className="px-3 py-2">Run</th>
-                  <th scope="col" className="px-3 py-2">Circuit</th>
-                  <th scope="col" className="px-3 py-2">Kind</th>
-                  <th scope="col" className="px-3 py-2 text-right">Cells</th>
-                  <th scope="col" className="px-3 py-2">Status</th>
-                  <th scope="col" className="px-3 py-2">Launched by</th>
-                  <th scope="col" className="px-3 py-2">Launched</th>
-                  <th scope="col" className="whitespace-nowrap px-3 py-2 text-right">Wall time</th>
-                </tr>
-              </thead>
+              <TableHead columns={["Run", "Circuit", "Kind", { label: "Cells", numeric: true }, "Status", "Launched by", "Launched", { label: "Wall time", numeric: true, className: "whitespace-nowrap" }]} />
               <tbody>
                 {data.runs.map((r) => (
                   <tr key={r.id} className="border-t border-ink/10 align-top">

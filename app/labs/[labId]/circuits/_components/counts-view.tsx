@@ -3,6 +3,7 @@
 import useSWR from "swr";
 
 import { Caution } from "@/app/_components/caution";
+import { TableHead } from "@/app/_components/table-head";
 
 import { fetchJson, type AnalysisJson, type CountsJson } from "./fetch-json";
 import { formatNumber, showAmount } from "./format";
@@ -62,16 +63,7 @@ export function CountsView({ versionId }: { versionId: string }) {
         <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
           <table className="w-full min-w-[640px] text-sm">
             <caption className="sr-only">Species in molecules</caption>
-            <thead className="bg-paper text-left text-ink-soft">
-              <tr>
-                <th scope="col" className="px-3 py-2 font-medium">Species</th>
-                <th scope="col" className="px-3 py-2 text-right font-medium">Initial ({amount})</th>
-                <th scope="col" className="px-3 py-2 text-right font-medium">Initial (molecules)</th>
-                <th scope="col" className="px-3 py-2 text-right font-medium">Initial count</th>
-                <th scope="col" className="px-3 py-2 text-right font-medium">Steady state (molecules)</th>
-                <th scope="col" className="px-3 py-2 font-medium">Note</th>
-              </tr>
-            </thead>
+            <TableHead columns={["Species", { label: `Initial (${amount})`, numeric: true }, { label: "Initial (molecules)", numeric: true }, { label: "Initial count", numeric: true }, { label: "Steady state (molecules)", numeric: true }, "Note"]} />
             <tbody>
               {c.species.map((s) => {
                 const ss = steadyMolecules(s.id, s.count);
@@ -104,15 +96,7 @@ export function CountsView({ versionId }: { versionId: string }) {
         <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
           <table className="w-full min-w-[720px] text-sm">
             <caption className="sr-only">Rate constants in molecules</caption>
-            <thead className="bg-paper text-left text-ink-soft">
-              <tr>
-                <th scope="col" className="px-3 py-2 font-medium">Reaction</th>
-                <th scope="col" className="px-3 py-2 font-medium">Constant</th>
-                <th scope="col" className="px-3 py-2 text-right font-medium">As written</th>
-                <th scope="col" className="px-3 py-2 text-right font-medium">In molecules</th>
-                <th scope="col" className="px-3 py-2 font-medium">Note</th>
-              </tr>
-            </thead>
+            <TableHead columns={["Reaction", "Constant", { label: "As written", numeric: true }, { label: "In molecules", numeric: true }, "Note"]} />
             <tbody>
               {c.constants.map((k, i) => (
                 <tr key={`${k.reaction}-${k.name}-${i}`} className="border-t border-ink/10">

@@ -4,6 +4,7 @@ import useSWR from "swr";
 
 import { Caution } from "@/app/_components/caution";
 import { Chart } from "@/app/_components/charts/chart";
+import { TableHead } from "@/app/_components/table-head";
 
 import { eigenSpec } from "./eigen-spec";
 import { fetchJson, type AnalysisJson } from "./fetch-json";
@@ -95,14 +96,7 @@ export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omeg
           <h2 className="mt-3 font-semibold" id="eig-h">Eigenvalues</h2>
           <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
             <table className="w-full text-sm" aria-labelledby="eig-h">
-              <thead className="bg-paper text-left text-ink-soft">
-                <tr>
-                  <th scope="col" className="px-3 py-2 font-medium">#</th>
-                  <th scope="col" className="px-3 py-2 text-right font-medium">Re λ (1/{timeUnit})</th>
-                  <th scope="col" className="px-3 py-2 text-right font-medium">Im λ (1/{timeUnit})</th>
-                  <th scope="col" className="px-3 py-2 font-medium">Reading</th>
-                </tr>
-              </thead>
+              <TableHead columns={["#", { label: `Re λ (1/${timeUnit})`, numeric: true }, { label: `Im λ (1/${timeUnit})`, numeric: true }, "Reading"]} />
               <tbody>
                 {data.eigenvalues.map((l, i) => (
                   <tr key={i} className="border-t border-ink/10">
@@ -142,14 +136,7 @@ export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omeg
             <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
               <table className="w-full min-w-[480px] text-sm">
                 <caption className="sr-only">LNA CV and Fano factor per species</caption>
-                <thead className="bg-paper text-left text-ink-soft">
-                  <tr>
-                    <th scope="col" className="px-3 py-2 font-medium">Species</th>
-                    <th scope="col" className="px-3 py-2 text-right font-medium">Mean (molecules)</th>
-                    <th scope="col" className="px-3 py-2 text-right font-medium">CV</th>
-                    <th scope="col" className="px-3 py-2 text-right font-medium">Fano factor</th>
-                  </tr>
-                </thead>
+                <TableHead columns={["Species", { label: "Mean (molecules)", numeric: true }, { label: "CV", numeric: true }, { label: "Fano factor", numeric: true }]} />
                 <tbody>
                   {species.map((id) => (
                     <tr key={id} className="border-t border-ink/10">

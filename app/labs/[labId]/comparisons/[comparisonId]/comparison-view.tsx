@@ -9,6 +9,7 @@ import { Caution } from "@/app/_components/caution";
 import { ComparisonStatusBadge } from "@/app/_components/comparison-status";
 import { fetchJson, jsonFetcher } from "@/app/_components/run-api";
 import { RunProgressBar, When } from "@/app/_components/run-status";
+import { TableHead } from "@/app/_components/table-head";
 import { resultSpecies, type ComparisonJson } from "@/lib/comparison-view";
 import { formatNumber } from "@/lib/run-view";
 
@@ -130,15 +131,7 @@ function DesignProgress({ labId, c }: { labId: string; c: ComparisonJson }) {
       </div>
       <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
         <table className="w-full min-w-[40rem] text-sm" aria-label="Designs and their runs">
-          <thead className="bg-paper text-left text-ink-soft">
-            <tr>
-              <th scope="col" className="px-3 py-2">Design</th>
-              <th scope="col" className="px-3 py-2">Circuit</th>
-              <th scope="col" className="px-3 py-2">Parameters</th>
-              <th scope="col" className="px-3 py-2">Run</th>
-              <th scope="col" className="w-40 px-3 py-2">Progress</th>
-            </tr>
-          </thead>
+          <TableHead columns={["Design", "Circuit", "Parameters", "Run", { label: "Progress", className: "w-40" }]} />
           <tbody>
             {c.designs.map((d) => {
               const params = { ...d.overrides, ...(d.values ?? {}) };

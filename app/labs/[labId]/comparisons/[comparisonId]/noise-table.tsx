@@ -1,5 +1,6 @@
 "use client";
 
+import { TableHead } from "@/app/_components/table-head";
 import type { ComparisonJson, IntervalJson } from "@/lib/comparison-view";
 import { formatNumber } from "@/lib/run-view";
 
@@ -50,19 +51,7 @@ export function NoiseTable({ c, species }: { c: ComparisonJson; species: string 
             Below each estimate its {pct}% percentile-bootstrap interval over cells ({r.replicates} replicates, seed {r.bootstrap_seed}).
             Period columns are empty where {species} does not oscillate; LNA columns where the steady state is not stable.
           </caption>
-          <thead className="bg-paper text-left text-ink-soft">
-            <tr>
-              <th scope="col" className="px-3 py-2">Design</th>
-              <th scope="col" className="px-3 py-2 text-right">Mean</th>
-              <th scope="col" className="px-3 py-2 text-right">SD</th>
-              <th scope="col" className="px-3 py-2 text-right">CV</th>
-              <th scope="col" className="px-3 py-2 text-right">Fano</th>
-              <th scope="col" className="px-3 py-2 text-right">Period mean</th>
-              <th scope="col" className="px-3 py-2 text-right">Period CV</th>
-              <th scope="col" className="px-3 py-2 text-right">LNA CV</th>
-              <th scope="col" className="px-3 py-2 text-right">LNA Fano</th>
-            </tr>
-          </thead>
+          <TableHead columns={["Design", { label: "Mean", numeric: true }, { label: "SD", numeric: true }, { label: "CV", numeric: true }, { label: "Fano", numeric: true }, { label: "Period mean", numeric: true }, { label: "Period CV", numeric: true }, { label: "LNA CV", numeric: true }, { label: "LNA Fano", numeric: true }]} />
           <tbody>
             {rows.map(({ d, s }) => (
               <tr key={d.design_id} className="border-t border-ink/10 align-top">

@@ -4,6 +4,7 @@ import { useMemo } from "react";
 import useSWR from "swr";
 
 import { jsonFetcher } from "@/app/_components/run-api";
+import { TableHead } from "@/app/_components/table-head";
 import { formatNumber, sdOf, type AnalysisJson, type RunJson, type SummaryJson } from "@/lib/run-view";
 import { analyze } from "@/ssa/analyze";
 import { compileModel } from "@/ssa/model";
@@ -66,17 +67,7 @@ export function NoiseTable({ summary, lna, amountUnit, timeUnit, burnIn }: {
               : <>Stationary statistics: pooled over all {summary.runs.toLocaleString("en-US")} cells and grid times ≥ burn-in ({formatNumber(burnIn)} {timeUnit}). SD with n − 1. </>}
             {lna.note}
           </caption>
-          <thead className="bg-paper text-left text-ink-soft">
-            <tr>
-              <th scope="col" className="px-3 py-2">Species</th>
-              <th scope="col" className="px-3 py-2 text-right">Mean ({amountUnit})</th>
-              <th scope="col" className="px-3 py-2 text-right">SD ({amountUnit})</th>
-              <th scope="col" className="px-3 py-2 text-right">CV</th>
-              <th scope="col" className="px-3 py-2 text-right">Fano ({amountUnit})</th>
-              <th scope="col" className="px-3 py-2 text-right">LNA CV</th>
-              <th scope="col" className="px-3 py-2 text-right">LNA Fano</th>
-            </tr>
-          </thead>
+          <TableHead columns={["Species", { label: `Mean (${amountUnit})`, numeric: true }, { label: `SD (${amountUnit})`, numeric: true }, { label: "CV", numeric: true }, { label: `Fano (${amountUnit})`, numeric: true }, { label: "LNA CV", numeric: true }, { label: "LNA Fano", numeric: true }]} />
           <tbody>
             {summary.species.map((sp) => {
               const st = summary.stationary[sp];

@@ -8,6 +8,7 @@ import { Chart, ChartSkeleton } from "@/app/_components/charts/chart";
 import { downloadText } from "@/app/_components/charts/download";
 import { jsonFetcher } from "@/app/_components/run-api";
 import { DatasetOverlayPicker, MeasuredNoiseTable, useDatasetValues } from "@/app/_components/dataset-overlay";
+import { TableHead } from "@/app/_components/table-head";
 import { seriesOverlayLayer, seriesOverlayPoints, snapshotOverlayBins, type DatasetJson, type OverlayTarget } from "@/lib/dataset-overlay";
 import { bandsSpec, cellsSpec, distributionVersusMeasuredSpec, histogramSpec, traceSpec } from "@/lib/run-charts";
 import { bandsCsv, exportBaseName, exportFileName, noiseCsv } from "@/lib/run-export";
@@ -221,16 +222,7 @@ function PeriodSpread({ run, summary, species, onSpecies, units, burnIn }: {
       <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
         <table className="w-full min-w-[36rem] text-sm tabular-nums">
           <caption className="sr-only">Period statistics per species</caption>
-          <thead className="bg-paper text-left text-ink-soft">
-            <tr>
-              <th scope="col" className="px-3 py-2">Species</th>
-              <th scope="col" className="px-3 py-2 text-right">Periods</th>
-              <th scope="col" className="px-3 py-2 text-right">Mean ({units.time})</th>
-              <th scope="col" className="px-3 py-2 text-right">SD ({units.time})</th>
-              <th scope="col" className="px-3 py-2 text-right">CV</th>
-              <th scope="col" className="px-3 py-2 text-right">Amplitude ({units.amount})</th>
-            </tr>
-          </thead>
+          <TableHead columns={["Species", { label: "Periods", numeric: true }, { label: `Mean (${units.time})`, numeric: true }, { label: `SD (${units.time})`, numeric: true }, { label: "CV", numeric: true }, { label: `Amplitude (${units.amount})`, numeric: true }]} />
           <tbody>
             {summary.species.map((sp) => {
               const q = summary.period[sp];

@@ -2,6 +2,7 @@ import type { Metadata } from "next";
 import Link from "next/link";
 import { notFound } from "next/navigation";
 
+import { TableHead } from "@/app/_components/table-head";
 import { diffCircuits } from "@/lib/circuit-diff";
 import { getVersion } from "@/lib/data/circuits";
 
@@ -36,16 +37,7 @@ export default async function VersionsPage({ params, searchParams }: {
         <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
           <table className="w-full min-w-[640px] text-sm">
             <caption className="sr-only">Versions of this circuit, newest first</caption>
-            <thead className="bg-paper text-left text-ink-soft">
-              <tr>
-                <th scope="col" className="px-3 py-2 font-medium">Version</th>
-                <th scope="col" className="px-3 py-2 font-medium">Saved</th>
-                <th scope="col" className="px-3 py-2 font-medium">By</th>
-                <th scope="col" className="px-3 py-2 font-medium">Message</th>
-                <th scope="col" className="px-3 py-2 font-medium">Source</th>
-                <th scope="col" className="px-3 py-2 font-medium">Content hash</th>
-              </tr>
-            </thead>
+            <TableHead columns={["Version", "Saved", "By", "Message", "Source", "Content hash"]} />
             <tbody>
               {versions.map((v, i) => (
                 <tr key={v.id} className="border-t border-ink/10" data-testid="version-row">
