@@ -3,6 +3,7 @@
  * bodies (CONTRACT.md §2, §3), and small pure helpers (ETA, durations, histogram rows). Pure: no
  * I/O; the browser and tests import it.
  */
+import type { TrajectoryResult } from "@/ssa/ensemble";
 
 export type RunStatus = "queued" | "running" | "succeeded" | "failed" | "cancelled";
 export type RunMethod = "ode" | "ssa" | "tau";
@@ -69,19 +70,8 @@ export interface SummaryJson {
   stationary_distribution?: Record<string, { values: number[]; counts: number[] }>;
 }
 
-/** `GET /api/runs/:id/cells/:index`: one replayed cell. */
-export interface CellJson {
-  seed: number;
-  index: number;
-  units: "molecules" | "model";
-  species: string[];
-  times: number[];
-  values: Record<string, number[]>;
-  events: number;
-  method?: string;
-  time_unit?: string;
-  amount_unit?: string;
-}
+/** `GET /api/runs/:id/cells/:index`: one replayed cell (CONTRACT.md `trajectory`). */
+export type CellJson = TrajectoryResult;
 
 /** `GET /api/versions/:id/analysis` (CONTRACT.md §2 `analyze`). */
 export interface AnalysisJson {

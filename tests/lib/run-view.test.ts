@@ -57,7 +57,9 @@ describe("histograms", () => {
 });
 
 describe("sample-cell statistics", () => {
-  const cell = (index: number, a: number[]): CellJson => ({ seed: 1, index, units: "molecules", species: ["A"], times: [0, 1, 2, 3], values: { A: a }, events: 0 });
+  const cell = (index: number, a: number[]): CellJson => ({
+    seed: 1, index, units: "molecules", species: ["A"], times: [0, 1, 2, 3], values: { A: a }, events: 0, method: "ssa", time_unit: "min", amount_unit: "molecules",
+  });
 
   it("valuesAfterBurnIn(cells, sp, b) pools grid values at t ≥ b across cells", () => {
     expect(valuesAfterBurnIn([cell(0, [9, 1, 2, 3]), cell(1, [9, 4, 5, 6])], "A", 1)).toEqual([1, 2, 3, 4, 5, 6]);

@@ -20,10 +20,4 @@ export interface CountsJson {
   }[];
 }
 
-export interface AnalysisJson {
-  steady_state: Record<string, number>;
-  eigenvalues: { re: number; im: number }[];
-  stable: boolean;
-  oscillatory: boolean;
-  lna: { covariance: number[][]; cv: Record<string, number | null>; fano: Record<string, number | null> } | null;
-}
+export type { AnalysisJson } from "@/lib/run-view";
