@@ -6,7 +6,11 @@ import { env } from "@/lib/env";
  * Outgoing e-mail through nodemailer over SMTP (SMTP_URL). `npm start` and `npm test` point
  * SMTP_URL at the local mail fake (scripts/mail-fake.ts); without SMTP_URL nothing is sent.
  */
-export interface OutgoingMail { to: string; subject: string; text: string }
+export interface OutgoingMail {
+  to: string; subject: string; text: string;
+  /** A fixed Message-ID, so that a message sent twice (a sender that died before recording it) reads as one to mail clients. */
+  messageId?: string;
+}
 export type MailResult = { status: "sent"; messageId: string } | { status: "disabled" } | { status: "failed"; error: string };
 
 const cache = globalThis as { burstwiseMail?: Transporter };
@@ -32,7 +36,7 @@ export async function sendMail(mail: OutgoingMail): Promise<MailResult> {
   const t = transport();
   if (!t) return { status: "disabled" };
   try {
-    const info = await t.sendMail({ from: env.MAIL_FROM, to: mail.to, subject: mail.subject, text: mail.text });
+    const info = await t.sendMail({ from: env.MAIL_FROM, to: mail.to, subject: mail.subject, text: mail.text, ...(mail.messageId ? { messageId: mail.messageId } : {}) });
     return { status: "sent", messageId: String(info.messageId ?? "") };
   } catch (e) {
     const error = e instanceof Error ? e.message : String(e);
@@ -65,10 +69,15 @@ export function invitationMail(p: { to: string; labName: string; role: string; i
 }
 
 /** The e-mail for a finished run or comparison (generic: subject kind, title, status, link). */
-export function finishedMail(p: { to: string; kind: string; title: string; status: string; error?: string | null; link: string; labName: string }): OutgoingMail {
+export function finishedMail(p: {
+  to: string; kind: string; title: string; status: string; error?: string | null; link: string; labName: string;
+  /** The one message a recipient gets about a subject: e.g. run-12.user-7, made into the Message-ID. */
+  key: string;
+}): OutgoingMail {
   const outcome = p.status === "succeeded" ? "finished" : p.status;
   return {
     to: p.to,
+    messageId: `<${p.key}@${new URL(p.link).hostname || "burstwise"}.burstwise>`,
     subject: `Burstwise: ${p.kind} ${p.title} ${outcome}`,
     text: [
       `Your ${p.kind} ${p.title} in ${p.labName} ${outcome}.`,

@@ -2,7 +2,7 @@
 // has a kind, an id, a lab, the member who started it, a status and a link.
 import { db } from "../db/client";
 import { recordAudit } from "../lib/data/audit";
-import { claimNotification, listRecipients, listUnnotifiedRuns, markNotification, markSubjectNotified, type SubjectKind } from "../lib/data/notifications";
+import { claimNotification, listRecipients, listUnnotifiedRuns, markNotification, markSubjectNotified, notificationsSettled, type SubjectKind } from "../lib/data/notifications";
 import { getRun, type RunRow } from "../lib/data/runs";
 import { env } from "../lib/env";
 import { appUrl, finishedMail, sendMail } from "../lib/mail";
@@ -22,9 +22,11 @@ export interface FinishedSubject {
 const NOTIFIED_STATUSES = new Set(["succeeded", "failed"]);
 
 /**
- * Sends each opted-in recipient exactly one e-mail about a finished subject. Each recipient's
- * row is claimed before sending, so a retried hook, a second worker or the sweep sends
- * nothing twice. Returns how many e-mails this call sent.
+ * Sends each opted-in recipient one e-mail about a finished subject. Each recipient's row is
+ * claimed before sending, so a retried hook, a second worker or the sweep sends nothing twice
+ * while the claim is live; the subject counts as notified only when every claim has an outcome,
+ * so the sweep comes back for a claim whose sender died and, once it is stale, sends it
+ * (lib/data/notifications.ts claimNotification). Returns how many e-mails this call sent.
  */
 export async function notifyFinished(s: FinishedSubject): Promise<number> {
   if (!NOTIFIED_STATUSES.has(s.status)) {
@@ -38,6 +40,7 @@ export async function notifyFinished(s: FinishedSubject): Promise<number> {
     if (!claim) continue;
     const result = await sendMail(finishedMail({
       to: r.email, kind: s.kind, title: s.title, status: s.status, error: s.error, link: `${appUrl()}${s.path}`, labName: lab?.name ?? "your lab",
+      key: `${s.kind}-${s.id}.user-${r.userId}`,
     }));
     if (result.status === "sent") {
       sent += 1;
@@ -46,7 +49,7 @@ export async function notifyFinished(s: FinishedSubject): Promise<number> {
       await markNotification(claim, { status: "failed", error: result.status === "failed" ? result.error : "mail: SMTP_URL is not set" });
     }
   }
-  await markSubjectNotified(s.kind, s.id);
+  if (await notificationsSettled(s.kind, s.id)) await markSubjectNotified(s.kind, s.id);
   return sent;
 }
 

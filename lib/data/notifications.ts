@@ -1,4 +1,5 @@
 import { db } from "@/db/client";
+import { env } from "@/lib/env";
 import type { Role } from "@/lib/schemas/auth";
 import type { RunNotifyScope } from "@/lib/schemas/invitations";
 
@@ -41,12 +42,26 @@ export async function listRecipients(labId: string, ownerId: string | null): Pro
 
 /**
  * Claims the one e-mail a recipient gets about a subject: the claim's id for the first caller, null for
- * every later one (a retried or duplicated hook). Claimed before sending: at most one e-mail.
+ * every later one (a retried or duplicated hook) while that claim is live. A claim left unsettled
+ * for `staleAfterS` seconds (its sender died between claiming and recording the outcome) can be
+ * claimed again, so the e-mail is not lost; the price is a second copy when the sender died after
+ * the server took the message, which carries the same Message-ID (lib/mail.ts finishedMail).
  */
-export async function claimNotification(kind: SubjectKind, subjectId: string, labId: string, r: Recipient): Promise<string | null> {
-  const rows = await db("notifications").insert({ subjectKind: kind, subjectId, labId, userId: r.userId, email: r.email })
-    .onConflict(["subjectKind", "subjectId", "userId"]).ignore().returning(["id"]);
-  return rows[0] ? String(rows[0].id) : null;
+export async function claimNotification(kind: SubjectKind, subjectId: string, labId: string, r: Recipient, staleAfterS = env.NOTIFY_STALE_CLAIM_S): Promise<string | null> {
+  const res = await db.raw(
+    `insert into notifications (subject_kind, subject_id, lab_id, user_id, email) values (?, ?, ?, ?, ?)
+     on conflict (subject_kind, subject_id, user_id) do update set claimed_at = now(), email = excluded.email
+       where notifications.status = 'claimed' and notifications.claimed_at < now() - make_interval(secs => ?)
+     returning id`,
+    [kind, subjectId, labId, r.userId, r.email, staleAfterS],
+  );
+  const row = (res as { rows: { id: string | number }[] }).rows[0];
+  return row ? String(row.id) : null;
+}
+
+/** Whether no e-mail about a subject is still claimed without an outcome (in a sender's hands, or lost with it). */
+export async function notificationsSettled(kind: SubjectKind, subjectId: string): Promise<boolean> {
+  return !(await db("notifications").where({ subjectKind: kind, subjectId, status: "claimed" }).first("id"));
 }
 
 export async function markNotification(id: string, result: { status: "sent"; messageId: string } | { status: "failed"; error: string }): Promise<void> {

@@ -132,6 +132,30 @@ describe("run-finished e-mails through the mail fake", () => {
     expect(await db("audit_events").where({ action: "run.finished", target_id: id }).count("* as n").first()).toEqual({ n: "1" });
   });
 
+  it("an e-mail claimed by a worker that died before sending is sent once its claim is stale; a live claim is left to its sender", async () => {
+    const id = await launch({ seed: 21 });
+    // As if a worker finished the run, claimed both e-mails and was killed before sending them:
+    // the launcher's claim 30 s ago (stale at 8 s), the watcher's just now (live).
+    await db("runs").where({ id }).update({ status: "succeeded", started_at: db.raw("now() - interval '40 seconds'"), finished_at: db.raw("now() - interval '30 seconds'") });
+    const claim = (u: { email: string; userId: string }, ago: string) =>
+      db("notifications").insert({ subject_kind: "run", subject_id: id, lab_id: owner.labId, user_id: u.userId, email: u.email, claimed_at: db.raw(`now() - interval '${ago}'`) });
+    await claim(launcher, "30 seconds");
+    await claim(watcher, "0 seconds");
+    await worker({ NOTIFY_SWEEP_S: "1", NOTIFY_STALE_CLAIM_S: "8" });
+    expect(await waitForMail(launcher.email, id)).toHaveLength(1);
+    expect(await mailsAbout(watcher.email, id)).toHaveLength(0); // its claim is still live
+    expect(await db("notified_subjects").where({ subject_kind: "run", subject_id: id }).first()).toBeUndefined();
+    expect(await waitForMail(watcher.email, id)).toHaveLength(1); // stale after 8 s: sent by the sweep
+    await new Promise((r) => setTimeout(r, 2500));
+    expect(await mailsAbout(launcher.email, id)).toHaveLength(1);
+    expect(await mailsAbout(watcher.email, id)).toHaveLength(1);
+    const rows = await db("notifications").where({ subject_kind: "run", subject_id: id }).select("status", "message_id");
+    expect(rows.map((r) => r.status)).toEqual(["sent", "sent"]);
+    // A fixed Message-ID per recipient and run, so that a second copy would read as the same message.
+    for (const u of [launcher, watcher]) expect(rows.some((r) => new RegExp(`^<run-${id}\\.user-${u.userId}@.+\\.burstwise>$`).test(r.message_id))).toBe(true);
+    expect(await db("notified_subjects").where({ subject_kind: "run", subject_id: id }).first()).toBeTruthy();
+  });
+
   it("after opting out, a finished run sends nothing", async () => {
     await optIn(launcher.client, "off");
     await optIn(watcher.client, "off");

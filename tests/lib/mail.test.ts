@@ -22,7 +22,8 @@ describe("parseRawMail reads back what nodemailer writes", () => {
   });
 
   it("a run e-mail names the run, the outcome and the link", async () => {
-    const mail = finishedMail({ to: "m@test.example", kind: "run", title: "#12 (Ring timer v3, ssa)", status: "failed", error: "chunk 0 failed 4 times", link: "http://x/labs/1/runs/12", labName: "Soil Sentinel" });
+    const mail = finishedMail({ to: "m@test.example", kind: "run", title: "#12 (Ring timer v3, ssa)", status: "failed", error: "chunk 0 failed 4 times", link: "http://x/labs/1/runs/12", labName: "Soil Sentinel", key: "run-12.user-7" });
+    expect(mail.messageId).toBe("<run-12.user-7@x.burstwise>"); // the same for every copy of this message
     const parsed = parseRawMail(await rawOf(mail));
     expect(parsed.subject).toBe("Burstwise: run #12 (Ring timer v3, ssa) failed");
     expect(parsed.text).toContain("Reason: chunk 0 failed 4 times");
