@@ -11,6 +11,9 @@ const port = Number(process.env.BURSTWISE_TEST_PORT ?? 3100);
 const extraArgs = process.argv.slice(2); // e.g. `npm test -- --project unit`
 
 ensureNodeModules();
+// The engine, the command line and the tests have their own tsconfig (`next build` checks the app):
+// type-check them on a full run, so a type error fails `npm test` like a failing test.
+const typecheckFailed = extraArgs.length === 0 && !typecheck(["ssa/tsconfig.json", "cli/tsconfig.json", "tests/tsconfig.json"]);
 const chromium = ensureChromium();
 // libSBML's Perl binding checks the SBML we write (CONTRACT.md: it passes libSBML's consistency checks).
 ensureDebianPackages(["libsbml5-perl"]);
@@ -37,6 +40,7 @@ try {
     env: { ...process.env, ...env, NODE_ENV: "test", BURSTWISE_REQUIRE_LIBSBML: "1", TEST_DATABASE_URL: databaseUrl, BURSTWISE_TEST_URL: baseUrl, CHROMIUM_PATH: chromium },
   });
   code = r.status ?? 1;
+  if (typecheckFailed && code === 0) code = 1;
 } catch (e) {
   console.error(`[burstwise] test setup failed: ${e.message}`);
 } finally {
@@ -46,6 +50,21 @@ try {
 }
 log(`npm test finished in ${((Date.now() - started) / 1000).toFixed(0)} s with exit code ${code}`);
 process.exit(code);
+
+/** `tsc --noEmit -p` for each project; true when all pass (errors are printed). */
+function typecheck(projects) {
+  const t0 = Date.now();
+  let ok = true;
+  for (const p of projects) {
+    const r = spawnSync(process.execPath, ["node_modules/typescript/bin/tsc", "--noEmit", "-p", p], { cwd: ROOT, stdio: "inherit" });
+    if (r.status !== 0) {
+      log(`type check of ${p} failed`);
+      ok = false;
+    }
+  }
+  log(`type check of ${projects.join(", ")}: ${ok ? "passed" : "FAILED"} in ${((Date.now() - t0) / 1000).toFixed(0)} s`);
+  return ok;
+}
 
 async function waitForHttp(url, timeoutMs) {
   const until = Date.now() + timeoutMs;
