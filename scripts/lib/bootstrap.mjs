@@ -130,18 +130,35 @@ export function pgIsRunning() {
   return r.status === 0;
 }
 
-// Processes using the local cluster register here, so the last one out stops it.
+// Processes using the local cluster register here, so the last one out stops it. Each file is
+// named by the pid and holds that process's start time, because a pid alone is reused: a file
+// left by a killed process must not keep the cluster running for whatever process gets its pid.
 const PG_CLIENTS = join(PG_DIR, "clients");
-const alive = (pid) => {
-  try { process.kill(pid, 0); return true; } catch (e) { return e.code === "EPERM"; }
-};
+/** A process's start time in clock ticks since boot (/proc/<pid>/stat field 22), or null when it is gone. */
+function startTimeOf(pid) {
+  try {
+    const stat = readFileSync(`/proc/${pid}/stat`, "utf8");
+    return stat.slice(stat.lastIndexOf(")") + 2).split(" ")[19] ?? null;
+  } catch {
+    return null;
+  }
+}
 function registerPgClient() {
   mkdirSync(PG_CLIENTS, { recursive: true });
-  writeFileSync(join(PG_CLIENTS, String(process.pid)), "");
+  writeFileSync(join(PG_CLIENTS, String(process.pid)), startTimeOf(process.pid) ?? "");
 }
+/** Other processes still using the cluster; files of processes that are gone are removed. */
 function otherPgClients() {
   if (!existsSync(PG_CLIENTS)) return [];
-  return readdirSync(PG_CLIENTS).map(Number).filter((pid) => pid !== process.pid && alive(pid));
+  return readdirSync(PG_CLIENTS).map(Number).filter((pid) => {
+    if (pid === process.pid) return false;
+    const file = join(PG_CLIENTS, String(pid));
+    let recorded = "";
+    try { recorded = readFileSync(file, "utf8").trim(); } catch { return false; }
+    const live = recorded !== "" && startTimeOf(pid) === recorded;
+    if (!live) rmSync(file, { force: true });
+    return live;
+  });
 }
 
 /**
