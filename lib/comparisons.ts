@@ -157,7 +157,7 @@ export async function createComparison(userId: string, body: ComparisonCreate, a
     sweep: body.sweep ?? null,
     settings: { method: s.method, t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}) },
     seed: s.seed ?? drawSeed(), commonSeed: s.common_seed, createdBy: userId,
-  }, designs, actor ? (cid) => comparisonEvent(actor, { id: cid, labId: body.lab_id, name: body.name, kind }, "comparison.created", { designs: designs.length, launched: body.launch }) : undefined);
+  }, designs, actor ? (cid) => comparisonEvent(actor, { id: cid, labId: body.lab_id, name: body.name, kind }, "comparison.created", { designs: designs.length }) : undefined);
   const runs = body.launch ? await launchComparison(userId, id, actor) : null;
   return { id, designs: designs.length, runs };
 }
@@ -220,7 +220,8 @@ export async function cancelComparison(actor: Actor, rawId: string): Promise<Com
 /** Deletes a comparison (owner), cancelling its unfinished design runs; its finished runs stay in the lab's runs. */
 export async function removeComparison(actor: Actor, rawId: string): Promise<void> {
   const c = await requireComparison(actor.id, rawId, "delete");
-  await deleteComparison(c.id, (n) => comparisonEvent(actor, c, "comparison.deleted", { status: c.status, runs_cancelled: n }));
+  const deleted = await deleteComparison(c.id, (r) => r && comparisonEvent(actor, c, "comparison.deleted", { status: r.status, runs_cancelled: r.runsCancelled }));
+  if (!deleted) throw notFound("comparison");
 }
 
 type Actor = { id: string; email: string };

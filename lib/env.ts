@@ -21,7 +21,8 @@ const EnvSchema = z.object({
   WORKER_SUPERVISE_S: z.coerce.number().int().min(1).max(3600).default(5),
   /** How often the worker looks for finished runs whose e-mails were never sent (a crash). */
   NOTIFY_SWEEP_S: z.coerce.number().int().min(1).max(3600).default(30),
-  NOTIFY_STALE_CLAIM_S: z.coerce.number().int().min(1).max(3600).default(120),
+  // Below the sweep's one-hour window (worker/notify.ts), or a dead claim would never be re-sent.
+  NOTIFY_STALE_CLAIM_S: z.coerce.number().int().min(1).max(1800).default(120),
 });
 
 export type Env = z.infer<typeof EnvSchema>;

@@ -11,9 +11,6 @@ const port = Number(process.env.BURSTWISE_TEST_PORT ?? 3100);
 const extraArgs = process.argv.slice(2); // e.g. `npm test -- --project unit`
 
 ensureNodeModules();
-// The engine, the command line and the tests have their own tsconfig (`next build` checks the app):
-// type-check them on a full run, so a type error fails `npm test` like a failing test.
-const typecheckFailed = extraArgs.length === 0 && !typecheck(["ssa/tsconfig.json", "cli/tsconfig.json", "tests/tsconfig.json"]);
 const chromium = ensureChromium();
 // libSBML's Perl binding checks the SBML we write (CONTRACT.md: it passes libSBML's consistency checks).
 ensureDebianPackages(["libsbml5-perl"]);
@@ -24,10 +21,15 @@ const databaseUrl = localUrl(dbName);
 let web;
 let mail;
 let code = 1;
+let typecheckFailed = false;
 try {
   migrate(databaseUrl);
   seedDemo(databaseUrl);
   ensureBuild();
+  // Type-check every project on a full run (the root one covers the app, lib, the worker,
+  // migrations and seeds, which an unchanged app's skipped build would not), after the build so that
+  // Next's generated route types are current; a type error fails `npm test`.
+  typecheckFailed = extraArgs.length === 0 && !typecheck(["tsconfig.json", "ssa/tsconfig.json", "cli/tsconfig.json", "tests/tsconfig.json"]);
   const baseUrl = `http://127.0.0.1:${port}`;
   // The mail fake on a spare port (side-by-side test runs must not share an inbox).
   mail = await startMailFake(databaseUrl, Number(process.env.MAIL_FAKE_PORT ?? (await freePort())));

@@ -2,7 +2,9 @@
 // has a kind, an id, a lab, the member who started it, a status and a link.
 import { db } from "../db/client";
 import { recordAudit } from "../lib/data/audit";
-import { claimNotification, listRecipients, listUnnotifiedRuns, markNotification, markSubjectNotified, notificationsSettled, type SubjectKind } from "../lib/data/notifications";
+import {
+  abandonStaleClaims, claimNotification, listRecipients, listUnnotifiedRuns, markNotification, markSubjectNotified, notificationsSettled, type SubjectKind,
+} from "../lib/data/notifications";
 import { getRun, type RunRow } from "../lib/data/runs";
 import { env } from "../lib/env";
 import { appUrl, finishedMail, sendMail } from "../lib/mail";
@@ -49,6 +51,7 @@ export async function notifyFinished(s: FinishedSubject): Promise<number> {
       await markNotification(claim, { status: "failed", error: result.status === "failed" ? result.error : "mail: SMTP_URL is not set" });
     }
   }
+  await abandonStaleClaims(s.kind, s.id, recipients.map((r) => r.userId));
   if (await notificationsSettled(s.kind, s.id)) await markSubjectNotified(s.kind, s.id);
   return sent;
 }

@@ -17,6 +17,7 @@ import { compileModel, parseCircuitExpressions } from "../ssa/model";
 import { runSimulation } from "../ssa/node/run";
 import { solveOde } from "../ssa/ode";
 import { mergePartials, type Partial } from "../ssa/stats";
+import { ENGINE_VERSION, reproducesResultsOf } from "../ssa/version";
 import { onRunFinished } from "./hooks";
 import type { ChunkResult, ChunkTask } from "./tasks/cells";
 
@@ -69,6 +70,11 @@ export async function handleChunk(job: Job<unknown> & { retryCount?: number; ret
   await db("runs").where({ id: runId, status: "queued" }).update({ status: "running", startedAt: db.fn.now() });
   try {
     if (run.kind === "trace") return await finishTrace(run);
+    // A run queued under an engine that drew its cells differently cannot be finished by this one:
+    // its chunks would mix two engines' numbers under one recorded version.
+    if (!reproducesResultsOf(run.engineVersion, run.method as "ssa" | "tau")) {
+      throw new InputError(`engine_version: queued under ${run.engineVersion}, whose ${run.method} results this worker (${ENGINE_VERSION}) does not reproduce; launch the run again`);
+    }
     const have = await db("run_chunks").where({ runId, chunkIndex }).first("chunkIndex");
     if (!have) {
       const first = chunkIndex * RUN_LIMITS.chunkCells;

@@ -127,8 +127,7 @@ export async function getVersion(id: string): Promise<VersionRow | null> {
   return row ? { ...row, id: String(row.id), circuitId: String(row.circuitId), labId: String(row.labId) } : null;
 }
 
-export async function deleteCircuit(id: string, audit?: AuditFor<void>): Promise<void> {
-  await audited(async (trx) => {
-    await trx("circuits").where({ id }).delete();
-  }, audit);
+/** Deletes a circuit; false when it was gone already (`audit` sees which, and records nothing then). */
+export async function deleteCircuit(id: string, audit?: AuditFor<boolean>): Promise<boolean> {
+  return audited(async (trx) => (await trx("circuits").where({ id }).delete()) > 0, audit);
 }

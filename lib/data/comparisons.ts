@@ -158,12 +158,17 @@ export async function cancelComparisonRuns(id: string, error: string, audit?: Au
   }, audit);
 }
 
-/** Deletes a comparison after cancelling its unfinished design runs (which would otherwise go on as loose runs); returns how many it cancelled. */
-export async function deleteComparison(id: string, audit?: AuditFor<number>): Promise<number> {
+/**
+ * Deletes a comparison after cancelling its unfinished design runs (which would otherwise go on as
+ * loose runs). Returns the status it had and how many runs it cancelled, or null when it was gone already.
+ */
+export async function deleteComparison(id: string, audit?: AuditFor<{ status: ComparisonStatus; runsCancelled: number } | null>): Promise<{ status: ComparisonStatus; runsCancelled: number } | null> {
   return audited(async (trx) => {
-    const cancelled = await cancelDesignRuns(id, trx);
+    const row = await trx("comparisons").where({ id }).forUpdate().first("status");
+    if (!row) return null;
+    const runsCancelled = await cancelDesignRuns(id, trx);
     await trx("comparisons").where({ id }).delete();
-    return cancelled;
+    return { status: row.status as ComparisonStatus, runsCancelled };
   }, audit);
 }
 

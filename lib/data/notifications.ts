@@ -47,16 +47,29 @@ export async function listRecipients(labId: string, ownerId: string | null): Pro
  * claimed again, so the e-mail is not lost; the price is a second copy when the sender died after
  * the server took the message, which carries the same Message-ID (lib/mail.ts finishedMail).
  */
-export async function claimNotification(kind: SubjectKind, subjectId: string, labId: string, r: Recipient, staleAfterS = env.NOTIFY_STALE_CLAIM_S): Promise<string | null> {
+export async function claimNotification(kind: SubjectKind, subjectId: string, labId: string, r: Recipient, staleAfterS = env.NOTIFY_STALE_CLAIM_S): Promise<Claim | null> {
   const res = await db.raw(
     `insert into notifications (subject_kind, subject_id, lab_id, user_id, email) values (?, ?, ?, ?, ?)
-     on conflict (subject_kind, subject_id, user_id) do update set claimed_at = now(), email = excluded.email
+     on conflict (subject_kind, subject_id, user_id) do update set claimed_at = clock_timestamp(), email = excluded.email
        where notifications.status = 'claimed' and notifications.claimed_at < now() - make_interval(secs => ?)
-     returning id`,
+     returning id, claimed_at::text as claimed_at`,
     [kind, subjectId, labId, r.userId, r.email, staleAfterS],
   );
-  const row = (res as { rows: { id: string | number }[] }).rows[0];
-  return row ? String(row.id) : null;
+  const row = (res as { rows: { id: string | number; claimed_at: string }[] }).rows[0];
+  return row ? { id: String(row.id), claimedAt: row.claimed_at } : null;
+}
+
+/** A claimed e-mail: its row and the instant of this claim (a later re-claim has another). */
+export interface Claim { id: string; claimedAt: string }
+
+/**
+ * Gives up claims left stale by a dead sender for people no longer among the recipients (they
+ * opted out or left the lab meanwhile), so the subject can count as notified.
+ */
+export async function abandonStaleClaims(kind: SubjectKind, subjectId: string, recipientIds: string[], staleAfterS = env.NOTIFY_STALE_CLAIM_S): Promise<void> {
+  await db("notifications").where({ subjectKind: kind, subjectId, status: "claimed" }).whereNotIn("userId", recipientIds)
+    .whereRaw("claimed_at < now() - make_interval(secs => ?)", [staleAfterS])
+    .update({ status: "failed", error: "no longer a recipient when the claim of a stopped sender was taken over" });
 }
 
 /** Whether no e-mail about a subject is still claimed without an outcome (in a sender's hands, or lost with it). */
@@ -64,8 +77,9 @@ export async function notificationsSettled(kind: SubjectKind, subjectId: string)
   return !(await db("notifications").where({ subjectKind: kind, subjectId, status: "claimed" }).first("id"));
 }
 
-export async function markNotification(id: string, result: { status: "sent"; messageId: string } | { status: "failed"; error: string }): Promise<void> {
-  await db("notifications").where({ id }).update(result.status === "sent"
+/** Records a claim's outcome, unless the claim was taken over meanwhile (the new holder records its own). */
+export async function markNotification(claim: Claim, result: { status: "sent"; messageId: string } | { status: "failed"; error: string }): Promise<void> {
+  await db("notifications").where({ id: claim.id, status: "claimed" }).whereRaw("claimed_at = ?::timestamptz", [claim.claimedAt]).update(result.status === "sent"
     ? { status: "sent", messageId: result.messageId, sentAt: db.fn.now() }
     : { status: "failed", error: result.error.slice(0, 2000) });
 }

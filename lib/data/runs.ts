@@ -88,10 +88,9 @@ export async function failRun(id: string, error: string): Promise<void> {
   await db("runs").where({ id }).whereIn("status", ["queued", "running"]).update({ status: "failed", error: error.slice(0, 2000), finishedAt: db.fn.now() });
 }
 
-export async function deleteRun(id: string, audit?: AuditFor<void>): Promise<void> {
-  await audited(async (trx) => {
-    await trx("runs").where({ id }).delete();
-  }, audit);
+/** Deletes a run; false when it was gone already (`audit` sees which, and records nothing then). */
+export async function deleteRun(id: string, audit?: AuditFor<boolean>): Promise<boolean> {
+  return audited(async (trx) => (await trx("runs").where({ id }).delete()) > 0, audit);
 }
 
 /** The circuit a run ran (its version's stored JSON). */

@@ -31,7 +31,7 @@ export const RunCreate = z.strictObject({
   burn_in: z.number({ error: "must be a number" }).nonnegative("must be >= 0").optional(),
   overrides: z.record(z.string(), z.number({ error: "must be a finite number" }).finite("must be a finite number")).optional(),
   units: z.enum(["molecules", "model"], { error: 'must be "molecules" or "model"' }).optional(),
-  /** Leap tolerance ε of tau-leaping (ssa/tau.ts); default 0.03. */
+  /** Leap tolerance ε of tau-leaping (ssa/tau.ts); default TAU_EPSILON (0.05), stored with the run. */
   tau_epsilon: z.number({ error: "must be a number" }).positive("must be > 0").max(MAX_TAU_EPSILON, `must be at most ${MAX_TAU_EPSILON}`).optional(),
 }).superRefine((b, ctx) => {
   if (b.tau_epsilon !== undefined && b.method !== "tau") ctx.addIssue({ code: "custom", path: ["tau_epsilon"], message: 'applies only to method "tau"' });

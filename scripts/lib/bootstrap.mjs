@@ -2,7 +2,7 @@
 // Plain Node (no dependencies): it must run on a fresh clone before `npm ci`.
 import { spawnSync, spawn } from "node:child_process";
 import { createHash, randomBytes } from "node:crypto";
-import { existsSync, mkdirSync, readFileSync, writeFileSync, readdirSync, statSync, chmodSync, rmSync } from "node:fs";
+import { existsSync, mkdirSync, readFileSync, writeFileSync, readdirSync, statSync, chmodSync, rmSync, renameSync } from "node:fs";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath } from "node:url";
 import { userInfo } from "node:os";
@@ -145,12 +145,15 @@ function startTimeOf(pid) {
 }
 function registerPgClient() {
   mkdirSync(PG_CLIENTS, { recursive: true });
-  writeFileSync(join(PG_CLIENTS, String(process.pid)), startTimeOf(process.pid) ?? "");
+  // Written aside and renamed into place, so another process never reads a half-written file.
+  const file = join(PG_CLIENTS, String(process.pid));
+  writeFileSync(`${file}.tmp`, startTimeOf(process.pid) ?? "");
+  renameSync(`${file}.tmp`, file);
 }
 /** Other processes still using the cluster; files of processes that are gone are removed. */
 function otherPgClients() {
   if (!existsSync(PG_CLIENTS)) return [];
-  return readdirSync(PG_CLIENTS).map(Number).filter((pid) => {
+  return readdirSync(PG_CLIENTS).filter((f) => /^\d+$/.test(f)).map(Number).filter((pid) => {
     if (pid === process.pid) return false;
     const file = join(PG_CLIENTS, String(pid));
     let recorded = "";

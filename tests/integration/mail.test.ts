@@ -132,7 +132,7 @@ describe("run-finished e-mails through the mail fake", () => {
     expect(await db("audit_events").where({ action: "run.finished", target_id: id }).count("* as n").first()).toEqual({ n: "1" });
   });
 
-  it("an e-mail claimed by a worker that died before sending is sent once its claim is stale; a live claim is left to its sender", async () => {
+  it("an e-mail claimed by a worker that died before sending is sent once its claim is stale; a live claim is left to its sender; a non-recipient's is given up", async () => {
     const id = await launch({ seed: 21 });
     // As if a worker finished the run, claimed both e-mails and was killed before sending them:
     // the launcher's claim 30 s ago (stale at 8 s), the watcher's just now (live).
@@ -141,6 +141,7 @@ describe("run-finished e-mails through the mail fake", () => {
       db("notifications").insert({ subject_kind: "run", subject_id: id, lab_id: owner.labId, user_id: u.userId, email: u.email, claimed_at: db.raw(`now() - interval '${ago}'`) });
     await claim(launcher, "30 seconds");
     await claim(watcher, "0 seconds");
+    await claim(quiet, "30 seconds"); // claimed for someone who is not (or no longer) a recipient
     await worker({ NOTIFY_SWEEP_S: "1", NOTIFY_STALE_CLAIM_S: "8" });
     expect(await waitForMail(launcher.email, id)).toHaveLength(1);
     expect(await mailsAbout(watcher.email, id)).toHaveLength(0); // its claim is still live
@@ -149,8 +150,11 @@ describe("run-finished e-mails through the mail fake", () => {
     await new Promise((r) => setTimeout(r, 2500));
     expect(await mailsAbout(launcher.email, id)).toHaveLength(1);
     expect(await mailsAbout(watcher.email, id)).toHaveLength(1);
-    const rows = await db("notifications").where({ subject_kind: "run", subject_id: id }).select("status", "message_id");
+    const rows = await db("notifications").where({ subject_kind: "run", subject_id: id }).whereIn("user_id", [launcher.userId, watcher.userId]).select("status", "message_id");
     expect(rows.map((r) => r.status)).toEqual(["sent", "sent"]);
+    // The non-recipient's stale claim is given up (no e-mail), so the run can count as notified.
+    expect(await mailsAbout(quiet.email, id)).toHaveLength(0);
+    expect((await db("notifications").where({ subject_kind: "run", subject_id: id, user_id: quiet.userId }).first("status")).status).toBe("failed");
     // A fixed Message-ID per recipient and run, so that a second copy would read as the same message.
     for (const u of [launcher, watcher]) expect(rows.some((r) => new RegExp(`^<run-${id}\\.user-${u.userId}@.+\\.burstwise>$`).test(r.message_id))).toBe(true);
     expect(await db("notified_subjects").where({ subject_kind: "run", subject_id: id }).first()).toBeTruthy();

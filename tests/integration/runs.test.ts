@@ -122,6 +122,21 @@ describe("ensembles through the API and the worker", () => {
     expect((await modeler.request("GET", `/api/runs/${plain.id}`)).json.settings.tau_epsilon).toBe(0.05);
   });
 
+  it("a tau run recorded by engine 0.1.0 is not replayed or finished by this engine (409 / failed, naming engine_version); a direct-method one still is", async () => {
+    const tau = await launch({ method: "tau", runs: 10, seed: 3, t_end: 20 });
+    const ssa = await launch({ runs: 10, seed: 3, t_end: 20 });
+    await db("runs").whereIn("id", [tau.id, ssa.id]).update({ engine_version: "burstwise-ssa/0.1.0" });
+    const old = await modeler.request("GET", `/api/runs/${tau.id}/cells/0`);
+    expect(old.status).toBe(409);
+    expect(old.json.error).toMatch(/^engine_version: this tau run was computed by burstwise-ssa\/0\.1\.0/);
+    expect((await modeler.request("GET", `/api/runs/${ssa.id}/cells/0`)).status).toBe(200); // the direct method did not change
+    await worker();
+    const failed = await waitFor(tau.id, finished);
+    expect(failed.status).toBe("failed");
+    expect(failed.error).toMatch(/^engine_version: queued under burstwise-ssa\/0\.1\.0/);
+    expect((await waitFor(ssa.id, finished)).status).toBe("succeeded");
+  });
+
   it("tau_epsilon outside (0, 0.2] or with another method is a 422 naming it, and nothing is stored", async () => {
     const before = Number((await db("runs").count({ n: "*" }))[0]?.n);
     for (const [body, message] of [

@@ -22,6 +22,7 @@ export const DELETE = handle("DELETE /api/circuits/:id", async (req, ctx: Ctx) =
   const circuit = await getCircuit(idParam((await ctx.params).id, "circuit"));
   if (!circuit) throw notFound("circuit");
   await requireLabRole(user.id, circuit.labId, "delete", "circuit");
-  await deleteCircuit(circuit.id, () => ({ labId: circuit.labId, actor: user, action: "circuit.deleted", target: { type: "circuit", id: circuit.id }, details: { name: circuit.name } }));
+  const deleted = await deleteCircuit(circuit.id, (gone) => gone ? { labId: circuit.labId, actor: user, action: "circuit.deleted", target: { type: "circuit", id: circuit.id }, details: { name: circuit.name } } : null);
+  if (!deleted) throw notFound("circuit");
   return new Response(null, { status: 204 });
 });

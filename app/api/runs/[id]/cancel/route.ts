@@ -9,6 +9,6 @@ export const POST = handle("POST /api/runs/:id/cancel", async (req, ctx: { param
   const cancelled = await cancelRun(run.id, (ok) => ok
     ? { labId: run.labId, actor: user, action: "run.cancelled", target: { type: "run", id: run.id }, details: { circuit: run.circuitName, version_number: run.versionNumber } }
     : null);
-  if (!cancelled) throw conflict(`status: the run is already ${run.status}`);
+  if (!cancelled) throw conflict(`status: the run is already ${(await getRun(run.id))?.status ?? run.status}`);
   return Response.json(runToJson((await getRun(run.id))!));
 });
