@@ -106,6 +106,13 @@ const labelOf = (v: VersionRow, overrides: Record<string, number>) => {
  */
 export async function createComparison(userId: string, body: ComparisonCreate, actor?: Actor): Promise<{ id: string; designs: number; runs: string[] | null }> {
   await requireLabRole(userId, body.lab_id, "comparison:write");
+  // A launch that would be refused is refused before anything is stored, so no draft is left behind.
+  if (body.launch) {
+    await requireLabRole(userId, body.lab_id, "run:launch");
+    if ((await countActiveRuns(body.lab_id)) >= RUN_LIMITS.maxQueuedPerLab) {
+      throw tooMany(`runs: the lab already has ${RUN_LIMITS.maxQueuedPerLab} runs or comparisons queued or running; wait for them or cancel some`);
+    }
+  }
   const designs: NewDesign[] = [];
   if (body.designs) {
     for (const [i, d] of body.designs.entries()) {

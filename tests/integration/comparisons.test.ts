@@ -211,6 +211,7 @@ describe("launch, cancel and the queue limit (no worker)", () => {
       lab_id: crowd.labId, name: "One more", designs: [{ version_id: v }, { version_id: v }], settings: { t_end: 10, dt: 1, runs: 10 }, launch: true,
     });
     expect(another.status).toBe(429);
+    expect(await db("comparisons").where({ lab_id: crowd.labId, name: "One more" }).first()).toBeUndefined(); // refused before anything was stored
     await db("runs").where({ lab_id: crowd.labId }).whereIn("status", ["queued", "running"]).update({ status: "cancelled" });
   });
 });
