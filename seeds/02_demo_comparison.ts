@@ -1,27 +1,27 @@
 import type { Knex } from "knex";
 
+import { findDemoModeler } from "../lib/demo/modeler";
+
 // The demo lab's comparison of four ring-timer designs (PRODUCT.md "Demo scenario"): queued
 // through the normal launch path, so the worker finishes it soon after `npm start`. Only when
 // the demo lab exists and holds no comparison yet; nothing outside the demo lab is touched.
 export async function seed(knex: Knex): Promise<void> {
-  const lab = await knex("labs").where({ is_demo: true, name: "Soil Sentinel" }).first("id");
-  if (!lab) return;
-  if (await knex("comparisons").where({ lab_id: lab.id }).first("id")) {
+  const demo = await findDemoModeler(knex);
+  if (!demo) return;
+  if (await knex("comparisons").where({ lab_id: demo.labId }).first("id")) {
     console.log("[seed] demo comparison already present");
     return;
   }
-  const modeler = await knex("memberships as m").join("users as u", "u.id", "m.user_id")
-    .where({ "m.lab_id": lab.id, "m.role": "modeler", "u.is_demo": true }).orderBy("u.id").first("u.id");
-  if (!modeler) return;
   // Loaded here so the app's modules (and their database pool and queue client) start only when needed.
   const { ensureDemoComparison } = await import("../lib/demo/comparison");
-  const { closeDb } = await import("../db/client");
-  const { getSender } = await import("../lib/jobs");
+  const { closeDb, openDb } = await import("../db/client");
+  const { closeSender } = await import("../lib/jobs");
+  openDb(); // an earlier seed may have closed the shared pool
   try {
-    const { id, runs } = await ensureDemoComparison(String(lab.id), String(modeler.id));
+    const { id, runs } = await ensureDemoComparison(demo.labId, demo.modelerId);
     console.log(`[seed] demo comparison #${id} queued (${runs?.length ?? 0} ensembles; the worker finishes them)`);
   } finally {
-    await (await getSender()).stop({ graceful: false, close: true }).catch(() => undefined);
+    await closeSender();
     await closeDb();
   }
 }

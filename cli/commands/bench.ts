@@ -159,11 +159,12 @@ function tauVersusDirect(volumeFL: number, cells: number, tEnd: number, epsilons
   const describe = (c: (typeof configs)[number]) => {
     const p = c.p as Partial;
     const s = summarize(c.model, c.o, p);
+    const cvs = cvWithError(p);
     return {
       cpu_s: c.cpuS,
       wall_s: c.wallS,
       events: p.events,
-      stationary_cv: Object.fromEntries(c.model.species.map((id, i) => [id, cvWithError(p)[i]?.cv])),
+      stationary_cv: Object.fromEntries(c.model.species.map((id, i) => [id, cvs[i]?.cv])),
       period_A: { mean: s.period.A?.mean, cv: s.period.A?.cv },
     };
   };

@@ -7,7 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from "vitest";
 
 import { openBrowser, shot, signInAs } from "../support/browser";
 import { Client } from "../support/client";
-import { startWorker, stopWorker, waitForOutput } from "../support/worker";
+import { startWorker, stopWorker, waitForOutput, waitForRun } from "../support/worker";
 
 const ringTimer = JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8"));
 const PASSWORD = "sentinel-demo";
@@ -21,17 +21,6 @@ let ctx: BrowserContext;
 let page: Page;
 let runId: string; // the 100-cell ensemble launched from the page
 let seed: number;
-
-async function waitForRun(client: Client, id: string, done: (r: any) => boolean, timeoutMs = 120_000) {
-  const until = Date.now() + timeoutMs;
-  let last: any;
-  while (Date.now() < until) {
-    last = (await client.request("GET", `/api/runs/${id}`)).json;
-    if (done(last)) return last;
-    await new Promise((r) => setTimeout(r, 250));
-  }
-  throw new Error(`run ${id} stuck: ${JSON.stringify(last)}`);
-}
 
 async function download(p: Page, click: () => Promise<void>): Promise<{ name: string; text: string }> {
   const [dl] = await Promise.all([p.waitForEvent("download") as Promise<Download>, click()]);
@@ -185,7 +174,7 @@ describe("the modeler launches an ensemble and reads its results", () => {
     await page.getByRole("button", { name: "Run again exactly" }).click();
     await page.waitForURL((u) => /\/runs\/\d+$/.test(u.pathname) && !u.pathname.endsWith(`/${runId}`));
     const again = page.url().split("/").pop()!;
-    const done = await waitForRun(modeler, again, (r) => r.status !== "queued" && r.status !== "running");
+    const done = await waitForRun(modeler, again, (r) => r.status !== "queued" && r.status !== "running", 120_000);
     expect(done).toMatchObject({ status: "succeeded", seed, version_id: versionId, method: "ssa", settings: { runs: 100, t_end: 200, dt: 1, burn_in: 40 } });
     const [a, b] = await Promise.all([runId, again].map((id) => modeler.request("GET", `/api/runs/${id}/summary`)));
     for (const k of ["mean", "sd", "quantiles", "stationary", "period"]) expect(b.json[k]).toEqual(a.json[k]);
