@@ -189,6 +189,7 @@ export async function launchComparison(userId: string, rawId: string, actor?: Ac
       t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}),
       ...(d.overrides && Object.keys(d.overrides).length ? { overrides: d.overrides } : {}), units: "molecules",
       ...(s.method === "tau" ? { tau_epsilon: TAU_EPSILON } : {}),
+      max_events_per_cell: RUN_LIMITS.maxEventsPerCell,
     };
     return { designId: d.id, versionId: d.versionId, method: s.method, settings, seed: c.commonSeed ? c.seed : c.seed + d.position, chunksTotal };
   });

@@ -23,6 +23,14 @@ const EnvSchema = z.object({
   NOTIFY_SWEEP_S: z.coerce.number().int().min(1).max(3600).default(30),
   // Below the sweep's one-hour window (worker/notify.ts), or a dead claim would never be re-sent.
   NOTIFY_STALE_CLAIM_S: z.coerce.number().int().min(1).max(1800).default(120),
+  /** Threads of the web app's engine pool (analysis, counts, cell replay); default: 2, or 1 on one core. */
+  ENGINE_THREADS: z.coerce.number().int().min(1).max(64).optional(),
+  /** Engine requests that may wait for a thread of the web app; more are answered 503 (busy). */
+  ENGINE_QUEUE: z.coerce.number().int().min(0).max(1000).default(16),
+  /** Seconds an analysis or a counts table may compute before it is refused as too large. */
+  ENGINE_BUDGET_S: z.coerce.number().min(1).max(600).default(10),
+  /** Seconds one cell replay may compute before it is refused. */
+  CELL_REPLAY_BUDGET_S: z.coerce.number().min(1).max(600).default(30),
 });
 
 export type Env = z.infer<typeof EnvSchema>;

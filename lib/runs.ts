@@ -34,6 +34,7 @@ export async function createRun(userId: string, body: RunCreate, actor?: { id: s
     ...(body.overrides && Object.keys(body.overrides).length ? { overrides: body.overrides } : {}),
     units: body.units ?? (kind === "trace" ? "model" : "molecules"),
     ...(body.method === "tau" ? { tau_epsilon: body.tau_epsilon ?? TAU_EPSILON } : {}),
+    ...(kind === "ensemble" ? { max_events_per_cell: RUN_LIMITS.maxEventsPerCell } : {}),
   };
   const seed = body.seed ?? drawSeed();
   const chunksTotal = Math.ceil(cells / RUN_LIMITS.chunkCells);

@@ -36,7 +36,8 @@ export function ensembleOptions(run: RunRow): EnsembleOptions {
     method: run.method as "ssa" | "tau", tEnd: s.t_end, dt: s.dt, seed: run.seed,
     ...(s.burn_in !== undefined ? { burnIn: s.burn_in } : {}),
     ...(s.tau_epsilon !== undefined ? { tauEpsilon: s.tau_epsilon } : {}),
-    maxEventsPerCell: RUN_LIMITS.maxEventsPerCell,
+    // The run's own limit, stored with it (older runs: the limit they were queued under).
+    maxEventsPerCell: s.max_events_per_cell ?? RUN_LIMITS.maxEventsPerCell,
   };
 }
 

@@ -14,6 +14,10 @@ export const RUN_LIMITS = {
   chunkCells: 50,
   /** Sample cells stored with a finished ensemble for display. */
   sampleCells: 5,
+  /** Values (grid points × species) one cell replay answers with; beyond, species= or every= choose fewer. */
+  maxReplayValues: 1_000_000,
+  /** Values one replay computes (the kernel records every species at every grid point): 160 MB of Float64. */
+  maxReplayComputedValues: 20_000_000,
 } as const;
 
 const positive = (what: string) => z.number({ error: `must be ${what}` }).positive("must be > 0").finite("must be finite");
@@ -49,7 +53,22 @@ export interface RunSettings {
   t_end: number; dt: number; runs: number; burn_in?: number; overrides?: Record<string, number>; units: "molecules" | "model";
   /** Tau-leaping runs store the ε they used, so that a rerun matches whatever the default becomes. */
   tau_epsilon?: number;
+  /**
+   * Events one cell may fire before the run fails as a runaway; a replay of its cells keeps to it.
+   * Absent on runs stored before it was: they ran with RUN_LIMITS.maxEventsPerCell.
+   */
+  max_events_per_cell?: number;
 }
+
+const everyMessage = `must be a whole number from 1 to ${RUN_LIMITS.maxGridPoints}`;
+
+/** Query of `GET /api/runs/:id/cells/:index`: which species (comma-separated) and every how many grid points. */
+export const CellQuery = z.object({
+  species: z.string().trim().min(1, "name at least one species, e.g. species=A,B").max(100_000, "too long").optional(),
+  every: z.string().regex(/^[1-9][0-9]{0,5}$/, everyMessage).transform(Number)
+    .refine((n) => n <= RUN_LIMITS.maxGridPoints, everyMessage).optional(),
+});
+export type CellQuery = z.infer<typeof CellQuery>;
 
 export const RUN_STATUSES = ["queued", "running", "succeeded", "failed", "cancelled"] as const;
 

@@ -129,12 +129,12 @@ describe("ensembles through the API and the worker", () => {
     const old = await modeler.request("GET", `/api/runs/${tau.id}/cells/0`);
     expect(old.status).toBe(409);
     expect(old.json.error).toMatch(/^engine_version: this tau run was computed by burstwise-ssa\/0\.1\.0/);
-    expect((await modeler.request("GET", `/api/runs/${ssa.id}/cells/0`)).status).toBe(200); // the direct method did not change
     await worker();
     const failed = await waitFor(tau.id, finished);
     expect(failed.status).toBe("failed");
     expect(failed.error).toMatch(/^engine_version: queued under burstwise-ssa\/0\.1\.0/);
     expect((await waitFor(ssa.id, finished)).status).toBe("succeeded");
+    expect((await modeler.request("GET", `/api/runs/${ssa.id}/cells/0`)).status).toBe(200); // the direct method did not change
   });
 
   it("tau_epsilon outside (0, 0.2] or with another method is a 422 naming it, and nothing is stored", async () => {

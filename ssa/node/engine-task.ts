@@ -1,0 +1,77 @@
+/**
+ * Worker-thread entry of the engine service pool (ssa/node/engine-pool.ts): the engine's single
+ * answers a server gives on request (a version's analysis, its counts table, one replayed cell),
+ * computed here so that the server's event loop never runs them. Each returns the JSON text the
+ * server sends as is, so the server neither re-encodes nor holds the objects. Node only.
+ */
+import { analyze } from "../analyze";
+import { trajectory, type EnsembleOptions } from "../ensemble";
+import { compileModel, countsTable } from "../model";
+import type { Circuit } from "../types";
+
+/** Slot of the shared started flag: the thread sets it when it begins the task (after loading). */
+export const SLOT_STARTED = 0;
+
+export interface CellSelection {
+  /** Species to return, in this order (default: all, in the circuit's order). */
+  species?: string[];
+  /** Return every `every`-th grid point, starting with the first (default 1: all). */
+  every?: number;
+}
+
+export type EngineTask =
+  | { kind: "analysis"; circuit: Circuit }
+  | { kind: "counts"; circuit: Circuit }
+  | {
+      kind: "cell"; circuit: Circuit; overrides?: Record<string, number>; options: EnsembleOptions;
+      index: number; units: "molecules" | "model"; select?: CellSelection;
+    };
+
+/**
+ * What a task gives back: the JSON text of the answer, or the error it threw by class name and
+ * message (error classes do not survive the thread boundary).
+ */
+export type EngineOutcome = { ok: true; json: string } | { ok: false; name: string; message: string };
+
+/** The counts view as the API shows it (snake_case, NaN as null). */
+function countsJson(circuit: Circuit): string {
+  const t = countsTable(circuit);
+  return JSON.stringify({
+    omega: t.omega, omega_unit: t.omegaUnit, volume_fL: t.volumeFL, amount_unit: t.amountUnit, time_unit: t.timeUnit, avogadro: t.avogadro,
+    species: t.species,
+    constants: t.constants.map((c) => ({
+      reaction: c.reaction, law: c.law, name: c.name, value: c.value, unit: c.unit, parameter: c.parameter ?? null,
+      molecules: c.molecules, molecules_unit: c.moleculesUnit, note: c.note ?? null,
+    })),
+  });
+}
+
+/** One cell replayed alone, then cut down to the selected species and grid points. */
+function cellJson(task: Extract<EngineTask, { kind: "cell" }>): string {
+  const cell = trajectory(compileModel(task.circuit, task.overrides), task.options, task.index, task.units);
+  const every = task.select?.every ?? 1;
+  const species = task.select?.species ?? cell.species;
+  if (every === 1 && species === cell.species) return JSON.stringify(cell);
+  const thin = (v: number[]) => (every === 1 ? v : v.filter((_, g) => g % every === 0));
+  const values: Record<string, number[]> = {};
+  for (const id of species) values[id] = thin(cell.values[id]);
+  return JSON.stringify({ ...cell, species, times: thin(cell.times), values });
+}
+
+/** Piscina task: computes one answer; input errors come back as an outcome, not a thrown error. */
+export default function runEngineTask({ task, started }: { task: EngineTask; started: Int32Array }): EngineOutcome {
+  Atomics.store(started, SLOT_STARTED, 1);
+  try {
+    switch (task.kind) {
+      case "analysis":
+        return { ok: true, json: JSON.stringify(analyze(compileModel(task.circuit))) };
+      case "counts":
+        return { ok: true, json: countsJson(task.circuit) };
+      case "cell":
+        return { ok: true, json: cellJson(task) };
+    }
+  } catch (e) {
+    if (e instanceof Error) return { ok: false, name: e.name, message: e.message };
+    throw e;
+  }
+}
