@@ -9,7 +9,7 @@ import { env } from "@/lib/env";
 import { conflict, notFound, unprocessable } from "@/lib/http";
 import { RUN_LIMITS, type CellQuery } from "@/lib/schemas/runs";
 import type { EnsembleOptions } from "@/ssa/ensemble";
-import type { CellSelection } from "@/ssa/node/engine-task";
+import type { CellSelection } from "@/ssa/node/engine-protocol";
 import { ENGINE_VERSION, reproducesResultsOf } from "@/ssa/version";
 
 const fmt = (n: number) => n.toLocaleString("en-US");

@@ -13,7 +13,7 @@ import { getVersionResult, putVersionResult, type VersionResult, type VersionRes
 import { env } from "@/lib/env";
 import { HttpError, unprocessable } from "@/lib/http";
 import { EngineBusyError, EngineLimitError, EnginePool } from "@/ssa/node/engine-pool";
-import type { EngineOutcome, EngineTask } from "@/ssa/node/engine-task";
+import type { EngineOutcome, EngineTask } from "@/ssa/node/engine-protocol";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** Heap of one engine thread: far above what the circuit limits need, far below the machine. */

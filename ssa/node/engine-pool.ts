@@ -7,7 +7,7 @@
  */
 import { Piscina } from "piscina";
 
-import { SLOT_STARTED, type EngineOutcome, type EngineTask } from "./engine-task";
+import { SLOT_STARTED, type EngineOutcome, type EngineTask } from "./engine-protocol";
 
 export interface EnginePoolOptions {
   /** Absolute path of ssa/node/engine-task.ts (a bundled server cannot find it from import.meta.url). */

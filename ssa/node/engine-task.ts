@@ -5,33 +5,10 @@
  * server sends as is, so the server neither re-encodes nor holds the objects. Node only.
  */
 import { analyze } from "../analyze";
-import { trajectory, type EnsembleOptions } from "../ensemble";
+import { trajectory } from "../ensemble";
 import { compileModel, countsTable } from "../model";
 import type { Circuit } from "../types";
-
-/** Slot of the shared started flag: the thread sets it when it begins the task (after loading). */
-export const SLOT_STARTED = 0;
-
-export interface CellSelection {
-  /** Species to return, in this order (default: all, in the circuit's order). */
-  species?: string[];
-  /** Return every `every`-th grid point, starting with the first (default 1: all). */
-  every?: number;
-}
-
-export type EngineTask =
-  | { kind: "analysis"; circuit: Circuit }
-  | { kind: "counts"; circuit: Circuit }
-  | {
-      kind: "cell"; circuit: Circuit; overrides?: Record<string, number>; options: EnsembleOptions;
-      index: number; units: "molecules" | "model"; select?: CellSelection;
-    };
-
-/**
- * What a task gives back: the JSON text of the answer, or the error it threw by class name and
- * message (error classes do not survive the thread boundary).
- */
-export type EngineOutcome = { ok: true; json: string } | { ok: false; name: string; message: string };
+import { SLOT_STARTED, type EngineOutcome, type EngineTask } from "./engine-protocol";
 
 /** The counts view as the API shows it (snake_case, NaN as null). */
 function countsJson(circuit: Circuit): string {

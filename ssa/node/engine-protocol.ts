@@ -1,0 +1,30 @@
+/**
+ * What the engine pool (ssa/node/engine-pool.ts) and its threads (ssa/node/engine-task.ts) pass
+ * each other. Apart from both so that a server importing the pool does not load the engine itself.
+ */
+import type { EnsembleOptions } from "../ensemble";
+import type { Circuit } from "../types";
+
+/** Slot of the shared started flag: the thread sets it when it begins the task (after loading). */
+export const SLOT_STARTED = 0;
+
+export interface CellSelection {
+  /** Species to return, in this order (default: all, in the circuit's order). */
+  species?: string[];
+  /** Return every `every`-th grid point, starting with the first (default 1: all). */
+  every?: number;
+}
+
+export type EngineTask =
+  | { kind: "analysis"; circuit: Circuit }
+  | { kind: "counts"; circuit: Circuit }
+  | {
+      kind: "cell"; circuit: Circuit; overrides?: Record<string, number>; options: EnsembleOptions;
+      index: number; units: "molecules" | "model"; select?: CellSelection;
+    };
+
+/**
+ * What a task gives back: the JSON text of the answer, or the error it threw by class name and
+ * message (error classes do not survive the thread boundary).
+ */
+export type EngineOutcome = { ok: true; json: string } | { ok: false; name: string; message: string };
