@@ -79,7 +79,7 @@ async function computeVersionResult(version: VersionRow, kind: VersionResultKind
     if (e instanceof HttpError && e.status === 422) {
       // Out of time or memory: kept for a while, so that asking again does not cost another budget.
       const result: VersionResult = { status: 422, body: json(e.message) };
-      await putVersionResult(version.id, kind, ENGINE_VERSION, result, LIMIT_REFUSAL_TTL_S);
+      await storeVersionResult(version, kind, result, LIMIT_REFUSAL_TTL_S);
       return result;
     }
     throw e;
@@ -91,8 +91,17 @@ async function computeVersionResult(version: VersionRow, kind: VersionResultKind
     if (message === null) throw new Error(`${kind} of version ${version.id}: ${outcome.name}: ${outcome.message}`);
     result = { status: 422, body: json(message) };
   }
-  await putVersionResult(version.id, kind, ENGINE_VERSION, result);
+  await storeVersionResult(version, kind, result);
   return result;
+}
+
+/** Stores an answer; one that cannot be stored (the version was just deleted) is still given. */
+async function storeVersionResult(version: VersionRow, kind: VersionResultKind, result: VersionResult, ttlS?: number): Promise<void> {
+  try {
+    await putVersionResult(version.id, kind, ENGINE_VERSION, result, ttlS);
+  } catch (e) {
+    console.error(`[engine] could not store the ${kind} of version ${version.id}`, e);
+  }
 }
 
 // Requests for the same answer while it is being computed wait for that one computation.
