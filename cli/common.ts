@@ -138,6 +138,9 @@ export async function readCircuit(path: string | undefined, command: string): Pr
   }
 }
 
+/** Wall-clock budget of one SBML import (the import's own bounds keep hostile files to milliseconds). */
+export const SBML_IMPORT_BUDGET_MS = 10_000;
+
 /** SBML import lives in ssa/sbml.ts (deterministic side); loaded only for SBML input. */
 async function readSbml(text: string, path: string): Promise<Circuit> {
   let mod: Record<string, unknown>;
@@ -146,10 +149,10 @@ async function readSbml(text: string, path: string): Promise<Circuit> {
   } catch {
     throw new CliError(`${path}: SBML input is not available in this build`, 1);
   }
-  const fn = (mod.sbmlToCircuit ?? mod.importSbml ?? mod.parseSbml) as ((xml: string) => unknown) | undefined;
+  const fn = (mod.sbmlToCircuit ?? mod.importSbml ?? mod.parseSbml) as ((xml: string, options?: unknown) => unknown) | undefined;
   if (typeof fn !== "function") throw new CliError(`${path}: SBML input is not available in this build`, 1);
   try {
-    const c = fn(text);
+    const c = fn(text, { timeBudget: { ms: SBML_IMPORT_BUDGET_MS, now: () => performance.now() } });
     const json = (c as { circuit?: unknown }).circuit ?? c;
     return parseCircuitWith(json, await formulaCheckerFor(json));
   } catch (e) {

@@ -3,6 +3,7 @@ import {
   ensureNodeModules, ensureLocalCluster, ensureDatabase, localUrl, localSecret, migrate, seedDemo,
   ensureBuild, startChild, stopChild, stopLocalCluster, log, startMailFake,
 } from "./lib/bootstrap.mjs";
+import { superviseChild } from "./lib/supervise.mjs";
 
 const port = Number(process.env.PORT ?? 3000);
 const host = process.env.HOST ?? "127.0.0.1";
@@ -39,25 +40,24 @@ if (process.env.SMTP_URL) {
     log(`${e.message}; continuing without e-mail`);
   }
 }
-const web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", host, "-p", String(port)], env);
-web.on("exit", (code) => {
-  if (!stopping) { log(`web app exited (${code}); stopping`); shutdown(1); }
-});
-
-// The worker is restarted when it dies (a crash must not stop the lab's runs for good).
-let worker;
-let restarts = 0;
-function spawnWorker() {
-  worker = startChild("worker", process.execPath, ["--import", "tsx", "worker/index.ts"], env);
-  worker.on("exit", (code, signal) => {
-    if (stopping) return;
-    restarts += 1;
-    const delay = Math.min(30_000, 1000 * 2 ** Math.min(restarts, 5));
-    log(`worker exited (${code ?? signal}); restarting in ${delay / 1000} s`);
-    setTimeout(() => { if (!stopping) spawnWorker(); }, delay);
-  });
+// The web app and the worker are each restarted when they die, with a growing delay; neither's
+// crash stops the other, the mail fake or PostgreSQL. The web app gets a heap limit, so that a
+// runaway request ends it quickly (and it comes back) instead of growing until the machine swaps.
+const webHeapMb = Number(process.env.BURSTWISE_WEB_HEAP_MB ?? 1536);
+if (!(Number.isInteger(webHeapMb) && webHeapMb >= 256)) {
+  log(`BURSTWISE_WEB_HEAP_MB must be an integer of at least 256 (MB), got "${process.env.BURSTWISE_WEB_HEAP_MB}"`);
+  process.exit(2);
 }
-spawnWorker();
+const webEnv = { ...env, NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --max-old-space-size=${webHeapMb}`.trim() };
+const web = superviseChild({
+  name: "web app", log, baseDelayMs: 1000,
+  start: () => startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", host, "-p", String(port)], webEnv),
+  onStart: (child, n) => { if (n > 1) log(`web app restarted (pid ${child.pid})`); },
+});
+const worker = superviseChild({
+  name: "worker", log, baseDelayMs: 2000,
+  start: () => startChild("worker", process.execPath, ["--import", "tsx", "worker/index.ts"], env),
+});
 
 await waitForHttp(`http://${host === "0.0.0.0" ? "127.0.0.1" : host}:${port}/api/health`, 120_000).catch((e) => {
   log(e.message);
@@ -68,13 +68,14 @@ log(`Burstwise is at ${url}`);
 log("Demo sign-ins (demo credentials, password sentinel-demo):");
 log("  owner@sentinel.example · modeler@sentinel.example · reviewer@sentinel.example");
 if (mail) log(`E-mail goes to the local mail fake (127.0.0.1:${mail.env.SMTP_URL.split(":").pop()}); read it at ${url}/dev/mail`);
+log(`web app pid ${web.child.pid}, worker pid ${worker.child.pid}; each is restarted if it exits`);
 log("Ctrl-C stops the app, the worker, the mail fake and the local PostgreSQL.");
 
 async function shutdown(code = 0) {
   if (stopping) return;
   stopping = true;
   log("shutting down");
-  await Promise.all([stopChild(web), stopChild(worker, 20_000), stopChild(mail?.child)]);
+  await Promise.all([web.stop((c) => stopChild(c)), worker.stop((c) => stopChild(c, 20_000)), stopChild(mail?.child)]);
   if (startedPg) stopLocalCluster();
   process.exit(code);
 }

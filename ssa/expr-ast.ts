@@ -15,6 +15,16 @@ export type Expr =
 
 export type ExprFunction = "exp" | "log" | "sqrt" | "min" | "max" | "pow";
 
+/**
+ * Bounds of one rate formula, for typed formulas and for those the SBML import builds by
+ * expanding function definitions and rules. They keep parsing, checking and the engine's per-event
+ * evaluation cheap, and keep the recursive walks over a formula (here, ssa/expr.ts, ssa/sbml-math.ts)
+ * far from the stack limit: a formula is at most `maxChars` long, has at most `maxNodes` nodes
+ * (numbers, symbols, operators, calls) and nests at most `maxDepth` deep (parentheses at most
+ * `maxParens` deep in the text, checked before the parser's own recursion sees them).
+ */
+export const FORMULA_LIMITS = { maxChars: 4000, maxNodes: 2000, maxDepth: 200, maxParens: 100 } as const;
+
 /** Species ids referenced by an expression, in order of first appearance. */
 export function expressionSpecies(expr: Expr, out: string[] = []): string[] {
   switch (expr.kind) {

@@ -6,7 +6,7 @@
  */
 import { parse } from "mathjs/number";
 
-import type { Expr, ExprFunction } from "./expr-ast";
+import { FORMULA_LIMITS, type Expr, type ExprFunction } from "./expr-ast";
 
 export * from "./expr-ast";
 
@@ -51,24 +51,47 @@ class ExprReject extends Error {}
 /** Parses and checks a rate expression; the reason of a failure is a phrase for `<field>: <reason>`. */
 export function parseExpression(text: string, scope: ExprScope): ParseResult {
   if (typeof text !== "string" || text.trim() === "") return { ok: false, reason: "must be a non-empty formula" };
-  if (text.length > 4000) return { ok: false, reason: "formula longer than 4000 characters" };
+  if (text.length > FORMULA_LIMITS.maxChars) return { ok: false, reason: `formula longer than ${FORMULA_LIMITS.maxChars} characters` };
+  if (parenthesisDepth(text) > FORMULA_LIMITS.maxParens) {
+    return { ok: false, reason: `formula has parentheses nested more than ${FORMULA_LIMITS.maxParens} deep` };
+  }
   let node: MathNode;
   try {
     node = parse(text) as unknown as MathNode;
   } catch (e) {
+    // The parser recurses per operator; a stack overflow is a formula nested too deeply, not a fault.
+    if (e instanceof RangeError) return { ok: false, reason: `formula nested more than ${FORMULA_LIMITS.maxDepth} deep` };
     const msg = e instanceof Error ? e.message : String(e);
     return { ok: false, reason: `cannot parse formula (${msg})` };
   }
   try {
-    return { ok: true, expr: convert(node, scope, 0) };
+    const budget = { nodes: 0 };
+    return { ok: true, expr: convert(node, scope, 0, budget) };
   } catch (e) {
     if (e instanceof ExprReject) return { ok: false, reason: e.message };
     throw e;
   }
 }
 
-function convert(node: MathNode, scope: ExprScope, depth: number): Expr {
-  if (depth > 200) throw new ExprReject("formula nested too deeply");
+/** Deepest nesting of ( [ { in a formula's text. */
+function parenthesisDepth(text: string): number {
+  let depth = 0;
+  let max = 0;
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (c === 40 || c === 91 || c === 123) max = Math.max(max, ++depth);
+    else if (c === 41 || c === 93 || c === 125) depth = Math.max(0, depth - 1);
+  }
+  return max;
+}
+
+function convert(node: MathNode, scope: ExprScope, depth: number, budget: { nodes: number }): Expr {
+  if (depth > FORMULA_LIMITS.maxDepth) throw new ExprReject(`formula nested more than ${FORMULA_LIMITS.maxDepth} deep`);
+  // Parentheses are no node of ours (their nesting is bounded in the text); everything else counts.
+  if (node.type !== "ParenthesisNode" && ++budget.nodes > FORMULA_LIMITS.maxNodes) {
+    throw new ExprReject(`formula has more than ${FORMULA_LIMITS.maxNodes} terms (numbers, symbols, operators and calls)`);
+  }
+  const go = (n: MathNode) => convert(n, scope, depth + 1, budget);
   switch (node.type) {
     case "ConstantNode": {
       if (typeof node.value !== "number" || !Number.isFinite(node.value)) {
@@ -83,16 +106,16 @@ function convert(node: MathNode, scope: ExprScope, depth: number): Expr {
       throw new ExprReject(`unknown symbol "${id}" (not a species or parameter)`);
     }
     case "ParenthesisNode":
-      return convert(node.content as MathNode, scope, depth + 1);
+      return convert(node.content as MathNode, scope, depth, budget);
     case "OperatorNode": {
       const fn = typeof node.fn === "string" ? node.fn : "";
       const [first, second, ...rest] = node.args ?? [];
       if (node.implicit) throw new ExprReject(`implicit multiplication is not allowed; write "*"`);
-      if (fn === "unaryMinus" && first && !second) return { kind: "neg", arg: convert(first, scope, depth + 1) };
-      if (fn === "unaryPlus" && first && !second) return convert(first, scope, depth + 1);
+      if (fn === "unaryMinus" && first && !second) return { kind: "neg", arg: go(first) };
+      if (fn === "unaryPlus" && first && !second) return go(first);
       const op = BINARY_OPS[fn];
       if (op && first && second && rest.length === 0) {
-        return { kind: "bin", op, left: convert(first, scope, depth + 1), right: convert(second, scope, depth + 1) };
+        return { kind: "bin", op, left: go(first), right: go(second) };
       }
       throw new ExprReject(`operator "${node.op}" is not allowed (only + - * / ^)`);
     }
@@ -107,7 +130,7 @@ function convert(node: MathNode, scope: ExprScope, depth: number): Expr {
       if (args.length < lo || args.length > hi) {
         throw new ExprReject(`${fn}() takes ${lo === hi ? lo : `${lo} to ${hi}`} argument${hi === 1 ? "" : "s"}, got ${args.length}`);
       }
-      return { kind: "call", fn, args: args.map((a) => convert(a, scope, depth + 1)) };
+      return { kind: "call", fn, args: args.map(go) };
     }
     default:
       throw new ExprReject(`${describeNode(node.type)} is not allowed in a rate formula`);

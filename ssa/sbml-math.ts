@@ -4,7 +4,7 @@
  * (ssa/expr.ts) into MathML text. Formulas are printed for the circuit's `expression` law and
  * re-parsed by ssa/expr.ts there, so user text only ever travels as data. Pure: no I/O.
  */
-import type { Expr } from "./expr";
+import { FORMULA_LIMITS, type Expr } from "./expr-ast";
 
 /** A node of fast-xml-parser's `preserveOrder` output: { tag: children, ":@"?: attributes }. */
 export type XmlNode = Record<string, unknown>;
@@ -62,6 +62,40 @@ const OPERATORS = new Set([
   "arcsin", "arccos", "arctan", "arcsec", "arccsc", "arccot", "arcsinh", "arccosh", "arctanh", "arcsech", "arccsch", "arccoth",
 ]);
 
+/**
+ * How deep MathML may nest. No kinetic law comes near it; the bound keeps the recursive readers
+ * and printers here far from the stack limit, and the printed formula within FORMULA_LIMITS.
+ */
+export const MAX_MATHML_DEPTH = 100;
+
+/**
+ * Bounds of expanding MathML into formulas, where function definitions and assignment rules are
+ * inlined: each formula as FORMULA_LIMITS (the `expression` law could not hold a larger one anyway),
+ * and `maxSteps` nodes translated for the whole model, so that no file makes the import do work
+ * out of proportion to its size (a chain of definitions each calling the previous one twice
+ * doubles the formula at every link).
+ */
+export const EXPANSION_LIMITS = { maxNodes: FORMULA_LIMITS.maxNodes, maxDepth: FORMULA_LIMITS.maxDepth, maxSteps: 2_000_000 } as const;
+
+/** A formula that grows past EXPANSION_LIMITS, or an import past its time budget. */
+export class ExpansionError extends MathError {
+  /** The function definition whose expansion was too large, once known. */
+  fn?: string;
+  constructor(message: string, readonly kind: "size" | "budget") {
+    super(message);
+    this.name = "ExpansionError";
+  }
+}
+
+/** Work shared by every translation of one import: steps taken, and a time check from the caller. */
+export interface ExpansionBudget {
+  steps: number;
+  /** True once the caller's time budget is spent (ssa/ has no clock of its own). */
+  overTime?: () => boolean;
+  /** What overTime's budget was, for the message (e.g. "10 s"). */
+  timeBudget?: string;
+}
+
 /** Parses the single content child of a <math> element. */
 export function readMath(math: XmlNode): MathAst {
   const kids = elements(math);
@@ -97,7 +131,7 @@ function readNumber(node: XmlNode): number {
 }
 
 function readNode(node: XmlNode, depth: number): MathAst {
-  if (depth > 200) throw new MathError("formula nested too deeply");
+  if (depth > MAX_MATHML_DEPTH) throw new MathError(`MathML nested more than ${MAX_MATHML_DEPTH} deep`);
   const tag = tagOf(node);
   switch (tag) {
     case "cn":
@@ -206,6 +240,104 @@ export interface TranslateContext {
   symbol: SymbolMap;
   /** Function definitions by id. */
   functions: ReadonlyMap<string, { params: string[]; body: MathAst }>;
+  /** Shared work budget of the import (none: only the per-formula bounds apply). */
+  budget?: ExpansionBudget;
+}
+
+/**
+ * Size (nodes) and depth of formulas as printed, i.e. with shared subtrees counted at every use.
+ * Translation shares the formula of a function argument among all its uses, so a small tree of
+ * objects can stand for an enormous printed formula; this measures the latter in O(1) per new node.
+ */
+const measured = new WeakMap<Formula, { size: number; depth: number }>();
+
+export function measureFormula(f: Formula): { size: number; depth: number } {
+  const known = measured.get(f);
+  if (known) return known;
+  let size = 1;
+  let depth = 0;
+  const add = (c: Formula) => {
+    const m = measureFormula(c);
+    size += m.size;
+    depth = Math.max(depth, m.depth);
+  };
+  if (f.k === "neg") add(f.a);
+  else if (f.k === "bin") {
+    add(f.a);
+    add(f.b);
+  } else if (f.k === "fn") f.args.forEach(add);
+  const m = { size, depth: depth + 1 };
+  measured.set(f, m);
+  return m;
+}
+
+/** @throws ExpansionError when a formula is larger or deeper than EXPANSION_LIMITS. */
+function checkSize(f: Formula): Formula {
+  const m = measureFormula(f);
+  if (m.size > EXPANSION_LIMITS.maxNodes) throw new ExpansionError(`expands to more than ${EXPANSION_LIMITS.maxNodes} nodes`, "size");
+  if (m.depth > EXPANSION_LIMITS.maxDepth) throw new ExpansionError(`expands to a formula nested more than ${EXPANSION_LIMITS.maxDepth} deep`, "size");
+  return f;
+}
+
+/** Counts one step against the import's budget. @throws ExpansionError once it is spent. */
+function spendStep(budget: ExpansionBudget | undefined): void {
+  if (!budget) return;
+  budget.steps += 1;
+  if (budget.steps > EXPANSION_LIMITS.maxSteps) {
+    throw new ExpansionError(`the model's formulas expand to more than ${EXPANSION_LIMITS.maxSteps} nodes in all`, "budget");
+  }
+  // The clock is read every 1024 steps: cheap, and a step is well under a microsecond.
+  if ((budget.steps & 1023) === 0 && budget.overTime?.()) {
+    throw new ExpansionError(`the import took longer than ${budget.timeBudget ?? "its time budget"}`, "budget");
+  }
+}
+
+/**
+ * Size and depth a function definition's body expands to with every argument a single node: a
+ * lower bound of any use, so a definition past EXPANSION_LIMITS can be refused by name before use.
+ * @throws MathError for a definition that calls itself, directly or through others.
+ */
+export function measureDefinitions(functions: ReadonlyMap<string, { params: string[]; body: MathAst }>): Map<string, { size: number; depth: number }> {
+  const out = new Map<string, { size: number; depth: number }>();
+  const active: string[] = [];
+  const ofDefinition = (id: string): { size: number; depth: number } => {
+    const known = out.get(id);
+    if (known) return known;
+    if (active.includes(id)) {
+      const cycle = [...active.slice(active.indexOf(id)), id].map((x) => `"${x}"`).join(" → ");
+      throw new MathError(`function definitions call themselves (${cycle}); recursion is not allowed`);
+    }
+    active.push(id);
+    const m = ofAst((functions.get(id) as { body: MathAst }).body);
+    active.pop();
+    out.set(id, m);
+    return m;
+  };
+  const ofAst = (a: MathAst): { size: number; depth: number } => {
+    const parts: MathAst[] = [];
+    let self = { size: 1, depth: 0 };
+    if (a.t === "apply") {
+      parts.push(...a.args);
+      if (a.degree) parts.push(a.degree);
+      if (a.logbase) parts.push(a.logbase);
+    } else if (a.t === "call") {
+      parts.push(...a.args);
+      if (functions.has(a.fn)) self = ofDefinition(a.fn);
+    } else if (a.t === "piecewise") {
+      for (const p of a.pieces) parts.push(p.value, p.cond);
+      if (a.otherwise) parts.push(a.otherwise);
+    } else if (a.t === "lambda") parts.push(a.body);
+    let size = self.size;
+    let depth = self.depth;
+    for (const p of parts) {
+      const m = ofAst(p);
+      size += m.size;
+      depth = Math.max(depth, m.depth);
+    }
+    return { size, depth: depth + 1 };
+  };
+  for (const id of functions.keys()) ofDefinition(id);
+  return out;
 }
 
 /**
@@ -216,6 +348,11 @@ export interface TranslateContext {
  */
 export function translate(ast: MathAst, ctx: TranslateContext, depth = 0): Formula {
   if (depth > 500) throw new MathError("formula nested too deeply (recursive function definitions?)");
+  spendStep(ctx.budget);
+  return checkSize(translateNode(ast, ctx, depth));
+}
+
+function translateNode(ast: MathAst, ctx: TranslateContext, depth: number): Formula {
   const go = (a: MathAst) => translate(a, ctx, depth + 1);
   switch (ast.t) {
     case "num":
@@ -246,13 +383,23 @@ export function translate(ast: MathAst, ctx: TranslateContext, depth = 0): Formu
       // Inside a function body only its own arguments are visible (SBML lambda semantics).
       const inner: TranslateContext = {
         functions: ctx.functions,
+        budget: ctx.budget,
         symbol: (id) => {
           const v = bound.get(id);
           if (!v) throw new MathError(`function "${ast.fn}" uses "${id}", which is not one of its arguments`);
           return v;
         },
       };
-      return translate(def.body, inner, depth + 1);
+      try {
+        return translate(def.body, inner, depth + 1);
+      } catch (e) {
+        // Name the innermost definition whose expansion grew too large.
+        if (e instanceof ExpansionError && e.kind === "size" && e.fn === undefined) {
+          e.fn = ast.fn;
+          e.message = `function "${ast.fn}" ${e.message}`;
+        }
+        throw e;
+      }
     }
     case "apply":
       return translateApply(ast, go);

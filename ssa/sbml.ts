@@ -20,10 +20,11 @@ import { parse as parseMath } from "mathjs";
 
 import { AVOGADRO, compileModel } from "./model";
 import {
-  attrsOf, bin, childrenOf, evaluateFormula, MathError, mathSymbols, num, printFormula, readMath, substitute, sym, tagOf, textOf, translate,
-  type Formula, type MathAst, type TranslateContext, type XmlNode,
+  attrsOf, bin, childrenOf, evaluateFormula, EXPANSION_LIMITS, MAX_MATHML_DEPTH, MathError, mathSymbols, measureDefinitions, num, printFormula,
+  readMath, substitute, sym, tagOf, textOf, translate,
+  type ExpansionBudget, type Formula, type MathAst, type TranslateContext, type XmlNode,
 } from "./sbml-math";
-import { CIRCUIT_FORMAT, type AmountUnit, type Circuit, type ParameterInfo, type RateLaw, type Reaction, type TimeUnit } from "./types";
+import { CIRCUIT_FORMAT, isReservedId, reservedIdReason, type AmountUnit, type Circuit, type ParameterInfo, type RateLaw, type Reaction, type TimeUnit } from "./types";
 
 /** Bad or unsupported SBML. The message starts with `sbml:` and names the element. */
 export class SbmlError extends Error {
@@ -39,6 +40,12 @@ export interface SbmlImportOptions {
    * the same rates as the MathML (default true). False reads the MathML alone.
    */
   useAnnotations?: boolean;
+  /**
+   * A time budget for the import, with the caller's clock (ssa/ reads none): past `ms`
+   * milliseconds of `now()` the import stops with an SbmlError. The per-formula and per-model
+   * bounds (EXPANSION_LIMITS) hold without it.
+   */
+  timeBudget?: { ms: number; now: () => number };
 }
 
 export interface SbmlImport {
@@ -56,6 +63,11 @@ export function isSbmlText(text: string): boolean {
 }
 
 const MAX_XML_CHARS = 50_000_000;
+/**
+ * How deep elements may nest: MathML's own bound plus the SBML elements around a formula, with room
+ * for annotations and notes. The XML parser's default (100) would fail on a plain error instead.
+ */
+const MAX_XML_DEPTH = MAX_MATHML_DEPTH + 60;
 /** Local name of the element circuitToSbml puts in each reaction's <annotation>. */
 export const RATE_ANNOTATION = "burstwiseRateLaw";
 export const RATE_ANNOTATION_NS = "urn:burstwise:sbml:rate-law:1";
@@ -76,7 +88,7 @@ export function sbmlToCircuit(xml: string, options: SbmlImportOptions = {}): Sbm
 function parseDocument(xml: string): XmlNode {
   if (typeof xml !== "string") throw new SbmlError("sbml: expected XML text");
   if (xml.length > MAX_XML_CHARS) throw new SbmlError(`sbml: file larger than ${MAX_XML_CHARS} characters`);
-  if (/<!ENTITY/i.test(xml)) throw new SbmlError("sbml: entity declarations (<!ENTITY>) are not allowed");
+  rejectDeclarations(xml);
   const valid = XMLValidator.validate(xml);
   if (valid !== true) {
     const e = valid.err;
@@ -90,15 +102,48 @@ function parseDocument(xml: string): XmlNode {
     parseAttributeValue: false,
     trimValues: true,
     removeNSPrefix: true,
+    // Only the five predefined entities can occur: declarations are refused above.
     processEntities: true,
     htmlEntities: false,
+    maxNestedTags: MAX_XML_DEPTH,
   });
-  const doc = parser.parse(xml) as XmlNode[];
+  let doc: XmlNode[];
+  try {
+    doc = parser.parse(xml) as XmlNode[];
+  } catch (e) {
+    const msg = e instanceof Error ? e.message : String(e);
+    if (/nested/i.test(msg)) throw new SbmlError(`sbml: elements nested more than ${MAX_XML_DEPTH} deep`);
+    throw new SbmlError(`sbml: cannot read the XML (${msg})`);
+  }
   const elementsTop = doc.filter((n) => !tagOf(n).startsWith("?") && tagOf(n) !== "#comment" && tagOf(n) !== "#text");
   const root = elementsTop[0];
   if (!root) throw new SbmlError("sbml: the document is empty");
   if (tagOf(root) !== "sbml") throw new SbmlError(`sbml: the root element is <${tagOf(root)}>, not <sbml>`);
   return root;
+}
+
+/**
+ * Refuses document type declarations and everything inside them (<!DOCTYPE>, <!ENTITY>, <!ELEMENT>,
+ * however they are spaced or split over lines): SBML needs none, and entity definitions are how a
+ * small file expands into a huge one. Comments and CDATA sections are skipped, not refused.
+ */
+function rejectDeclarations(xml: string): void {
+  let i = xml.indexOf("<!");
+  while (i >= 0) {
+    if (xml.startsWith("<!--", i)) {
+      const end = xml.indexOf("-->", i + 4);
+      if (end < 0) return; // unterminated: the validator names it
+      i = xml.indexOf("<!", end + 3);
+    } else if (xml.startsWith("<![CDATA[", i)) {
+      const end = xml.indexOf("]]>", i + 9);
+      if (end < 0) return;
+      i = xml.indexOf("<!", end + 3);
+    } else {
+      const line = xml.slice(0, i).split("\n").length;
+      const word = /^<!\s*([A-Za-z]*)/.exec(xml.slice(i, i + 40))?.[1]?.toUpperCase() || "…";
+      throw new SbmlError(`sbml: line ${line}: <!${word}> declarations are not allowed (SBML needs no DOCTYPE or entity declarations)`);
+    }
+  }
 }
 
 const elems = (n: XmlNode | undefined, tag?: string): XmlNode[] =>
@@ -210,7 +255,29 @@ class SbmlReader {
   private perSubstance = 1;
   private concentrationMapping = false;
 
-  constructor(private readonly root: XmlNode, private readonly options: SbmlImportOptions) {}
+  /** Work of every formula translation of this import (EXPANSION_LIMITS, the caller's time budget). */
+  private readonly budget: ExpansionBudget;
+  /** Initial values already worked out (a chain of assignments must not be evaluated once per path). */
+  private initialValues = new Map<string, number>();
+
+  constructor(private readonly root: XmlNode, private readonly options: SbmlImportOptions) {
+    const tb = options.timeBudget;
+    const start = tb?.now();
+    this.budget = {
+      steps: 0,
+      ...(tb ? { overTime: () => tb.now() - (start as number) > tb.ms, timeBudget: `${tb.ms / 1000} s` } : {}),
+    };
+  }
+
+  /** @throws SbmlError once the caller's time budget is spent (checked between elements too). */
+  private checkTime(where: string): void {
+    if (this.budget.overTime?.()) throw new SbmlError(`sbml: ${where}: the import took longer than ${this.budget.timeBudget}; the model is too large`);
+  }
+
+  /** @throws SbmlError for an id the circuit cannot use (RESERVED_IDS). */
+  private checkId(kind: string, id: string): void {
+    if (isReservedId(id)) throw new SbmlError(`sbml: ${kind} "${id}": ${reservedIdReason(id)}`);
+  }
 
   read(): SbmlImport {
     const a = attrsOf(this.root);
@@ -230,7 +297,11 @@ class SbmlReader {
     this.readParameters();
     this.readRules();
     this.readInitialAssignments();
-    for (const r of listOf(model, "listOfReactions", "reaction")) this.reactionIds.add(attrsOf(r).id ?? "");
+    for (const r of listOf(model, "listOfReactions", "reaction")) {
+      const rid = attrsOf(r).id ?? "";
+      this.checkId("reaction", rid);
+      this.reactionIds.add(rid);
+    }
     for (const id of [...this.species.keys(), ...this.globalParams.keys(), ...this.compartments.keys(), ...this.reactionIds]) {
       this.usedIds.add(id);
     }
@@ -332,6 +403,18 @@ class SbmlReader {
       if (ast.t !== "lambda") throw new SbmlError(`sbml: functionDefinition "${id}": <math> must hold a <lambda>`);
       this.functions.set(id, { params: ast.params, body: ast.body });
     }
+    // Refuse by name a definition no use could expand within bounds (each doubling of a chain of
+    // definitions doubles the formula), before any kinetic law asks for it.
+    let sizes: Map<string, { size: number; depth: number }>;
+    try {
+      sizes = measureDefinitions(this.functions);
+    } catch (e) {
+      throw this.mathError("listOfFunctionDefinitions", e);
+    }
+    for (const [id, m] of sizes) {
+      if (m.size > EXPANSION_LIMITS.maxNodes) throw new SbmlError(`sbml: functionDefinition "${id}": expands to more than ${EXPANSION_LIMITS.maxNodes} nodes`);
+      if (m.depth > EXPANSION_LIMITS.maxDepth) throw new SbmlError(`sbml: functionDefinition "${id}": expands to a formula nested more than ${EXPANSION_LIMITS.maxDepth} deep`);
+    }
   }
 
   private readCompartments(): void {
@@ -340,6 +423,7 @@ class SbmlReader {
       const a = attrsOf(c);
       const id = a.id;
       if (!id) throw new SbmlError("sbml: a <compartment> has no id");
+      this.checkId("compartment", id);
       const size = a.size !== undefined ? parseNumberAttr(a.size, `compartment "${id}" size`) : undefined;
       const dims = a.spatialDimensions === undefined ? 3 : Number(a.spatialDimensions);
       const units = a.units ? this.resolveUnit(a.units) : dims === 3 ? modelVolume : undefined;
@@ -352,6 +436,7 @@ class SbmlReader {
       const a = attrsOf(s);
       const id = a.id;
       if (!id) throw new SbmlError("sbml: a <species> has no id");
+      this.checkId("species", id);
       if (!a.compartment || !this.compartments.has(a.compartment)) {
         throw new SbmlError(`sbml: species "${id}": unknown compartment "${a.compartment ?? ""}"`);
       }
@@ -377,6 +462,7 @@ class SbmlReader {
       const a = attrsOf(p);
       const id = a.id;
       if (!id) throw new SbmlError("sbml: a <parameter> has no id");
+      this.checkId("parameter", id);
       this.globalParams.set(id, {
         value: a.value !== undefined ? parseNumberAttr(a.value, `parameter "${id}" value`) : undefined,
         constant: a.constant !== "false",
@@ -434,11 +520,19 @@ class SbmlReader {
    * hasOnlySubstanceUnits, compartments as size.
    */
   private initialValue(id: string, seen = new Set<string>()): number {
+    const known = this.initialValues.get(id);
+    if (known !== undefined) return known;
+    const v = this.computeInitialValue(id, seen);
+    this.initialValues.set(id, v);
+    return v;
+  }
+
+  private computeInitialValue(id: string, seen: Set<string>): number {
     if (seen.has(id)) throw new SbmlError(`sbml: initial value of "${id}" depends on itself`);
     seen.add(id);
     const math = this.initialAssignments.get(id) ?? this.assignmentRules.get(id);
     if (math) {
-      const ctx: TranslateContext = { functions: this.functions, symbol: (s) => sym(s) };
+      const ctx: TranslateContext = { functions: this.functions, budget: this.budget, symbol: (s) => sym(s) };
       let f: Formula;
       try {
         f = translate(math, ctx);
@@ -603,7 +697,7 @@ class SbmlReader {
     if (rule) {
       if (seen.has(id)) throw new MathError(`assignment rules for "${id}" refer to each other in a cycle`);
       const next = new Set(seen).add(id);
-      return translate(rule, { functions: this.functions, symbol: (s) => this.symbolFormula(s, new Map(), next) });
+      return translate(rule, { functions: this.functions, budget: this.budget, symbol: (s) => this.symbolFormula(s, new Map(), next) });
     }
     const s = this.species.get(id);
     if (s) {
@@ -644,6 +738,7 @@ class SbmlReader {
       const rid = a.id;
       if (!rid) throw new SbmlError("sbml: a <reaction> has no id");
       const where = `reaction "${rid}"`;
+      this.checkTime(where);
       const reactants = this.stoichiometry(r, "listOfReactants", where);
       const products = this.stoichiometry(r, "listOfProducts", where);
       if (Object.keys(reactants).length === 0 && Object.keys(products).length === 0) {
@@ -659,6 +754,7 @@ class SbmlReader {
         const la = attrsOf(lp);
         if (!la.id) throw new SbmlError(`sbml: ${where} kineticLaw: a local parameter has no id`);
         if (la.value === undefined) throw new SbmlError(`sbml: ${where} kineticLaw: local parameter "${la.id}" has no value`);
+        this.checkId(`${where} kineticLaw: local parameter`, la.id);
         const value = parseNumberAttr(la.value, `${where} local parameter "${la.id}" value`);
         const id = this.freshId(`${rid}_${la.id}`);
         this.params.set(id, value);
@@ -687,7 +783,7 @@ class SbmlReader {
       for (const [id, partAst, re, pr] of parts) {
         let formula: Formula;
         try {
-          const body = translate(partAst, { functions: this.functions, symbol: (s) => this.symbolFormula(s, locals, new Set()) });
+          const body = translate(partAst, { functions: this.functions, budget: this.budget, symbol: (s) => this.symbolFormula(s, locals, new Set()) });
           formula = this.toRate(partAst, body);
         } catch (e) {
           throw this.mathError(`${where} kineticLaw`, e);

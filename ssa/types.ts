@@ -1,6 +1,6 @@
 /**
  * Types of the circuit file `burstwise.circuit/1` (CONTRACT.md §1). Pure types, no runtime code
- * apart from the error class the engine throws for bad arguments.
+ * apart from the error class the engine throws for bad arguments and the reserved ids.
  * The zod schema that produces these values is lib/schemas/circuit.ts.
  */
 
@@ -76,6 +76,25 @@ export interface ParameterInfo {
   unit?: string;
   note?: string;
 }
+
+/**
+ * Names no species, parameter, reaction or compartment may take: the properties every plain
+ * JavaScript object has (Object.prototype's, written out so the list does not depend on the
+ * runtime), plus `prototype`. Circuits are handled as objects keyed by these ids (parameters,
+ * stoichiometries, results), where `__proto__` would vanish or `constructor` read as a function.
+ */
+export const RESERVED_IDS: ReadonlySet<string> = new Set([
+  "__proto__", "constructor", "prototype", "hasOwnProperty", "isPrototypeOf", "propertyIsEnumerable",
+  "toString", "toLocaleString", "valueOf", "__defineGetter__", "__defineSetter__", "__lookupGetter__", "__lookupSetter__",
+]);
+
+/** True for an id in RESERVED_IDS. */
+export function isReservedId(id: string): boolean {
+  return RESERVED_IDS.has(id);
+}
+
+/** The reason given for a reserved id, after `<field>: `. */
+export const reservedIdReason = (id: string): string => `"${id}" is a reserved name (a property of every JavaScript object); choose another`;
 
 /**
  * Thrown by ssa/ entry points for bad input that passed the schema (e.g. an override of an

@@ -6,7 +6,7 @@ import { isSbmlText, SbmlError, sbmlToCircuit } from "@/ssa/sbml";
 import { circuitToSbml } from "@/ssa/sbml-export";
 import type { Circuit } from "@/ssa/types";
 
-import { CliError, parseFlags, type Command } from "../common";
+import { CliError, parseFlags, SBML_IMPORT_BUDGET_MS, type Command } from "../common";
 
 export const command: Command = {
   summary: "write a circuit as SBML Level 3 Version 2, or an SBML file as a circuit file",
@@ -62,7 +62,7 @@ export function loadCircuitFile(path: string | undefined): Circuit {
   }
   try {
     if (isSbmlText(text)) {
-      const imported = sbmlToCircuit(text);
+      const imported = sbmlToCircuit(text, { timeBudget: { ms: SBML_IMPORT_BUDGET_MS, now: () => performance.now() } });
       for (const w of imported.warnings) process.stderr.write(`warning: ${w}\n`);
       return parseCircuit(imported.circuit);
     }

@@ -9,7 +9,7 @@ import { z } from "zod";
 
 import { describeIssue as describeAnyIssue, formatPath } from "@/lib/schemas/common";
 import type { ExprScope, ParseResult } from "@/ssa/expr";
-import { CIRCUIT_FORMAT, MAX_TAU_EPSILON, type Circuit } from "@/ssa/types";
+import { CIRCUIT_FORMAT, isReservedId, MAX_TAU_EPSILON, reservedIdReason, type Circuit } from "@/ssa/types";
 
 /** Parses and checks one rate formula (ssa/expr.ts parseExpression). */
 export type FormulaChecker = (text: string, scope: ExprScope) => ParseResult;
@@ -50,7 +50,8 @@ const identifier = (what: string) =>
   z
     .string({ error: required(`a ${what} id (a string)`) })
     .regex(IDENTIFIER, `must be a valid identifier (letters, digits and _, not starting with a digit)`)
-    .max(128, "must be at most 128 characters");
+    .max(128, "must be at most 128 characters")
+    .refine((id) => !isReservedId(id), { error: (iss) => reservedIdReason(String(iss.input)) });
 
 const NumberOrParam = z.union([finiteNumber(), z.string().min(1, "must be a number or a parameter name")], {
   error: required("a number or a parameter name"),
@@ -165,6 +166,7 @@ export function circuitSemanticIssuesWith(c: z.infer<typeof CircuitShape>, parse
   const params = c.parameters ?? {};
   for (const name of Object.keys(params)) {
     if (!IDENTIFIER.test(name)) add(["parameters", name], "must be a valid identifier (letters, digits and _, not starting with a digit)");
+    else if (isReservedId(name)) add(["parameters", name], reservedIdReason(name));
     else if (speciesIds.has(name)) add(["parameters", name], `name already used by species "${name}"`);
   }
   const isParameter = (id: string) => Object.prototype.hasOwnProperty.call(params, id) && !speciesIds.has(id);
@@ -218,11 +220,36 @@ export function circuitSemanticIssuesWith(c: z.infer<typeof CircuitShape>, parse
   return issues;
 }
 
+/**
+ * Reserved names in a decoded document, in document order: keys named `__proto__` anywhere
+ * (JSON.parse keeps them as own keys, but zod builds its output by assignment, where such a key
+ * silently vanishes: a parameter dropped, a stoichiometry emptied), so they are found on the raw
+ * input before zod sees it; and `id` fields holding a reserved name, so that a species named
+ * `__proto__` is reported at its id rather than where a reaction uses it.
+ */
+export function reservedNameIssues(json: unknown, path: PathKey[] = [], out: Issue[] = []): Issue[] {
+  if (path.length > 8 || json === null || typeof json !== "object") return out;
+  if (Array.isArray(json)) {
+    json.forEach((v, i) => reservedNameIssues(v, [...path, i], out));
+    return out;
+  }
+  for (const [key, value] of Object.entries(json)) {
+    if (key === "__proto__") out.push({ path: [...path, key], message: reservedIdReason(key) });
+    else if (key === "id" && typeof value === "string" && isReservedId(value)) out.push({ path: [...path, key], message: reservedIdReason(value) });
+    else reservedNameIssues(value, [...path, key], out);
+  }
+  return out;
+}
+
 /** The zod schema of a circuit file, structure and cross-references, with a given formula parser. */
 export function makeCircuitSchema(parseExpression: FormulaChecker) {
-  return CircuitShape.superRefine((c, ctx) => {
+  const shape = CircuitShape.superRefine((c, ctx) => {
     for (const i of circuitSemanticIssuesWith(c, parseExpression)) ctx.addIssue({ code: "custom", path: i.path, message: i.message });
   });
+  return z.preprocess((json, ctx) => {
+    for (const i of reservedNameIssues(json)) ctx.addIssue({ code: "custom", path: i.path, message: i.message });
+    return json;
+  }, shape);
 }
 
 /** A checker for documents without formulas; reaching it means hasFormulas was not consulted. */
