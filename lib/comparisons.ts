@@ -10,11 +10,12 @@ import {
 } from "@/lib/data/comparisons";
 import { getVersion, type VersionRow } from "@/lib/data/circuits";
 import type { AuditEventInput } from "@/lib/data/audit";
-import { countActiveRuns, failRun, getRun, getRunSummaryParts } from "@/lib/data/runs";
+import { failRun, getQueuedWork, getRun, getRunSummaryParts, type QueuedWork } from "@/lib/data/runs";
 import { requireVersion } from "@/lib/data/version-access";
-import { conflict, idParam, notFound, tooMany, unprocessable } from "@/lib/http";
+import { conflict, HttpError, idParam, notFound, unprocessable } from "@/lib/http";
 import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
-import { drawSeed, launchedEvent } from "@/lib/runs";
+import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, type RunBudget } from "@/lib/run-budget";
+import { drawSeed, launchCostJson, launchedEvent, type LaunchCost } from "@/lib/runs";
 import { checkOverrides, CircuitError } from "@/lib/schemas/circuit";
 import { COMPARISON_LIMITS, axisValues, sweepDesigns, type ComparisonCreate, type Sweep } from "@/lib/schemas/comparisons";
 import { RUN_LIMITS, type RunSettings } from "@/lib/schemas/runs";
@@ -104,15 +105,9 @@ const labelOf = (v: VersionRow, overrides: Record<string, number>) => {
  * launches it when asked. Every design's overrides are checked against its circuit.
  * @throws 404/403 (lab, role), 422 naming the field (versions, parameters, bounds), 429 (queue).
  */
-export async function createComparison(userId: string, body: ComparisonCreate, actor?: Actor): Promise<{ id: string; designs: number; runs: string[] | null }> {
+export async function createComparison(userId: string, body: ComparisonCreate, actor?: Actor): Promise<{ id: string; designs: number; runs: string[] | null; cost?: LaunchCost }> {
   await requireLabRole(userId, body.lab_id, "comparison:write");
-  // A launch that would be refused is refused before anything is stored, so no draft is left behind.
-  if (body.launch) {
-    await requireLabRole(userId, body.lab_id, "run:launch");
-    if ((await countActiveRuns(body.lab_id)) >= RUN_LIMITS.maxQueuedPerLab) {
-      throw tooMany(`runs: the lab already has ${RUN_LIMITS.maxQueuedPerLab} runs or comparisons queued or running; wait for them or cancel some`);
-    }
-  }
+  if (body.launch) await requireLabRole(userId, body.lab_id, "run:launch");
   const designs: NewDesign[] = [];
   if (body.designs) {
     for (const [i, d] of body.designs.entries()) {
@@ -159,42 +154,79 @@ export async function createComparison(userId: string, body: ComparisonCreate, a
   }
   const s = body.settings;
   const kind = body.designs ? "designs" : "sweep";
+  // A launch that would be refused is refused before anything is stored, so no draft is left behind.
+  if (body.launch) {
+    const versions = new Map<string, VersionRow>();
+    for (const d of designs) if (!versions.has(d.versionId)) versions.set(d.versionId, (await getVersion(d.versionId))!);
+    const budget = getRunBudget();
+    const { cost } = comparisonWork(s, designs.map((d) => ({ version: versions.get(d.versionId)!, overrides: d.overrides })), budget);
+    requireQueueRoom(await getQueuedWork(body.lab_id, userId), cost, designs.length, budget, "this comparison");
+  }
   const id = await insertComparison({
     labId: body.lab_id, name: body.name, description: body.description ?? null, kind,
     sweep: body.sweep ?? null,
     settings: { method: s.method, t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}) },
     seed: s.seed ?? drawSeed(), commonSeed: s.common_seed, createdBy: userId,
   }, designs, actor ? (cid) => comparisonEvent(actor, { id: cid, labId: body.lab_id, name: body.name, kind }, "comparison.created", { designs: designs.length }) : undefined);
-  const runs = body.launch ? await launchComparison(userId, id, actor) : null;
-  return { id, designs: designs.length, runs };
+  if (!body.launch) return { id, designs: designs.length, runs: null };
+  try {
+    const { runs, cost } = await launchComparison(userId, id, actor);
+    return { id, designs: designs.length, runs, cost };
+  } catch (e) {
+    // Another launch took the room between the check above and this one: the draft stays, and says so.
+    if (e instanceof HttpError && e.status === 429) throw new HttpError(429, `${e.message}; the comparison was saved as draft #${id}`);
+    throw e;
+  }
+}
+
+/**
+ * Expected cost of a comparison in cell-events: every design's ensemble with the shared settings
+ * (a comparison counts by all its designs); `costs` per design, in order.
+ * @throws 422 naming settings.runs or settings.t_end when it alone is over the budget.
+ */
+function comparisonWork(
+  s: Pick<ComparisonCreate["settings"], "method" | "t_end" | "dt" | "runs">, designs: { version: VersionRow; overrides: Record<string, number> }[], budget: RunBudget,
+): { cost: number; costs: number[] } {
+  const work = designs.map((d) => estimateRunWork(d.version.id, d.version.circuit, { method: s.method, tEnd: s.t_end, dt: s.dt, cells: s.runs, overrides: d.overrides }));
+  const cost = work.reduce((sum, w) => sum + w.cost, 0);
+  // One cell of every design: over the budget alone, only a shorter run helps.
+  const perCell = work.reduce((sum, w) => sum + w.perCell, 0);
+  requireFitsBudget(cost, perCell, budget, { cells: "settings.runs", tEnd: "settings.t_end" }, `this comparison of ${designs.length} designs`);
+  return { cost, costs: work.map((w) => w.cost) };
 }
 
 /**
  * Launches one ensemble per design with the comparison's settings: seed S for every design with
- * common random numbers, else S + position. The comparison counts once toward the lab's queue limit.
- * @throws 404/403, 409 when it is running or finished, 429 when the lab's queue is full.
+ * common random numbers, else S + position. Every design's ensemble is charged against the lab's
+ * and the user's budget of queued work.
+ * @throws 404/403, 409 when it is running or finished, 422 when it alone is over the budget, 429 when the queue has no room for it.
  */
-export async function launchComparison(userId: string, rawId: string, actor?: Actor): Promise<string[]> {
+export async function launchComparison(userId: string, rawId: string, actor?: Actor): Promise<{ runs: string[]; cost: LaunchCost }> {
   const c = await requireComparison(userId, rawId, "run:launch");
   if (!["draft", "failed", "cancelled"].includes(c.status)) throw conflict(`status: the comparison is ${c.status}; only a draft, failed or cancelled one can be launched`);
   const designs = await listDesigns(c.id);
   if (designs.length < COMPARISON_LIMITS.minDesigns) throw conflict(`designs: a comparison needs at least ${COMPARISON_LIMITS.minDesigns} designs`);
-  if ((await countActiveRuns(c.labId)) >= RUN_LIMITS.maxQueuedPerLab) {
-    throw tooMany(`runs: the lab already has ${RUN_LIMITS.maxQueuedPerLab} runs or comparisons queued or running; wait for them or cancel some`);
-  }
   const s = c.settings;
+  const versions = new Map<string, VersionRow>();
+  for (const d of designs) if (!versions.has(d.versionId)) versions.set(d.versionId, (await getVersion(d.versionId))!);
+  const budget = getRunBudget();
+  const { cost, costs } = comparisonWork(s, designs.map((d) => ({ version: versions.get(d.versionId)!, overrides: d.overrides ?? {} })), budget);
   const chunksTotal = Math.ceil(s.runs / RUN_LIMITS.chunkCells);
-  const inserts = designs.map((d) => {
+  const inserts = designs.map((d, i) => {
     const settings: RunSettings = {
       t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}),
       ...(d.overrides && Object.keys(d.overrides).length ? { overrides: d.overrides } : {}), units: "molecules",
       ...(s.method === "tau" ? { tau_epsilon: TAU_EPSILON } : {}),
       max_events_per_cell: RUN_LIMITS.maxEventsPerCell,
     };
-    return { designId: d.id, versionId: d.versionId, method: s.method, settings, seed: c.commonSeed ? c.seed : c.seed + d.position, chunksTotal };
+    return { designId: d.id, versionId: d.versionId, method: s.method, settings, seed: c.commonSeed ? c.seed : c.seed + d.position, chunksTotal, cost: costs[i]! };
   });
+  const seen: { queued?: QueuedWork } = {}; // what the guard saw, for the answer
   // The design runs, comparison.launched and one run.launched per design run commit together.
-  const ids = await insertDesignRuns(c.id, c.labId, userId, ENGINE_VERSION, inserts, actor ? async (runIds, trx) => {
+  const ids = await insertDesignRuns(c.id, c.labId, userId, ENGINE_VERSION, inserts, (queued) => {
+    requireQueueRoom(queued, cost, inserts.length, budget, "this comparison");
+    seen.queued = queued;
+  }, actor ? async (runIds, trx) => {
     if (!runIds) return null;
     const rows = await Promise.all(runIds.map((id) => getRun(id, trx)));
     return [
@@ -213,7 +245,7 @@ export async function launchComparison(userId: string, rawId: string, actor?: Ac
     await endComparison(c.id, "failed", "queue: the design runs could not be queued; launch again");
     throw e;
   }
-  return ids;
+  return { runs: ids, cost: launchCostJson(cost, seen.queued!, budget) };
 }
 
 /** Cancels a running comparison and its unfinished runs. @throws 409 when it is not running. */

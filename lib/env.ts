@@ -31,6 +31,16 @@ const EnvSchema = z.object({
   ENGINE_BUDGET_S: z.coerce.number().min(1).max(600).default(10),
   /** Seconds one cell replay may compute before it is refused. */
   CELL_REPLAY_BUDGET_S: z.coerce.number().min(1).max(600).default(30),
+  /**
+   * Most expected work a lab may have queued or running, in cell-events (cells × (expected events
+   * per cell + grid points); lib/run-budget.ts). 2e9 ≈ a few minutes of every core of a small
+   * server; ten times the demo's queued work.
+   */
+  RUN_BUDGET_LAB: z.coerce.number().positive().finite().default(2e9),
+  /** The same bound per user, summed over every lab the user launched in (labs are free to create). */
+  RUN_BUDGET_USER: z.coerce.number().positive().finite().default(2e9),
+  /** Most runs a lab, and a user, may have queued or running (each design of a comparison counts). */
+  RUN_QUEUE_MAX_RUNS: z.coerce.number().int().min(1).max(100_000).default(100),
 });
 
 export type Env = z.infer<typeof EnvSchema>;

@@ -5,6 +5,8 @@
  * the mean field replaces E[a₀(x)] by a₀(E[x]), exact for zeroth- and first-order reactions and
  * an approximation for Hill and higher-order laws). Pure: no I/O.
  */
+import { RUN_LIMITS } from "@/lib/schemas/runs";
+import { makeGrid } from "@/ssa/grid";
 import { compileModel } from "@/ssa/model";
 import { solveOde } from "@/ssa/ode";
 import type { Circuit } from "@/ssa/types";
@@ -25,6 +27,13 @@ export interface CostInput {
   tEnd: number;
   cells: number;
   overrides?: Record<string, number>;
+  /**
+   * Largest species × reactions for which the mean-field path is integrated; above it the
+   * estimate uses the initial state (the server keeps its own thread free; the browser sets none).
+   */
+  maxOdeSize?: number;
+  /** Most solver steps of that integration (default 200,000); past it, the initial state too. */
+  maxOdeSteps?: number;
 }
 
 export interface CostEstimate {
@@ -58,7 +67,8 @@ export function estimateRunCost(circuit: Circuit, input: CostInput): CostEstimat
   let eventsPerCell: number;
   let basis: CostEstimate["basis"] = "mean-field path";
   try {
-    const sol = solveOde(model, { tEnd: input.tEnd, dt: input.tEnd / MAX_ESTIMATE_POINTS, units: "molecules", maxSteps: 200_000 });
+    if (input.maxOdeSize !== undefined && model.nSpecies * model.nReactions > input.maxOdeSize) throw new RangeError("too large to integrate here");
+    const sol = solveOde(model, { tEnd: input.tEnd, dt: input.tEnd / MAX_ESTIMATE_POINTS, units: "molecules", maxSteps: input.maxOdeSteps ?? 200_000 });
     const x = new Float64Array(model.nSpecies);
     let prev = 0;
     let sum = 0;
@@ -76,4 +86,24 @@ export function estimateRunCost(circuit: Circuit, input: CostInput): CostEstimat
   if (!Number.isFinite(eventsPerCell) || eventsPerCell < 0) eventsPerCell = Number.POSITIVE_INFINITY;
   const totalEvents = eventsPerCell * input.cells;
   return { eventsPerCell, totalEvents, threadSeconds: totalEvents / EVENTS_PER_S_PER_THREAD, basis };
+}
+
+/** Points of the output grid 0, dt, …, t_end (ssa/grid.ts, the same grid a run records). */
+export const countGridPoints = (tEnd: number, dt: number): number => makeGrid(tEnd, dt).length;
+
+/**
+ * What one cell of a run may cost the queue, in cell-events: its expected reaction events, at
+ * most the engine's per-cell cap (a cell past it fails its run, so no cell costs more), plus one
+ * per grid point (recording a sample of every species costs about as much as an event).
+ */
+export function costPerCell(eventsPerCell: number, gridPoints: number): number {
+  const events = Number.isFinite(eventsPerCell) ? Math.min(Math.max(0, eventsPerCell), RUN_LIMITS.maxEventsPerCell) : RUN_LIMITS.maxEventsPerCell;
+  return events + gridPoints;
+}
+
+/** Cell-events in words: 1.23e9 → "1.23 billion". */
+export function formatCellEvents(n: number): string {
+  const units: [number, string][] = [[1e12, "trillion"], [1e9, "billion"], [1e6, "million"], [1e3, "thousand"]];
+  for (const [size, word] of units) if (n >= size) return `${Number((n / size).toPrecision(3))} ${word}`;
+  return String(Math.round(n));
 }

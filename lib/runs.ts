@@ -2,11 +2,12 @@ import { randomInt } from "node:crypto";
 
 import { requireLabRole, type Action } from "@/lib/access";
 import type { AuditEventInput } from "@/lib/data/audit";
-import { countActiveRuns, failRun, getRun, insertRun, type RunRow } from "@/lib/data/runs";
+import { failRun, getRun, insertRun, type QueuedWork, type RunRow } from "@/lib/data/runs";
 import { requireVersion } from "@/lib/data/version-access";
-import { idParam, notFound, tooMany } from "@/lib/http";
+import { idParam, notFound } from "@/lib/http";
 import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
 import { checkOverrides } from "@/lib/schemas/circuit";
+import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, type RunBudget } from "@/lib/run-budget";
 import { RUN_LIMITS, type RunCreate, type RunSettings } from "@/lib/schemas/runs";
 import { TAU_EPSILON } from "@/ssa/types";
 import { ENGINE_VERSION } from "@/ssa/version";
@@ -14,20 +15,29 @@ import { ENGINE_VERSION } from "@/ssa/version";
 /** A fresh seed for a run that names none (printed back, so the run can be repeated). */
 export const drawSeed = (): number => randomInt(1, 2 ** 31);
 
+/** What a launch was charged, and what it left queued (the API's `cost`), in cell-events. */
+export interface LaunchCost { cell_events: number; lab_queued: number; lab_budget: number; user_queued: number; user_budget: number }
+
+/** The `cost` answer of a launch of `cost` that `queued` (before it) let through. */
+export function launchCostJson(cost: number, queued: QueuedWork, budget: RunBudget): LaunchCost {
+  return { cell_events: cost, lab_queued: queued.labCost + cost, lab_budget: budget.lab, user_queued: queued.userCost + cost, user_budget: budget.user };
+}
+
 /**
- * Queues a run: checks the circuit version, role, overrides and the lab's queue limit, stores
- * the run, and sends one job per chunk of cells.
- * @throws 404/403 (version, role), 422 (overrides), 429 (too many runs waiting).
+ * Queues a run: checks the circuit version, role and overrides, charges its expected cost
+ * against the lab's and the user's budget of queued work, stores the run, and sends one job per
+ * chunk of cells.
+ * @throws 404/403 (version, role), 422 (overrides; a run bigger than the budget itself), 429 (the queue is full).
  */
-export async function createRun(userId: string, body: RunCreate, actor?: { id: string; email: string }): Promise<{ id: string; seed: number }> {
+export async function createRun(userId: string, body: RunCreate, actor?: { id: string; email: string }): Promise<{ id: string; seed: number; cost: LaunchCost }> {
   const version = await requireVersion(userId, body.version_id, "lab:read");
   await requireLabRole(userId, version.labId, "run:launch", "version");
   checkOverrides(version.circuit, body.overrides);
-  if ((await countActiveRuns(version.labId)) >= RUN_LIMITS.maxQueuedPerLab) {
-    throw tooMany(`runs: the lab already has ${RUN_LIMITS.maxQueuedPerLab} runs queued or running; wait for them or cancel some`);
-  }
   const kind = body.method === "ode" ? "trace" : "ensemble";
   const cells = kind === "trace" ? 1 : (body.runs ?? 1);
+  const budget = getRunBudget();
+  const { cost, perCell } = estimateRunWork(version.id, version.circuit, { method: body.method, tEnd: body.t_end, dt: body.dt, cells, overrides: body.overrides });
+  requireFitsBudget(cost, perCell, budget, { cells: "runs", tEnd: "t_end" });
   const settings: RunSettings = {
     t_end: body.t_end, dt: body.dt, runs: cells,
     ...(body.burn_in !== undefined ? { burn_in: body.burn_in } : {}),
@@ -39,9 +49,13 @@ export async function createRun(userId: string, body: RunCreate, actor?: { id: s
   const seed = body.seed ?? drawSeed();
   const chunksTotal = Math.ceil(cells / RUN_LIMITS.chunkCells);
   // The run and its run.launched event commit together; the jobs follow (a failure to queue fails the run).
+  const seen: { queued?: QueuedWork } = {}; // what the guard saw, for the answer
   const id = await insertRun({
     labId: version.labId, versionId: version.id, kind, method: body.method, settings, seed, chunksTotal,
-    engineVersion: ENGINE_VERSION, createdBy: userId,
+    engineVersion: ENGINE_VERSION, createdBy: userId, cost,
+  }, (queued) => {
+    requireQueueRoom(queued, cost, 1, budget);
+    seen.queued = queued;
   }, actor ? async (runId, trx) => launchedEvent(actor, (await getRun(runId, trx))!) : undefined);
   const jobs = Array.from({ length: chunksTotal }, (_, chunkIndex) => ({
     data: { runId: id, chunkIndex } satisfies RunChunkJob,
@@ -54,7 +68,7 @@ export async function createRun(userId: string, body: RunCreate, actor?: { id: s
     await failRun(id, "queue: the run could not be queued; try again");
     throw e;
   }
-  return { id, seed };
+  return { id, seed, cost: launchCostJson(cost, seen.queued!, budget) };
 }
 
 /** The `run.launched` event of a run, by `actor` (details name the circuit, version, method, cells and seed). */

@@ -4,6 +4,7 @@ import type { Knex } from "knex";
 
 import { db } from "@/db/client";
 import { audited, type AuditFor } from "@/lib/data/audit";
+import { lockQueuedWork, type QueueGuard } from "@/lib/data/runs";
 import type { RunSettings } from "@/lib/schemas/runs";
 
 export type ComparisonStatus = "draft" | "running" | "succeeded" | "failed" | "cancelled";
@@ -107,17 +108,22 @@ export async function insertComparison(row: {
 
 export interface DesignRunInsert {
   designId: string; versionId: string; method: "ssa" | "tau"; settings: RunSettings; seed: number; chunksTotal: number;
+  /** Expected cost in cell-events (lib/run-budget.ts). */
+  cost: number;
 }
 
 /**
  * Starts a comparison: in one transaction, moves it from draft (or failed/cancelled) to running,
  * stores one queued run per design and points each design at its run. Returns the run ids in
  * design order, or null when the comparison was not in a launchable state (someone else won).
+ * `guard` sees the lab's and the user's queued work first, under their launch locks, and may refuse.
  */
 export async function insertDesignRuns(
-  comparisonId: string, labId: string, createdBy: string, engineVersion: string, runs: DesignRunInsert[], audit?: AuditFor<string[] | null>,
+  comparisonId: string, labId: string, createdBy: string, engineVersion: string, runs: DesignRunInsert[], guard: QueueGuard,
+  audit?: AuditFor<string[] | null>,
 ): Promise<string[] | null> {
   return audited(async (trx) => {
+    guard(await lockQueuedWork(trx, labId, createdBy));
     const claimed = await trx("comparisons").where({ id: comparisonId }).whereIn("status", ["draft", "failed", "cancelled"])
       .update({ status: "running", error: null, results: null, launchedAt: trx.fn.now(), finishedAt: null }).returning(["id"]);
     if (claimed.length === 0) return null;
@@ -125,7 +131,7 @@ export async function insertDesignRuns(
     for (const r of runs) {
       const [run] = await trx("runs").insert({
         labId, versionId: r.versionId, kind: "ensemble", method: r.method, settings: JSON.stringify(r.settings), seed: r.seed,
-        chunksTotal: r.chunksTotal, engineVersion, createdBy,
+        chunksTotal: r.chunksTotal, engineVersion, createdBy, cost: r.cost,
       }).returning(["id"]);
       ids.push(String(run.id));
       await trx("comparison_designs").where({ id: r.designId }).update({ runId: run.id });

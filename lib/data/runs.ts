@@ -53,22 +53,42 @@ export async function listRuns(labId: string, f: { status?: RunStatus; versionId
   return { runs: rows.map(toRun), total: Number(total[0]?.count ?? 0) };
 }
 
+/** Unfinished work of a lab and of a user (lib/run-budget.ts `QueuedWork`). */
+export interface QueuedWork { labCost: number; labRuns: number; userCost: number; userRuns: number }
+
 /**
- * What counts toward the lab's queue limit: queued or running runs, where the design runs of one
- * comparison count once together (a comparison of up to 24 designs is one launch).
+ * The lab's and the user's queued or running runs: how many, and their cost still to do (the
+ * share of chunks not done yet), in cell-events. Every design run of a comparison counts.
  */
-export async function countActiveRuns(labId: string): Promise<number> {
-  const r = await db("runs as r").where("r.labId", labId).whereIn("r.status", ["queued", "running"])
-    .leftJoin("comparison_designs as d", "d.runId", "r.id")
-    .first(db.raw("count(*) filter (where d.id is null) + count(distinct d.comparison_id) as count"));
-  return Number(r?.count ?? 0);
+export async function getQueuedWork(labId: string, userId: string, q: Knex | Knex.Transaction = db): Promise<QueuedWork> {
+  const left = "cost * (chunks_total - chunks_done)::float8 / chunks_total";
+  const r = await q("runs").whereIn("status", ["queued", "running"]).where((w) => w.where("labId", labId).orWhere("createdBy", userId))
+    .first(q.raw(`count(*) filter (where lab_id = ?) as lab_runs, coalesce(sum(${left}) filter (where lab_id = ?), 0) as lab_cost,
+      count(*) filter (where created_by = ?) as user_runs, coalesce(sum(${left}) filter (where created_by = ?), 0) as user_cost`, [labId, labId, userId, userId]));
+  return { labCost: Number(r?.labCost ?? 0), labRuns: Number(r?.labRuns ?? 0), userCost: Number(r?.userCost ?? 0), userRuns: Number(r?.userRuns ?? 0) };
 }
 
+/**
+ * Takes the lab's and then the user's launch locks (held to the end of `trx`) and reads their
+ * queued work: two launches into one lab, or by one user, run this one at a time, so each sees
+ * what the other stored. Always lab before user, so two launches never wait on each other in a circle.
+ */
+export async function lockQueuedWork(trx: Knex.Transaction, labId: string, userId: string): Promise<QueuedWork> {
+  await trx.raw("select pg_advisory_xact_lock(hashtextextended(?, 0))", [`burstwise.run-queue.lab.${labId}`]);
+  await trx.raw("select pg_advisory_xact_lock(hashtextextended(?, 0))", [`burstwise.run-queue.user.${userId}`]);
+  return getQueuedWork(labId, userId, trx);
+}
+
+/** Checks the queued work read under the locks, and throws to refuse (nothing is stored then). */
+export type QueueGuard = (queued: QueuedWork) => void;
+
+/** Stores a queued run of expected `cost` (cell-events) once `guard` accepts the lab's and the user's queued work. */
 export async function insertRun(row: {
   labId: string; versionId: string; kind: "trace" | "ensemble"; method: string; settings: RunSettings; seed: number;
-  chunksTotal: number; engineVersion: string; createdBy: string;
-}, audit?: AuditFor<string>): Promise<string> {
+  chunksTotal: number; engineVersion: string; createdBy: string; cost: number;
+}, guard: QueueGuard, audit?: AuditFor<string>): Promise<string> {
   return audited(async (trx) => {
+    guard(await lockQueuedWork(trx, row.labId, row.createdBy));
     const [r] = await trx("runs").insert({ ...row, settings: JSON.stringify(row.settings) }).returning(["id"]);
     return String(r.id);
   }, audit);

@@ -75,6 +75,13 @@ describe("the modeler launches an ensemble and reads its results", () => {
     const cost = page.getByTestId("cost-estimate");
     await cost.getByText("of one thread").waitFor();
     expect(await cost.textContent()).toMatch(/Events per cell.*× cells\s*100/s);
+    // What the run takes of the queue budget, as the server will charge it: cells × (events per cell + 201 grid points).
+    const budget = page.getByTestId("queue-budget");
+    expect(await budget.textContent()).toMatch(/Lab[\d.]+( \w+)? queued of [\d.]+ \w+You, over all labs[\d.]+( \w+)? queued of [\d.]+ \w+/);
+    const perCell = Number(((await cost.locator("dd").first().textContent()) ?? "").replace(/[^\d.]/g, ""));
+    const charged = (await page.getByTestId("run-cell-events").textContent()) ?? "";
+    const [, amount, word] = /^([\d.]+) (thousand|million)$/.exec(charged) ?? [];
+    expect(Number(amount) * (word === "million" ? 1e6 : 1e3)).toBeCloseTo(100 * (perCell + 201), -4);
     await shot(page, "runs-01-launcher");
     seed = Number(await seedInput.inputValue());
     await page.getByRole("button", { name: "Launch ensemble" }).click();

@@ -153,7 +153,8 @@ describe("a comparison through the API and the worker", () => {
     const rc = await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: runaway });
     const c = await create({
       designs: [{ version_id: rc.json.version_id, label: "Runaway" }, { version_id: bdVersion, label: "Slow", overrides: { k: 2000, g: 1 } }],
-      settings: { t_end: 2000, dt: 1, runs: 2000, seed: 1 }, launch: true,
+      // 10 cells: the queue charges a runaway cell its full event cap (1e8), so 2,000 of them would be over the budget.
+      settings: { t_end: 2000, dt: 1, runs: 10, seed: 1 }, launch: true,
     });
     expect(c.status, c.text).toBe(201);
     await worker();
@@ -194,7 +195,7 @@ describe("launch, cancel and the queue limit (no worker)", () => {
     expect((await owner.client.request("POST", `/api/comparisons/${c.json.id}/cancel`)).status).toBe(409);
   });
 
-  it("a comparison of 24 designs counts once toward the lab's 20 queued runs", async () => {
+  it("a comparison of 24 designs counts as 24 runs toward the lab's 100 queued runs", async () => {
     const crowd = await newUser("cmp-crowd");
     const v = (await crowd.client.request("POST", "/api/circuits", { lab_id: crowd.labId, circuit: birthDeath })).json.version_id;
     const values = Array.from({ length: 24 }, (_, i) => i + 1);
@@ -203,15 +204,19 @@ describe("launch, cancel and the queue limit (no worker)", () => {
     });
     expect(c.status, c.text).toBe(201);
     expect(c.json.runs).toHaveLength(24);
-    for (let i = 0; i < 19; i++) expect((await crowd.client.request("POST", "/api/runs", { version_id: v, method: "ssa", t_end: 10, dt: 1 })).status).toBe(202);
-    const over = await crowd.client.request("POST", "/api/runs", { version_id: v, method: "ssa", t_end: 10, dt: 1 });
-    expect(over.status).toBe(429);
-    expect(over.json.error).toMatch(/^runs: /);
+    expect(c.json.cost.cell_events).toBeGreaterThan(0);
+    for (let i = 0; i < 75; i++) expect((await crowd.client.request("POST", "/api/runs", { version_id: v, method: "ssa", t_end: 10, dt: 1 })).status).toBe(202);
+    // 99 queued: one more run fits, a comparison of two designs does not.
     const another = await crowd.client.request("POST", "/api/comparisons", {
       lab_id: crowd.labId, name: "One more", designs: [{ version_id: v }, { version_id: v }], settings: { t_end: 10, dt: 1, runs: 10 }, launch: true,
     });
-    expect(another.status).toBe(429);
+    expect(another.status, another.text).toBe(429);
+    expect(another.json.error).toMatch(/^runs: the lab would have more than 100 runs queued or running \(queued 99, this comparison 2;/);
     expect(await db("comparisons").where({ lab_id: crowd.labId, name: "One more" }).first()).toBeUndefined(); // refused before anything was stored
+    expect((await crowd.client.request("POST", "/api/runs", { version_id: v, method: "ssa", t_end: 10, dt: 1 })).status).toBe(202);
+    const over = await crowd.client.request("POST", "/api/runs", { version_id: v, method: "ssa", t_end: 10, dt: 1 });
+    expect(over.status).toBe(429);
+    expect(over.json.error).toMatch(/^runs: /);
     await db("runs").where({ lab_id: crowd.labId }).whereIn("status", ["queued", "running"]).update({ status: "cancelled" });
   });
 });

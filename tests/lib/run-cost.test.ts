@@ -2,7 +2,7 @@ import { readFileSync } from "node:fs";
 
 import { describe, expect, it } from "vitest";
 
-import { EVENTS_PER_S_PER_THREAD, estimateRunCost } from "@/lib/run-cost";
+import { EVENTS_PER_S_PER_THREAD, costPerCell, countGridPoints, estimateRunCost, formatCellEvents } from "@/lib/run-cost";
 import type { Circuit } from "@/ssa/types";
 
 const birthDeath = JSON.parse(readFileSync("examples/birth-death.circuit.json", "utf8")) as Circuit;
@@ -43,5 +43,26 @@ describe("estimateRunCost", () => {
 
   it("estimateRunCost(circuit, unknown override) throws naming the override", () => {
     expect(() => estimateRunCost(birthDeath, { method: "ssa", tEnd: 10, cells: 1, overrides: { kx: 1 } })).toThrow(/overrides\.kx/);
+  });
+});
+
+describe("the queue's cost of a cell", () => {
+  it("costPerCell(events, grid) adds one per grid point and caps events at the engine's 1e8 per cell (worked by hand)", () => {
+    expect(costPerCell(6327, countGridPoints(200, 1))).toBe(6327 + 201);
+    expect(costPerCell(5e9, 11)).toBe(1e8 + 11);
+    expect(costPerCell(Number.POSITIVE_INFINITY, 11)).toBe(1e8 + 11);
+    expect(costPerCell(0, countGridPoints(10, 3))).toBe(5); // 0, 3, 6, 9 and t_end itself
+  });
+
+  it("estimateRunCost(ring timer, maxOdeSize below its size) falls back to the initial state", () => {
+    expect(estimateRunCost(ringTimer, { method: "ssa", tEnd: 100, cells: 1, maxOdeSize: 1 }).basis).toBe("initial state");
+    expect(estimateRunCost(ringTimer, { method: "ssa", tEnd: 100, cells: 1, maxOdeSize: 1e6 }).basis).toBe("mean-field path");
+  });
+
+  it("formatCellEvents(n) names the size in words with three significant digits", () => {
+    expect(formatCellEvents(2e9)).toBe("2 billion");
+    expect(formatCellEvents(652_800)).toBe("653 thousand");
+    expect(formatCellEvents(1_234_567_890_123)).toBe("1.23 trillion");
+    expect(formatCellEvents(999)).toBe("999");
   });
 });

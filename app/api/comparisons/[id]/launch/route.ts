@@ -6,6 +6,6 @@ import { handle } from "@/lib/http";
 export const POST = handle("POST /api/comparisons/:id/launch", async (req, ctx: { params: Promise<{ id: string }> }) => {
   const user = await requireUser(req);
   const { id } = await ctx.params;
-  const runs = await launchComparison(user.id, id, user);
-  return Response.json({ id, runs }, { status: 202 });
+  const { runs, cost } = await launchComparison(user.id, id, user);
+  return Response.json({ id, runs, cost }, { status: 202 });
 });

@@ -7,6 +7,8 @@ import { notFound } from "next/navigation";
 import { may } from "@/lib/access";
 import { requirePageUser } from "@/lib/auth/page";
 import { getCircuit, getVersion } from "@/lib/data/circuits";
+import { getQueuedWork } from "@/lib/data/runs";
+import { getRunBudget } from "@/lib/run-budget";
 
 import { RunLauncher } from "./run-launcher";
 import { VersionPicker } from "./version-picker";
@@ -48,7 +50,8 @@ export default async function NewRunPage({ params, searchParams }: {
   }
   const version = await getVersion(versionId);
   if (!version || version.labId !== labId) notFound();
-  const circuit = await getCircuit(version.circuitId);
+  const [circuit, queued] = await Promise.all([getCircuit(version.circuitId), getQueuedWork(labId, user.id)]);
+  const budget = getRunBudget();
   return (
     <div className="flex flex-col gap-4">
       {heading}
@@ -57,6 +60,7 @@ export default async function NewRunPage({ params, searchParams }: {
         version={{ id: version.id, number: version.number, circuitId: version.circuitId, circuitName: circuit?.name ?? version.circuit.name ?? "Circuit", contentHash: version.contentHash }}
         circuit={version.circuit}
         initialSeed={randomInt(1, 2 ** 31)}
+        budget={{ lab: budget.lab, user: budget.user, labQueued: queued.labCost, userQueued: queued.userCost }}
       />
     </div>
   );

@@ -4,7 +4,7 @@ import { useRouter } from "next/navigation";
 import { useEffect, useMemo, useRef, useState } from "react";
 
 import { ApiError, fetchJson } from "@/app/_components/run-api";
-import { EVENTS_PER_S_PER_THREAD, estimateRunCost, type CostEstimate } from "@/lib/run-cost";
+import { EVENTS_PER_S_PER_THREAD, costPerCell, estimateRunCost, formatCellEvents, type CostEstimate } from "@/lib/run-cost";
 import { formatDuration, formatNumber, splitApiError } from "@/lib/run-view";
 import { describeIssue } from "@/lib/schemas/common";
 import { RUN_LIMITS, RunCreate } from "@/lib/schemas/runs";
@@ -17,6 +17,8 @@ export interface RunLauncherProps {
   circuit: Circuit;
   /** A random seed drawn by the server, so the first render matches in the browser. */
   initialSeed: number;
+  /** The queued-work budget (cell-events) and what the lab and the user have queued when the page was drawn. */
+  budget: { lab: number; user: number; labQueued: number; userQueued: number };
 }
 
 type Method = "ode" | "ssa" | "tau";
@@ -66,7 +68,7 @@ function NumberInput(props: {
 }
 
 /** The run launcher: method, grid, cells, seed, burn-in, overrides and units, with the expected cost before launch. */
-export function RunLauncher({ labId, version, circuit, initialSeed }: RunLauncherProps) {
+export function RunLauncher({ labId, version, circuit, initialSeed, budget }: RunLauncherProps) {
   const router = useRouter();
   const timeUnit = circuit.units.time;
   const modelAmount = circuit.units.amount;
@@ -292,6 +294,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
                 {" "}Time at about {(EVENTS_PER_S_PER_THREAD / 1e6).toLocaleString("en-US")} million events per second per thread; the worker spreads chunks of {RUN_LIMITS.chunkCells} cells over its threads.
                 {method === "tau" && " Tau-leaping fires many events per leap, so it usually takes less."}
               </p>
+              {gridPoints && cellsNum && <QueueBudget budget={budget} cost={costPerCell(cost.estimate.eventsPerCell, gridPoints) * cellsNum} />}
             </>
           ) : null}
         </section>
@@ -304,5 +307,37 @@ export function RunLauncher({ labId, version, circuit, initialSeed }: RunLaunche
         </button>
       </aside>
     </form>
+  );
+}
+
+/**
+ * What this run would take of the lab's and the user's budget of queued work, as the server
+ * counts it (lib/run-budget.ts): cells × (events per cell + grid points), in cell-events.
+ */
+function QueueBudget({ budget, cost }: { budget: RunLauncherProps["budget"]; cost: number }) {
+  const rows = [
+    { label: "Lab", queued: budget.labQueued, limit: budget.lab },
+    { label: "You, over all labs", queued: budget.userQueued, limit: budget.user },
+  ];
+  const tooBig = cost > Math.min(budget.lab, budget.user);
+  const over = rows.find((r) => r.queued + cost > r.limit);
+  return (
+    <div data-testid="queue-budget" className="mt-3 border-t border-ink/10 pt-3">
+      <h3 className="font-medium">Queue budget</h3>
+      <p className="text-xs text-ink-soft">This run counts as <strong className="text-ink" data-testid="run-cell-events">{formatCellEvents(cost)}</strong> cell-events (cells × (events per cell + grid points)) until it finishes.</p>
+      <dl className="mt-2 grid grid-cols-[auto_1fr] gap-x-3 gap-y-1 text-xs tabular-nums">
+        {rows.map((r) => (
+          <div key={r.label} className="contents">
+            <dt className="text-ink-soft">{r.label}</dt>
+            <dd className="text-right">{formatCellEvents(r.queued)} queued of {formatCellEvents(r.limit)}</dd>
+          </div>
+        ))}
+      </dl>
+      {tooBig ? (
+        <p className="mt-2 text-xs text-red-700">Larger than the whole budget: use fewer cells, a shorter end time or a larger step.</p>
+      ) : over ? (
+        <p className="mt-2 text-xs text-red-700">{over.label === "Lab" ? "The lab's" : "Your"} queued work would pass its budget: wait for runs to finish or make this one smaller.</p>
+      ) : null}
+    </div>
   );
 }
