@@ -33,6 +33,14 @@ export class Client {
     return { status: res.status, json, text };
   }
 
+  /** Another client holding a copy of this one's cookies (a session token taken elsewhere). */
+  copy(): Client {
+    const c = new Client(this.baseUrl, this.bearer);
+    c.cookies = new Map(this.cookies);
+    c.address = this.address;
+    return c;
+  }
+
   /** The Cookie header this client sends (for raw fetches, e.g. reading a download's bytes). */
   cookieHeader(): string {
     return [...this.cookies].map(([k, v]) => `${k}=${v}`).join("; ");
