@@ -41,7 +41,37 @@ const EnvSchema = z.object({
   RUN_BUDGET_USER: z.coerce.number().positive().finite().default(2e9),
   /** Most runs a lab, and a user, may have queued or running (each design of a comparison counts). */
   RUN_QUEUE_MAX_RUNS: z.coerce.number().int().min(1).max(100_000).default(100),
+  /**
+   * local (`npm start`, `npm test`): the mail fake and its inbox page may run. production: never;
+   * e-mail must go to a real server (SMTP_URL), and the app refuses to start without one.
+   */
+  BURSTWISE_DEPLOYMENT: z.enum(["local", "production"]).default("local"),
+  /**
+   * How many reverse proxies in front of the app append to X-Forwarded-For. 0: none, the header
+   * is not believed (the address is the socket's, see scripts/client-address.cjs).
+   */
+  BURSTWISE_TRUSTED_PROXY_HOPS: z.coerce.number().int().min(0).max(5).default(0),
+  /** Wrong sign-ins for one e-mail before it is locked (30 s, then doubling), counted over 15 min. */
+  SIGNIN_MAX_FAILURES: z.coerce.number().int().min(1).max(1000).default(5),
+  /** Wrong sign-ins from one client address, any e-mails, before the address is locked the same way. */
+  SIGNIN_ADDRESS_MAX_FAILURES: z.coerce.number().int().min(1).max(100_000).default(20),
+  /** Seconds of the first lockout; each further lockout in a row doubles it, up to an hour. */
+  SIGNIN_LOCK_S: z.coerce.number().int().min(1).max(3600).default(30),
+  /** Sign-ups accepted from one client address per hour. */
+  SIGNUP_PER_ADDRESS_PER_H: z.coerce.number().int().min(1).max(100_000).default(5),
+}).superRefine((e, ctx) => {
+  // Production must never fall back to the local mail fake, whose inbox is a web page.
+  if (e.BURSTWISE_DEPLOYMENT === "production" && !e.SMTP_URL) {
+    ctx.addIssue({ code: "custom", path: ["SMTP_URL"], message: "is required when BURSTWISE_DEPLOYMENT=production (the local mail fake never runs in production)" });
+  }
 });
 
 export type Env = z.infer<typeof EnvSchema>;
-export const env: Env = EnvSchema.parse(process.env);
+
+function parseEnv(): Env {
+  const r = EnvSchema.safeParse(process.env);
+  if (r.success) return r.data;
+  // One readable line per setting, so a refused start says what to fix.
+  throw new Error(`invalid environment: ${r.error.issues.map((i) => `${i.path.join(".")}: ${i.message}`).join("; ")}`);
+}
+export const env: Env = parseEnv();

@@ -25,8 +25,8 @@ function transport(): Transporter | null {
 /** Whether SMTP is configured (otherwise invitation links are shown to the owner instead). */
 export const isMailConfigured = (): boolean => Boolean(env.SMTP_URL);
 
-/** Whether the local mail fake runs (its inbox page /dev/mail is on). */
-export const isMailFakeEnabled = (): boolean => env.MAIL_FAKE === "1";
+/** Whether the local mail fake runs (its inbox page /dev/mail is on): never in a production deployment. */
+export const isMailFakeEnabled = (): boolean => env.MAIL_FAKE === "1" && env.BURSTWISE_DEPLOYMENT === "local";
 
 /**
  * Sends one plain-text message. Never throws: a refused or unreachable server is
@@ -64,6 +64,26 @@ export function invitationMail(p: { to: string; labName: string; role: string; i
       `The link expires on ${p.expiresAt.toISOString().slice(0, 16).replace("T", " ")} UTC.`,
       "If you have no Burstwise account yet, the page lets you create one with this address.",
       "If you did not expect this invitation, ignore this message.",
+    ].join("\n"),
+  };
+}
+
+/**
+ * To the owner of an address someone tried to sign up with again: the sign-up answer is the
+ * same as for a new address (it must not tell who has an account), so the news goes here.
+ */
+export function signUpAttemptMail(p: { to: string; signInLink: string }): OutgoingMail {
+  return {
+    to: p.to,
+    subject: "Someone tried to create a Burstwise account with your address",
+    text: [
+      `Someone tried to create a new Burstwise account for ${p.to}, which already has one.`,
+      "Nothing was changed: your account, password and labs are as they were.",
+      "",
+      "If it was you, sign in with your existing password:",
+      p.signInLink,
+      "",
+      "If it was not you, you can ignore this message.",
     ].join("\n"),
   };
 }

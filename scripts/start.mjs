@@ -1,9 +1,21 @@
 // `npm start`: set everything up on first run, then serve the web app and one worker.
 import {
   ensureNodeModules, ensureLocalCluster, ensureDatabase, localUrl, localSecret, migrate, seedDemo,
-  ensureBuild, startChild, stopChild, stopLocalCluster, log, startMailFake,
+  ensureBuild, startChild, stopChild, stopLocalCluster, log, startMailFake, ROOT,
 } from "./lib/bootstrap.mjs";
 import { superviseChild } from "./lib/supervise.mjs";
+
+// A production deployment never runs the local mail fake (its inbox is a web page): it needs a
+// real mail server, and says so before anything is set up.
+const deployment = process.env.BURSTWISE_DEPLOYMENT ?? "local";
+if (!["local", "production"].includes(deployment)) {
+  log(`BURSTWISE_DEPLOYMENT must be local or production, not "${deployment}"`);
+  process.exit(1);
+}
+if (deployment === "production" && !process.env.SMTP_URL) {
+  log("BURSTWISE_DEPLOYMENT=production needs SMTP_URL (a real mail server); the local mail fake never runs in production");
+  process.exit(1);
+}
 
 const port = Number(process.env.PORT ?? 3000);
 const host = process.env.HOST ?? "127.0.0.1";
@@ -24,7 +36,12 @@ seedDemo(databaseUrl);
 ensureBuild();
 
 const url = process.env.NEXTAUTH_URL ?? `http://${host}:${port}`;
-const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: process.env.NEXTAUTH_SECRET ?? localSecret(), NEXTAUTH_URL: url, NODE_ENV: "production" };
+const env = {
+  DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: process.env.NEXTAUTH_SECRET ?? localSecret(), NEXTAUTH_URL: url, NODE_ENV: "production",
+  BURSTWISE_DEPLOYMENT: deployment,
+  // Drops a client's own X-Forwarded-For unless a trusted proxy is configured (per-address limits).
+  NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --require "${ROOT}/scripts/client-address.cjs"`.trim(),
+};
 
 let stopping = false;
 // Without a real SMTP server (SMTP_URL), e-mail goes to the local mail fake, read at /dev/mail.

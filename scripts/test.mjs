@@ -33,7 +33,15 @@ try {
   const baseUrl = `http://127.0.0.1:${port}`;
   // The mail fake on a spare port (side-by-side test runs must not share an inbox).
   mail = await startMailFake(databaseUrl, Number(process.env.MAIL_FAKE_PORT ?? (await freePort())));
-  const env = { DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: "test-secret-not-for-production", NEXTAUTH_URL: baseUrl, NODE_ENV: "production", ...mail.env };
+  const env = {
+    DATABASE_URL: databaseUrl, NEXTAUTH_SECRET: "test-secret-not-for-production", NEXTAUTH_URL: baseUrl, NODE_ENV: "production", ...mail.env,
+    BURSTWISE_DEPLOYMENT: "local",
+    // The suites play the trusted proxy: a test names its client address in X-Forwarded-For
+    // (tests/support/client.ts), so per-address limits can be shown to bite without locking out
+    // every other test, which all come from 127.0.0.1.
+    BURSTWISE_TRUSTED_PROXY_HOPS: "1",
+    NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --require "${ROOT}/scripts/client-address.cjs"`.trim(),
+  };
   web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], env);
   await waitForHttp(`${baseUrl}/api/health`, 60_000);
   log(`suites starting (${((Date.now() - started) / 1000).toFixed(0)} s of setup)`);

@@ -103,8 +103,12 @@ export async function listUnnotifiedRuns(minAgeS: number, maxAgeS: number, limit
 
 export interface FakeMessage { id: string; mailFrom: string | null; rcptTo: string[]; subject: string | null; textBody: string | null; receivedAt: Date }
 
-/** The local mail fake's messages, newest first (development and tests). */
-export async function listFakeMail(limit = 100): Promise<FakeMessage[]> {
-  const rows = await db("mail_fake_messages").orderBy("id", "desc").limit(limit).select("id", "mailFrom", "rcptTo", "subject", "textBody", "receivedAt");
+/**
+ * The local mail fake's messages addressed to `email` (any case), newest first: a user's own
+ * inbox, never anyone else's mail (invitation links are credentials).
+ */
+export async function listFakeMailFor(email: string, limit = 100): Promise<FakeMessage[]> {
+  const rows = await db("mail_fake_messages").whereRaw("exists (select 1 from unnest(rcpt_to) as r(address) where lower(r.address) = lower(?))", [email])
+    .orderBy("id", "desc").limit(limit).select("id", "mailFrom", "rcptTo", "subject", "textBody", "receivedAt");
   return rows.map((r: FakeMessage) => ({ ...r, id: String(r.id), receivedAt: new Date(r.receivedAt) }));
 }

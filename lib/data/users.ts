@@ -1,9 +1,8 @@
 import { db } from "@/db/client";
 import { hashPassword } from "@/lib/auth/password";
-import { conflict } from "@/lib/http";
 import type { Role, SignUpInput } from "@/lib/schemas/auth";
 
-export interface UserRow { id: string; email: string; name: string; passwordHash: string; isDemo: boolean }
+export interface UserRow { id: string; email: string; name: string; passwordHash: string; isDemo: boolean; sessionVersion: number }
 export interface LabMembership { id: string; name: string; role: Role; isDemo: boolean }
 
 /** The user with this e-mail (case-insensitive), or null. */
@@ -16,22 +15,36 @@ export async function getUserById(id: string): Promise<UserRow | null> {
 }
 
 /**
- * Creates a user and the user's own lab with the user as owner, in one transaction.
- * @throws HttpError 409 when the e-mail is taken.
+ * Creates a user and the user's own lab with the user as owner, in one transaction; when the
+ * e-mail is taken, nothing is written and `created` is false (the password is hashed either
+ * way, so both take as long).
  */
-export async function createUserWithLab(input: SignUpInput): Promise<{ userId: string; labId: string }> {
+export async function createUserWithLab(input: SignUpInput): Promise<{ created: true; userId: string; labId: string } | { created: false }> {
   const passwordHash = await hashPassword(input.password);
   try {
     return await db.transaction(async (trx) => {
       const [user] = await trx("users").insert({ email: input.email, name: input.name, passwordHash }).returning(["id"]);
       const [lab] = await trx("labs").insert({ name: input.labName ?? `${input.name}'s lab`, createdBy: user.id }).returning(["id"]);
       await trx("memberships").insert({ labId: lab.id, userId: user.id, role: "owner" });
-      return { userId: String(user.id), labId: String(lab.id) };
+      return { created: true as const, userId: String(user.id), labId: String(lab.id) };
     });
   } catch (e) {
-    if ((e as { code?: string }).code === "23505") throw conflict("email: an account with this e-mail already exists");
+    if ((e as { code?: string }).code === "23505") return { created: false };
     throw e;
   }
+}
+
+/** The user's current session version, or null when the user is gone. */
+export async function getSessionVersion(userId: string): Promise<number | null> {
+  if (!/^[1-9][0-9]{0,15}$/.test(userId)) return null;
+  const row = await db("users").where({ id: userId }).first("sessionVersion");
+  return row ? Number(row.sessionVersion) : null;
+}
+
+/** Ends every session of the user: tokens issued under the old version are refused from now on. */
+export async function bumpSessionVersion(userId: string): Promise<void> {
+  if (!/^[1-9][0-9]{0,15}$/.test(userId)) return;
+  await db("users").where({ id: userId }).increment("sessionVersion", 1);
 }
 
 /** The labs the user belongs to, with the user's role in each, oldest membership first. */

@@ -1,14 +1,16 @@
 import type { Metadata } from "next";
 import Link from "next/link";
 
+import { toSafeRedirect } from "@/lib/safe-redirect";
+
 import { SignInForm } from "./sign-in-form";
 
 export const metadata: Metadata = { title: "Sign in" };
 
 export default async function SignInPage({ searchParams }: { searchParams: Promise<{ callbackUrl?: string; error?: string }> }) {
   const { callbackUrl, error } = await searchParams;
-  // Only same-site paths are followed after sign-in.
-  const next = callbackUrl && callbackUrl.startsWith("/") && !callbackUrl.startsWith("//") ? callbackUrl : "/labs";
+  // Only same-origin paths are followed after sign-in (checked after URL parsing).
+  const next = toSafeRedirect(callbackUrl, "/labs");
   return (
     <>
       <h1 className="text-2xl font-semibold">Sign in</h1>

@@ -5,6 +5,7 @@ import { useRouter } from "next/navigation";
 import { useState } from "react";
 
 import { Field } from "@/app/_components/field";
+import { toSafeRedirect } from "@/lib/safe-redirect";
 
 export function SignInForm({ callbackUrl, initialError }: { callbackUrl: string; initialError?: string }) {
   const router = useRouter();
@@ -17,8 +18,10 @@ export function SignInForm({ callbackUrl, initialError }: { callbackUrl: string;
     const form = new FormData(e.currentTarget);
     const res = await signIn("credentials", { email: form.get("email"), password: form.get("password"), redirect: false });
     setBusy(false);
+    // 429: the attempt limits; the message says how long to wait.
+    if (res?.status === 429) return setError(`Too many attempts, try again in ${/try again in (.+)$/.exec(res.error ?? "")?.[1] ?? "a while"}.`);
     if (!res || res.error) return setError("E-mail or password is wrong.");
-    router.push(callbackUrl);
+    router.push(toSafeRedirect(callbackUrl, "/labs"));
     router.refresh();
   }
 

@@ -33,7 +33,13 @@ export function SignUpForm() {
       const field = error.split(":")[0] as keyof Errors;
       return setErrors({ [["email", "name", "password", "labName"].includes(field) ? field : "form"]: error });
     }
-    await signIn("credentials", { email: parsed.data.email, password: parsed.data.password, redirect: false });
+    const { message } = (await res.json().catch(() => ({}))) as { message?: string };
+    const signedIn = await signIn("credentials", { email: parsed.data.email, password: parsed.data.password, redirect: false });
+    if (!signedIn?.ok) {
+      // The address may have had an account already; the answer does not say, so neither do we.
+      setBusy(false);
+      return setErrors({ form: message ?? "Sign in with this e-mail and password." });
+    }
     router.push("/labs");
     router.refresh();
   }

@@ -3,7 +3,7 @@ import { notFound } from "next/navigation";
 
 import { Logo } from "@/app/_components/logo";
 import { requirePageUser } from "@/lib/auth/page";
-import { listFakeMail } from "@/lib/data/notifications";
+import { listFakeMailFor } from "@/lib/data/notifications";
 import { isMailFakeEnabled } from "@/lib/mail";
 
 export const metadata: Metadata = { title: "Mail fake inbox" };
@@ -11,19 +11,22 @@ export const dynamic = "force-dynamic";
 
 const LINK = /(https?:\/\/[^\s]+)/g;
 
-/** The local mail fake's inbox (development and tests only): what the app "sent", newest first. */
+/**
+ * The local mail fake's inbox (local deployments only): what the app "sent" to the signed-in
+ * user's own address, newest first. Nobody sees anyone else's mail.
+ */
 export default async function DevMailPage() {
   if (!isMailFakeEnabled()) notFound();
-  await requirePageUser("/dev/mail");
-  const messages = await listFakeMail(100);
+  const user = await requirePageUser("/dev/mail");
+  const messages = user.email ? await listFakeMailFor(user.email, 100) : [];
   return (
     <main className="mx-auto flex max-w-4xl flex-col gap-6 px-6 py-10">
       <Logo className="text-xl" />
       <div>
         <h1 className="text-2xl font-semibold">Mail fake inbox</h1>
         <p className="mt-1 text-sm text-ink-soft">
-          In development and tests Burstwise sends e-mail to a local SMTP fake that delivers nothing and keeps each message here.
-          With SMTP_URL set to a real server this page does not exist.
+          In a local deployment Burstwise sends e-mail to a local SMTP fake that delivers nothing and keeps each message.
+          This page shows the messages to your own address ({user.email}). In production, or with SMTP_URL set to a real server, it does not exist.
         </p>
       </div>
       {messages.length === 0 && <p className="text-ink-soft">No messages yet.</p>}
