@@ -65,7 +65,7 @@ if (!(Number.isInteger(webHeapMb) && webHeapMb >= 256)) {
   log(`BURSTWISE_WEB_HEAP_MB must be an integer of at least 256 (MB), got "${process.env.BURSTWISE_WEB_HEAP_MB}"`);
   process.exit(2);
 }
-const webEnv = { ...env, NODE_OPTIONS: `${process.env.NODE_OPTIONS ?? ""} --max-old-space-size=${webHeapMb}`.trim() };
+const webEnv = { ...env, NODE_OPTIONS: `${env.NODE_OPTIONS} --max-old-space-size=${webHeapMb}`.trim() };
 const web = superviseChild({
   name: "web app", log, baseDelayMs: 1000,
   start: () => startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", host, "-p", String(port)], webEnv),
