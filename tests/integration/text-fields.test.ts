@@ -25,6 +25,8 @@ interface Row {
   field: string;
   /** Tables whose row counts must not change. */
   tables: string[];
+  /** The kinds of bad text the route can receive at all (default: both). */
+  kinds?: (keyof typeof BAD)[];
 }
 
 const circuitForm = (labId: string, text: string, name = "c.circuit.json") => {
@@ -52,9 +54,13 @@ const ROWS: Row[] = [
       return me.client.request("POST", "/api/datasets", f);
     },
     field: "name", tables: ["datasets"],
+    // Form fields are sent as UTF-8, where a lone surrogate cannot exist (the browser sends U+FFFD).
+    kinds: ["nul"],
   },
   { name: "circuit file upload, a name inside the JSON file", send: (bad) => me.client.request("POST", "/api/circuits/upload", circuitForm(me.labId, JSON.stringify({ ...birthDeath, name: bad }))), field: "file: name", tables: ["circuits"] },
-  { name: "a query parameter", send: (bad) => me.client.request("GET", `/api/circuits?lab_id=${me.labId}&q=${encodeURIComponent(bad)}`), field: "q", tables: [] },
+  { name: "a query parameter", send: (bad) => me.client.request("GET", `/api/circuits?lab_id=${me.labId}&q=${encodeURIComponent(bad)}`), field: "q", tables: [],
+    // A URL cannot carry a lone surrogate: percent-decoding turns invalid UTF-8 into U+FFFD.
+    kinds: ["nul"] },
 ];
 
 async function countRows(tables: string[]): Promise<Record<string, number>> {
@@ -78,7 +84,7 @@ afterAll(async () => {
 
 describe("NUL characters and lone surrogates in text fields", () => {
   for (const row of ROWS) {
-    for (const [kind, bad] of Object.entries(BAD)) {
+    for (const [kind, bad] of Object.entries(BAD).filter(([k]) => !row.kinds || row.kinds.includes(k as keyof typeof BAD))) {
       it(`${row.name}: a ${kind === "nul" ? "NUL character" : "lone surrogate"} is a 422 naming ${row.field}; nothing is stored`, async () => {
         const before = await countRows(row.tables);
         const r = await row.send(bad);
