@@ -1,5 +1,6 @@
 import type { Metadata } from "next";
 import localFont from "next/font/local";
+import { connection } from "next/server";
 
 import "./globals.css";
 
@@ -16,7 +17,10 @@ export const metadata: Metadata = {
   description: "Predict how noisy a gene circuit will be in single cells, before you clone it.",
 };
 
-export default function RootLayout({ children }: { children: React.ReactNode }) {
+export default async function RootLayout({ children }: { children: React.ReactNode }) {
+  // Every page is rendered per request: its scripts carry that request's CSP nonce (proxy.ts),
+  // which a page prerendered at build time could not.
+  await connection();
   return (
     <html lang="en" className={sans.variable}>
       <body className="min-h-screen font-sans">{children}</body>

@@ -1,7 +1,7 @@
 import { ZodError } from "zod";
 
 import { CircuitError } from "@/lib/schemas/circuit";
-import { describeZodError } from "@/lib/schemas/common";
+import { describeZodError, formatPath } from "@/lib/schemas/common";
 import { ModelInputError } from "@/ssa/types";
 
 /** An error with an HTTP status and a `field: reason` message safe to show the caller. */
@@ -20,35 +20,120 @@ export const tooMany = (msg: string) => new HttpError(429, msg);
 
 const MAX_BODY_BYTES = 2 * 1024 * 1024;
 
-/** Reads a JSON body with a size limit; junk or an oversized body is a 400 naming `body`. */
+/**
+ * Reads a JSON body with a size limit. Junk or an oversized body is a 400 naming `body`; a body
+ * sent as anything but application/json (a form, text/plain) is a 415 naming `content-type`, so a
+ * JSON route never takes what an HTML form on another site can send; text the database cannot
+ * hold is a 422 naming its field (requireCleanText).
+ */
 export async function readJson(req: Request, maxBytes = MAX_BODY_BYTES): Promise<unknown> {
   const length = Number(req.headers.get("content-length") ?? 0);
   if (length > maxBytes) throw badRequest(`body: larger than ${Math.round(maxBytes / 1024)} KB`);
   const text = await req.text();
   if (text.length > maxBytes) throw badRequest(`body: larger than ${Math.round(maxBytes / 1024)} KB`);
   if (!text.trim()) throw badRequest("body: empty; expected a JSON object");
+  requireJsonType(req);
+  let value: unknown;
   try {
-    return JSON.parse(text);
+    value = JSON.parse(text);
   } catch {
     throw badRequest("body: not valid JSON");
   }
+  requireCleanText(value);
+  return value;
 }
+
+/** @throws HttpError 415 naming `content-type` unless the request says application/json. */
+export function requireJsonType(req: Request): void {
+  const type = req.headers.get("content-type") ?? "";
+  if (!/^application\/json\s*(;|$)/i.test(type)) {
+    const got = type ? `"${type.split(";")[0]!.trim().slice(0, 60)}"` : "no content type";
+    throw new HttpError(415, `content-type: send the body as application/json (got ${got})`);
+  }
+}
+
+// A lone surrogate: a high one not followed by a low one, or a low one not after a high one.
+const LONE_SURROGATE = /[\uD800-\uDBFF](?![\uDC00-\uDFFF])|(?<![\uD800-\uDBFF])[\uDC00-\uDFFF]/;
+
+/**
+ * What is wrong with a string as stored text, or null: PostgreSQL text cannot hold U+0000, and a
+ * lone UTF-16 surrogate (which a JSON `\uD800` escape can carry) is not Unicode text at all.
+ */
+export function describeBadText(s: string): string | null {
+  const nul = s.indexOf("\u0000");
+  if (nul >= 0) return `contains a NUL character (U+0000) at character ${nul}; text may not contain NUL`;
+  const m = LONE_SURROGATE.exec(s);
+  if (m) return `contains a lone surrogate (U+${m[0].charCodeAt(0).toString(16).toUpperCase()}) at character ${m.index}; send well-formed Unicode text`;
+  return null;
+}
+
+/**
+ * Checks every string and object key in a decoded JSON value.
+ * @param field names the value in the message (`file: species[0].name: …`); without it the path
+ *   alone does (`circuit.name: …`), or `body` for the value itself.
+ * @throws HttpError 422 naming the first bad string's path.
+ */
+export function requireCleanText(value: unknown, field?: string): void {
+  // An explicit stack: a deeply nested body must not overflow the call stack.
+  const stack: { v: unknown; path: PropertyKey[] }[] = [{ v: value, path: [] }];
+  while (stack.length) {
+    const { v, path } = stack.pop()!;
+    let problem: string | null = null;
+    if (typeof v === "string") problem = describeBadText(v);
+    else if (Array.isArray(v)) for (let i = v.length - 1; i >= 0; i--) stack.push({ v: v[i], path: [...path, i] });
+    else if (v !== null && typeof v === "object") {
+      const keys = Object.keys(v);
+      for (const k of keys) {
+        const bad = describeBadText(k);
+        if (bad) {
+          problem = `a key ${bad}`;
+          break;
+        }
+      }
+      if (!problem) for (let i = keys.length - 1; i >= 0; i--) stack.push({ v: (v as Record<string, unknown>)[keys[i]!], path: [...path, keys[i]!] });
+    }
+    if (problem) {
+      const where = path.length ? formatPath(path) : "";
+      throw unprocessable(field ? `${field}: ${where ? `${where}: ` : ""}${problem}` : `${where || "body"}: ${problem}`);
+    }
+  }
+}
+
+/** @throws HttpError 422 naming the parameter when a query string value holds a NUL. */
+function requireCleanQuery(req: Request): void {
+  const q = req.url.indexOf("?");
+  if (q < 0) return;
+  for (const [k, v] of new URLSearchParams(req.url.slice(q + 1))) {
+    const bad = describeBadText(k) ?? describeBadText(v);
+    if (bad) throw unprocessable(`${describeBadText(k) ? "query" : k}: ${bad}`);
+  }
+}
+
+/** A PostgreSQL refusal of the text itself (22021 NUL byte, 22P05 bad Unicode escape in jsonb). */
+const isBadTextError = (e: unknown) => typeof e === "object" && e !== null && ["22021", "22P05"].includes((e as { code?: string }).code ?? "");
 
 type Handler<C> = (req: Request, ctx: C) => Promise<Response>;
 
 /**
  * Wraps a route handler: known errors become JSON `{ error }` with their status, zod errors
- * 422 naming the field, anything else is logged with the route and answered 500.
+ * 422 naming the field, anything else is logged with the route and answered 500. Query strings
+ * are checked for text the database cannot hold before the handler runs.
  */
 export function handle<C>(route: string, fn: Handler<C>): Handler<C> {
   return async (req, ctx) => {
     try {
+      requireCleanQuery(req);
       return await fn(req, ctx);
     } catch (e) {
       if (e instanceof HttpError) return Response.json({ error: e.message }, { status: e.status });
       if (e instanceof ZodError) return Response.json({ error: describeZodError(e) }, { status: 422 });
       if (e instanceof CircuitError) return Response.json({ error: e.message, issues: e.issues }, { status: 422 });
       if (e instanceof ModelInputError) return Response.json({ error: e.message }, { status: 422 });
+      // A backstop: every text field is checked on the way in, so this means one was missed.
+      if (isBadTextError(e)) {
+        console.error(`[${route}] text the database refused got past the input checks`, e);
+        return Response.json({ error: "body: contains text the database cannot store (a NUL character or invalid Unicode)" }, { status: 422 });
+      }
       console.error(`[${route}]`, e);
       return Response.json({ error: "server: unexpected error" }, { status: 500 });
     }

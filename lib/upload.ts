@@ -1,4 +1,4 @@
-import { badRequest, HttpError } from "@/lib/http";
+import { badRequest, describeBadText, HttpError, unprocessable } from "@/lib/http";
 import { formatBytes } from "@/lib/datasets";
 
 const FORM_OVERHEAD = 64 * 1024; // multipart boundaries, headers and the text fields
@@ -11,11 +11,14 @@ const tooLarge = (field: string, maxBytes: number, got: number) =>
  * Reads a multipart/form-data body of at most `maxFileBytes` for its file (plus the text
  * fields). An oversized body is refused from its Content-Length before it is read, or as soon
  * as the streamed bytes pass the limit.
- * @throws HttpError 413 naming `fileField`, 400 when the body is not multipart form data.
+ * @throws HttpError 413 naming `fileField`, 415 naming `content-type` when the body is not sent
+ *   as multipart form data, 400 when it says so but is not.
  */
 export async function readUpload(req: Request, maxFileBytes: number, fileField = "file"): Promise<FormData> {
   const type = req.headers.get("content-type") ?? "";
-  if (!/^multipart\/form-data;/i.test(type)) throw badRequest(`body: send multipart/form-data with the file in a "${fileField}" field`);
+  if (!/^multipart\/form-data;/i.test(type)) {
+    throw new HttpError(415, `content-type: send multipart/form-data with the file in a "${fileField}" field`);
+  }
   const limit = maxFileBytes + FORM_OVERHEAD;
   const declared = Number(req.headers.get("content-length") ?? NaN);
   if (Number.isFinite(declared) && declared > limit) {
@@ -54,10 +57,18 @@ export async function readUpload(req: Request, maxFileBytes: number, fileField =
   }
 }
 
-/** The text fields of a form as an object (repeated names keep the last value). */
+/**
+ * The text fields of a form as an object (repeated names keep the last value).
+ * @throws HttpError 422 naming the field when its text holds a NUL (the database cannot store it).
+ */
 export function formFields(form: FormData, except: string[] = []): Record<string, string> {
   const out: Record<string, string> = {};
-  for (const [k, v] of form.entries()) if (typeof v === "string" && !except.includes(k)) out[k] = v;
+  for (const [k, v] of form.entries()) {
+    if (typeof v !== "string" || except.includes(k)) continue;
+    const bad = describeBadText(k) ?? describeBadText(v);
+    if (bad) throw unprocessable(`${describeBadText(k) ? "form" : k}: ${bad}`);
+    out[k] = v;
+  }
   return out;
 }
 

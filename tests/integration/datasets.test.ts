@@ -145,10 +145,10 @@ describe("dataset uploads", () => {
     expect(await labState()).toEqual(before);
   });
 
-  it("a JSON body instead of a form is a 400 naming the body", async () => {
+  it("a JSON body instead of a form is a 415 naming the content type", async () => {
     const r = await me.client.request("POST", "/api/datasets", { lab_id: me.labId, kind: "series" });
-    expect(r.status).toBe(400);
-    expect(r.json.error).toMatch(/^body: send multipart\/form-data/);
+    expect(r.status).toBe(415);
+    expect(r.json.error).toMatch(/^content-type: send multipart\/form-data/);
   });
 
   it("a duplicate name is a 409 naming the name; only the owner deletes, and the audit trail has both", async () => {

@@ -2,9 +2,10 @@
 
 import { useCallback, useRef, useState } from "react";
 import { VegaEmbed } from "react-vega";
-import type { EmbedOptions, Result, VisualizationSpec } from "vega-embed";
+import type { Result, VisualizationSpec } from "vega-embed";
 
 import { downloadText, downloadUrl } from "./download";
+import { EMBED_OPTIONS } from "./embed-options";
 
 export interface VegaChartProps {
   spec: VisualizationSpec;
@@ -13,9 +14,6 @@ export interface VegaChartProps {
   /** Accessible name of the figure (the chart's title in words). */
   label: string;
 }
-
-// SVG rendering keeps charts crisp and lets tests find the marks; no vega menu (our own buttons below).
-const OPTIONS: EmbedOptions = { actions: false, renderer: "svg" };
 
 /** A vega-lite chart with SVG and PNG downloads through the view's toSVG()/toImageURL(). */
 export default function VegaChart({ spec, fileBase, label }: VegaChartProps) {
@@ -38,7 +36,7 @@ export default function VegaChart({ spec, fileBase, label }: VegaChartProps) {
       {error ? (
         <p role="alert" className="rounded-md bg-red-50 px-3 py-2 text-sm text-red-800">The chart could not be drawn: {error}</p>
       ) : (
-        <VegaEmbed spec={spec} options={OPTIONS} onEmbed={onEmbed} onError={onError} className="w-full [&_text]:font-sans" />
+        <VegaEmbed spec={spec} options={EMBED_OPTIONS} onEmbed={onEmbed} onError={onError} className="w-full [&_text]:font-sans" />
       )}
       <figcaption className="flex flex-wrap items-center justify-end gap-2 text-xs">
         <button type="button" onClick={saveSvg} disabled={!ready} className="rounded border border-ink/20 bg-white px-2 py-1 text-ink-soft hover:border-ochre hover:text-ink disabled:opacity-50">

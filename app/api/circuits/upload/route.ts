@@ -5,7 +5,7 @@ import { requireUser } from "@/lib/auth/session";
 import { circuitFromBody } from "@/lib/circuit-input";
 import { createCircuit } from "@/lib/data/circuits";
 import { DatasetFileError, decodeTextFile } from "@/lib/datasets";
-import { handle, HttpError, unprocessable } from "@/lib/http";
+import { handle, HttpError, requireCleanText, unprocessable } from "@/lib/http";
 import { IdField } from "@/lib/schemas/api";
 import { CircuitError } from "@/lib/schemas/circuit";
 import { DATASET_LIMITS } from "@/lib/schemas/datasets";
@@ -40,6 +40,7 @@ export const POST = handle("POST /api/circuits/upload", async (req) => {
     } catch (e) {
       throw unprocessable(`file: not valid JSON (${e instanceof Error ? e.message : "parse error"}); expected SBML or a circuit JSON file`);
     }
+    requireCleanText(body.circuit, "file");
   }
   let parsed: Awaited<ReturnType<typeof circuitFromBody>>;
   try {

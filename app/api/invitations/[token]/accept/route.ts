@@ -1,6 +1,6 @@
 import { getCurrentUser } from "@/lib/auth/session";
 import { acceptInvitation } from "@/lib/data/invitations";
-import { badRequest, handle, notFound } from "@/lib/http";
+import { badRequest, handle, notFound, requireCleanText, requireJsonType } from "@/lib/http";
 import { InvitationAccept, InvitationToken } from "@/lib/schemas/invitations";
 
 /**
@@ -25,9 +25,13 @@ async function readJsonOrEmpty(req: Request): Promise<unknown> {
   const text = await req.text();
   if (text.length > 16 * 1024) throw badRequest("body: larger than 16 KB");
   if (!text.trim()) return {};
+  requireJsonType(req);
+  let value: unknown;
   try {
-    return JSON.parse(text);
+    value = JSON.parse(text);
   } catch {
     throw badRequest("body: not valid JSON");
   }
+  requireCleanText(value);
+  return value;
 }
