@@ -103,7 +103,7 @@ describe("cross-origin writes with a session cookie", () => {
 
   it("without an Origin, a cross-site Sec-Fetch-Site or a foreign Referer is refused too; Origin: null as well", async () => {
     const tokensBefore = Number((await db("api_tokens").where({ user_id: owner.userId }).count({ n: "*" }))[0]!.n);
-    for (const headers of [{ "sec-fetch-site": "cross-site" }, { referer: `${EVIL}/page` }, { origin: "null" }]) {
+    for (const headers of [{ "sec-fetch-site": "cross-site" }, { referer: `${EVIL}/page` }, { origin: "null" }] as Record<string, string>[]) {
       const r = await send(owner.client, "POST", "/api/tokens", { headers: { ...headers, "content-type": "application/json" }, body: `{"name":"stolen"}` });
       expect(r.status, JSON.stringify(headers)).toBe(403);
       expect(r.json.error).toMatch(/^origin: /);
