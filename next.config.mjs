@@ -3,6 +3,10 @@ const nextConfig = {
   // knex, pg and pg-boss load optional drivers dynamically and cannot be bundled.
   serverExternalPackages: ["knex", "pg", "pg-boss", "piscina", "bcryptjs"],
   poweredByHeader: false,
+  // proxy.ts sees every /api request, and Next buffers the body of such a request up to this size
+  // (10 MB by default, cutting the rest off); above the largest upload (10 MB + form overhead), so
+  // an upload's own size check still answers 413.
+  experimental: { proxyClientMaxBodySize: "12mb" },
   // A separate build folder lets several checkouts' test runs build and serve side by side.
   distDir: process.env.BURSTWISE_DIST_DIR ?? ".next",
   // On every answer (pages, API, 404s, static files); the content security policy comes from
