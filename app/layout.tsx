@@ -2,6 +2,7 @@ import type { Metadata } from "next";
 import localFont from "next/font/local";
 import { connection } from "next/server";
 
+import { ZodJitless } from "./_components/zod-jitless";
 import "./globals.css";
 
 // Shipped with the app (no font download at build time).
@@ -23,7 +24,10 @@ export default async function RootLayout({ children }: { children: React.ReactNo
   await connection();
   return (
     <html lang="en" className={sans.variable}>
-      <body className="min-h-screen font-sans">{children}</body>
+      <body className="min-h-screen font-sans">
+        <ZodJitless />
+        {children}
+      </body>
     </html>
   );
 }

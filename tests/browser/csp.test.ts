@@ -47,7 +47,7 @@ beforeAll(async () => {
   ctx = await openBrowser();
   // Every violation the page sees, reported through the console where the test listens.
   await ctx.addInitScript(() => {
-    document.addEventListener("securitypolicyviolation", (e) => console.error(`securitypolicyviolation ${e.violatedDirective} ${e.blockedURI}`));
+    document.addEventListener("securitypolicyviolation", (e) => console.error(`securitypolicyviolation ${e.violatedDirective} ${e.blockedURI} at ${e.sourceFile}:${e.lineNumber}:${e.columnNumber} sample=${e.sample}`));
   });
   page = await ctx.newPage();
   page.on("console", (m) => {
