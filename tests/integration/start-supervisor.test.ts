@@ -85,5 +85,5 @@ describe("npm start (scripts/start.mjs)", () => {
     expect(text()).toContain("web app exited (SIGKILL); restarting in 1 s");
     expect(text()).not.toContain("shutting down");
     expect(text()).not.toMatch(/worker exited/);
-  });
+  }, 240_000); // its waits add up to 210 s on a loaded machine
 });
