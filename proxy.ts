@@ -1,6 +1,7 @@
 import { withAuth, type NextRequestWithAuth } from "next-auth/middleware";
 import { NextResponse, type NextFetchEvent, type NextRequest } from "next/server";
 
+import { SESSION_COOKIE } from "@/lib/auth/cookies";
 import { isSessionCurrent } from "@/lib/auth/session-version";
 import { buildPagePolicy, createNonce, NOTHING_POLICY } from "@/lib/content-security-policy";
 import { env } from "@/lib/env";
@@ -25,6 +26,9 @@ function renderWithNonce(req: NextRequest): NextResponse {
 
 const requireSignIn = withAuth((req) => renderWithNonce(req), {
   pages: { signIn: "/signin" },
+  secret: env.NEXTAUTH_SECRET,
+  // The name next-auth gave the cookie (`__Secure-` over HTTPS), not one guessed again here.
+  cookies: { sessionToken: { name: SESSION_COOKIE } },
   // A token from before its user signed out is no session at all (its version is stale).
   callbacks: { authorized: ({ token }) => isSessionCurrent(token?.uid, token?.sv) },
 });

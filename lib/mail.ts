@@ -88,6 +88,25 @@ export function signUpAttemptMail(p: { to: string; signInLink: string }): Outgoi
   };
 }
 
+/**
+ * To a user whose password was just changed: if it was not them, someone who knew the old
+ * password is in their account, and this is how they find out.
+ */
+export function passwordChangedMail(p: { to: string; when: Date; accountLink: string }): OutgoingMail {
+  return {
+    to: p.to,
+    subject: "Your Burstwise password was changed",
+    text: [
+      `The password of the Burstwise account ${p.to} was changed on ${p.when.toISOString().slice(0, 16).replace("T", " ")} UTC.`,
+      "Every other browser signed in to the account was signed out. Personal API tokens were not revoked;",
+      "you can review and revoke them on your account page:",
+      p.accountLink,
+      "",
+      "If you did not change it, someone who knew your password did: change it again at once and revoke your tokens.",
+    ].join("\n"),
+  };
+}
+
 /** The e-mail for a finished run or comparison (generic: subject kind, title, status, link). */
 export function finishedMail(p: {
   to: string; kind: string; title: string; status: string; error?: string | null; link: string; labName: string;

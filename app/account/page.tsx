@@ -3,6 +3,7 @@ import Link from "next/link";
 
 import { requirePageUser } from "@/lib/auth/page";
 
+import { PasswordForm } from "./password-form";
 import { TokenManager } from "./token-manager";
 
 export const metadata: Metadata = { title: "Account" };
@@ -15,6 +16,14 @@ export default async function AccountPage() {
       <Link href="/labs">← Back to your lab</Link>
       <h1 className="text-2xl font-semibold">{user.name}</h1>
       <p className="text-ink-soft">{user.email} · member of {user.labs.map((l) => `${l.name} (${l.role})`).join(", ") || "no lab"}</p>
+      <section aria-labelledby="password-heading" className="flex flex-col gap-3">
+        <h2 id="password-heading" className="text-lg font-semibold">Password</h2>
+        <p className="text-sm text-ink-soft">
+          Changing your password signs out every other browser and device signed in to your account; this one stays signed
+          in. Your personal API tokens keep working: revoke any you no longer trust below. You get an e-mail about the change.
+        </p>
+        <PasswordForm />
+      </section>
       <section className="flex flex-col gap-3">
         <h2 className="text-lg font-semibold">Personal API tokens</h2>
         <p className="text-sm text-ink-soft">

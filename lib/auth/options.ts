@@ -2,12 +2,12 @@ import type { NextAuthOptions, Session } from "next-auth";
 import CredentialsProvider from "next-auth/providers/credentials";
 
 import { getClientAddress } from "@/lib/auth/client-address";
+import { SESSION_MAX_AGE_S, USE_SECURE_COOKIES } from "@/lib/auth/cookies";
 import { recordSignInSuccess, requireSignInAllowed } from "@/lib/auth/limits";
 import { verifyPassword } from "@/lib/auth/password";
 import { isSessionCurrent } from "@/lib/auth/session-version";
 import { bumpSessionVersion, getUserByEmail, listLabsForUser } from "@/lib/data/users";
 import { env } from "@/lib/env";
-import { appUrl } from "@/lib/mail";
 import { toSafeRedirect } from "@/lib/safe-redirect";
 import { SignInInput } from "@/lib/schemas/auth";
 
@@ -15,10 +15,10 @@ import { SignInInput } from "@/lib/schemas/auth";
 const DUMMY_HASH = "$2b$12$C6UzMDM.H6dfI/f/IKcEeO5b7w1yH0kH3k7K1m4uQ0QjYbOa8mQmW";
 
 export const authOptions: NextAuthOptions = {
-  session: { strategy: "jwt", maxAge: 7 * 24 * 3600 },
+  session: { strategy: "jwt", maxAge: SESSION_MAX_AGE_S },
   secret: env.NEXTAUTH_SECRET,
   // Secure (and __Secure-/__Host- named) cookies whenever the app is served over HTTPS.
-  useSecureCookies: appUrl().startsWith("https://"),
+  useSecureCookies: USE_SECURE_COOKIES,
   pages: { signIn: "/signin" },
   providers: [
     CredentialsProvider({

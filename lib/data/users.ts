@@ -47,6 +47,19 @@ export async function bumpSessionVersion(userId: string): Promise<void> {
   await db("users").where({ id: userId }).increment("sessionVersion", 1);
 }
 
+/**
+ * Replaces the user's password hash and bumps the session version in one statement, so no
+ * session from before the change outlives it. Only when the stored hash is still `expectedHash`
+ * (the one the current password was checked against): of two changes at once, one wins.
+ * @returns the new session version, or null when the hash had changed meanwhile (or the user is gone).
+ */
+export async function replacePasswordHash(userId: string, expectedHash: string, newHash: string): Promise<number | null> {
+  const [row] = await db("users").where({ id: userId, passwordHash: expectedHash })
+    .update({ passwordHash: newHash, sessionVersion: db.raw("session_version + 1") })
+    .returning(["sessionVersion"]);
+  return row ? Number(row.sessionVersion) : null;
+}
+
 /** The labs the user belongs to, with the user's role in each, oldest membership first. */
 export async function listLabsForUser(userId: string): Promise<LabMembership[]> {
   const rows = await db("memberships as m")

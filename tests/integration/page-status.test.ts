@@ -1,5 +1,7 @@
 // A page for something outside the caller's labs, or for nothing at all, answers HTTP 404 (the
-// not-found page with a 404 status), never a 200 that only looks like a not-found page.
+// not-found page with a 404 status), never a 200 that only looks like a not-found page, and
+// without a server error on the way (a page that throws while its layout says "not found" still
+// answers 404, but logs the error and streams its digest to the browser).
 import { readFileSync } from "node:fs";
 
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
@@ -13,10 +15,15 @@ let owner: Awaited<ReturnType<typeof newUser>>;
 let outsider: Awaited<ReturnType<typeof newUser>>;
 let ids: { circuit: string; run: string; comparison: string; dataset: string };
 
-async function status(client: Client, path: string): Promise<number> {
+// A server error's digest in the streamed page (`E{"digest":"1589408083"}`, JSON-escaped inside a
+// script); Next's own not-found and redirect signals carry digests starting NEXT_.
+const ERROR_DIGEST = /digest\\?"\s*:\s*\\?"(?!NEXT_)([^"\\]+)/;
+
+/** The page's status; "status+error <digest>" when the page also hit a server error. */
+async function status(client: Client, path: string): Promise<number | string> {
   const res = await fetch(testEnv().baseUrl + path, { headers: { cookie: client.cookieHeader() }, redirect: "manual" });
-  await res.text();
-  return res.status;
+  const digest = ERROR_DIGEST.exec(await res.text())?.[1];
+  return digest ? `${res.status}+error ${digest}` : res.status;
 }
 
 /** Every page of lab `lab` that shows one of the owner's objects. */
@@ -59,26 +66,26 @@ afterAll(() => undefined);
 
 describe("page status codes", () => {
   it("a member gets 200 for every page of the lab and of its objects", async () => {
-    const got: Record<string, number> = {};
+    const got: Record<string, number | string> = {};
     for (const p of [...labPages(owner.labId), ...objectPages(owner.labId)]) got[p] = await status(owner.client, p);
     expect(Object.values(got).every((s) => s === 200), JSON.stringify(got)).toBe(true);
   });
 
   it("a signed-in outsider gets 404 for every page of a lab that is not theirs", async () => {
-    const got: Record<string, number> = {};
+    const got: Record<string, number | string> = {};
     for (const p of [...labPages(owner.labId), ...objectPages(owner.labId)]) got[p] = await status(outsider.client, p);
     expect(Object.values(got).every((s) => s === 404), JSON.stringify(got)).toBe(true);
   });
 
   it("another lab's object under the outsider's own lab is a 404", async () => {
-    const got: Record<string, number> = {};
+    const got: Record<string, number | string> = {};
     for (const p of objectPages(outsider.labId)) got[p] = await status(outsider.client, p);
     expect(Object.values(got).every((s) => s === 404), JSON.stringify(got)).toBe(true);
   });
 
   it("an object that does not exist (or a malformed id) is a 404 for a member", async () => {
     const lab = owner.labId;
-    const got: Record<string, number> = {};
+    const got: Record<string, number | string> = {};
     for (const p of [`/labs/${lab}/runs/999999999`, `/labs/${lab}/runs/abc`, `/labs/${lab}/circuits/999999999`, `/labs/${lab}/comparisons/999999999`, `/labs/${lab}/data/999999999`, `/labs/${lab}/nothing-here`]) {
       got[p] = await status(owner.client, p);
     }

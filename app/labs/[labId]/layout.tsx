@@ -1,8 +1,7 @@
 import Link from "next/link";
-import { notFound } from "next/navigation";
 
 import { Logo } from "@/app/_components/logo";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 
 import { LabSwitcher } from "./_components/lab-switcher";
 import { SectionNav } from "./_components/section-nav";
@@ -12,9 +11,7 @@ export const dynamic = "force-dynamic";
 
 export default async function LabLayout({ children, params }: { children: React.ReactNode; params: Promise<{ labId: string }> }) {
   const { labId } = await params;
-  const user = await requirePageUser(`/labs/${labId}`);
-  const lab = user.labs.find((l) => l.id === labId);
-  if (!lab) notFound();
+  const { user, lab } = await requirePageLab(labId, `/labs/${labId}`);
   return (
     <div className="flex min-h-screen flex-col">
       <header className="border-b border-ink/10 bg-white">

@@ -3,14 +3,13 @@ import Link from "next/link";
 
 import { Caution } from "@/app/_components/caution";
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 
 export const metadata: Metadata = { title: "Overview" };
 
 export default async function LabOverview({ params }: { params: Promise<{ labId: string }> }) {
   const { labId } = await params;
-  const user = await requirePageUser(`/labs/${labId}`);
-  const lab = user.labs.find((l) => l.id === labId)!;
+  const { lab } = await requirePageLab(labId, `/labs/${labId}`);
   const canWrite = may(lab.role, "circuit:write");
   return (
     <div className="flex flex-col gap-6">

@@ -3,7 +3,7 @@ import { Suspense } from "react";
 
 import { EmptyState } from "@/app/_components/empty-state";
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { listCircuits } from "@/lib/data/circuits";
 
 import { CircuitTable } from "./_components/circuit-table";
@@ -13,8 +13,7 @@ export const metadata: Metadata = { title: "Circuits" };
 
 export default async function CircuitsPage({ params }: { params: Promise<{ labId: string }> }) {
   const { labId } = await params;
-  const user = await requirePageUser(`/labs/${labId}/circuits`);
-  const lab = user.labs.find((l) => l.id === labId)!;
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/circuits`);
   const canWrite = may(lab.role, "circuit:write");
   return (
     <div className="flex flex-col gap-4">

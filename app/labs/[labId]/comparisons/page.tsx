@@ -6,7 +6,7 @@ import { EmptyState } from "@/app/_components/empty-state";
 import { RunProgressBar, When } from "@/app/_components/run-status";
 import { TableHead } from "@/app/_components/table-head";
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { listComparisons } from "@/lib/data/comparisons";
 
 export const metadata: Metadata = { title: "Comparisons" };
@@ -18,8 +18,7 @@ export default async function ComparisonsPage({ params, searchParams }: {
   params: Promise<{ labId: string }>; searchParams: Promise<Record<string, string | string[] | undefined>>;
 }) {
   const { labId } = await params;
-  const user = await requirePageUser(`/labs/${labId}/comparisons`);
-  const lab = user.labs.find((l) => l.id === labId)!;
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/comparisons`);
   const canWrite = may(lab.role, "comparison:write");
   const page = Math.max(1, Math.min(10_000, Number.parseInt(one((await searchParams).page) ?? "1", 10) || 1));
   const { comparisons, total } = await listComparisons(labId, { limit: PAGE_SIZE, offset: (page - 1) * PAGE_SIZE });

@@ -3,7 +3,7 @@ import Link from "next/link";
 
 import { EmptyState } from "@/app/_components/empty-state";
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { listDatasets } from "@/lib/data/datasets";
 import { formatBytes } from "@/lib/datasets";
 import { DATASET_LIMITS } from "@/lib/schemas/datasets";
@@ -16,8 +16,8 @@ const fmt = (x: number | null) => (x == null ? "—" : Number(x.toPrecision(3)).
 
 export default async function DataPage({ params }: { params: Promise<{ labId: string }> }) {
   const { labId } = await params;
-  const user = await requirePageUser(`/labs/${labId}/data`);
-  const role = user.labs.find((l) => l.id === labId)!.role;
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/data`);
+  const role = lab.role;
   const datasets = await listDatasets(labId);
   const canUpload = may(role, "data:write");
   return (

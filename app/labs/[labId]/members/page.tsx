@@ -1,7 +1,7 @@
 import type { Metadata } from "next";
 
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { latestAuditEventId, listAuditActors } from "@/lib/data/audit";
 import { invitationState, listOpenInvitations } from "@/lib/data/invitations";
 import { getLab, listMembers } from "@/lib/data/labs";
@@ -34,8 +34,8 @@ function Section({ title, id, children, note }: { title: string; id: string; chi
 
 export default async function LabMembersPage({ params }: { params: Promise<{ labId: string }> }) {
   const { labId } = await params;
-  const user = await requirePageUser(`/labs/${labId}/members`);
-  const role = user.labs.find((l) => l.id === labId)!.role;
+  const { user, lab: membership } = await requirePageLab(labId, `/labs/${labId}/members`);
+  const role = membership.role;
   const canManage = may(role, "lab:manage");
   const canAudit = may(role, "audit:read");
   const [lab, members, pending, settings, actors, revision] = await Promise.all([

@@ -2,7 +2,7 @@ import type { Metadata } from "next";
 import Link from "next/link";
 
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { RUN_STATUSES } from "@/lib/schemas/runs";
 
 import { RunsTable } from "./runs-table";
@@ -16,8 +16,7 @@ export default async function RunsPage({ params, searchParams }: {
 }) {
   const { labId } = await params;
   const sp = await searchParams;
-  const user = await requirePageUser(`/labs/${labId}/runs`);
-  const lab = user.labs.find((l) => l.id === labId)!;
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/runs`);
   const canLaunch = may(lab.role, "run:launch");
   const status = (RUN_STATUSES as readonly string[]).includes(one(sp.status) ?? "") ? one(sp.status) : undefined;
   const circuit = /^[1-9]\d{0,15}$/.test(one(sp.circuit) ?? "") ? one(sp.circuit) : undefined;

@@ -7,15 +7,14 @@ import { notFound } from "next/navigation";
 import { cache } from "react";
 
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { getCircuit, listVersions, type VersionInfo } from "@/lib/data/circuits";
 
 const ID = /^[1-9][0-9]{0,15}$/;
 
 export const loadCircuit = cache(async (labId: string, circuitId: string) => {
-  const user = await requirePageUser(`/labs/${labId}/circuits/${circuitId}`);
-  const lab = user.labs.find((l) => l.id === labId);
-  if (!lab || !ID.test(circuitId)) notFound();
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/circuits/${circuitId}`);
+  if (!ID.test(circuitId)) notFound();
   const circuit = await getCircuit(circuitId);
   if (!circuit || circuit.labId !== labId) notFound();
   const versions = await listVersions(circuit.id);

@@ -2,7 +2,7 @@ import type { Metadata } from "next";
 import { notFound } from "next/navigation";
 
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import type { ComparisonJson } from "@/lib/comparison-view";
 import { loadComparisonJson } from "@/lib/comparisons";
 import { getComparison } from "@/lib/data/comparisons";
@@ -15,8 +15,7 @@ export async function generateMetadata({ params }: { params: Promise<{ compariso
 
 export default async function ComparisonPage({ params }: { params: Promise<{ labId: string; comparisonId: string }> }) {
   const { labId, comparisonId } = await params;
-  const user = await requirePageUser(`/labs/${labId}/comparisons/${comparisonId}`);
-  const lab = user.labs.find((l) => l.id === labId)!;
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/comparisons/${comparisonId}`);
   if (!/^[1-9]\d{0,15}$/.test(comparisonId)) notFound();
   const c = await getComparison(comparisonId);
   if (!c || c.labId !== labId) notFound();

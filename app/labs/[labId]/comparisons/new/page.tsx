@@ -2,7 +2,7 @@ import type { Metadata } from "next";
 import Link from "next/link";
 
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { listCircuits } from "@/lib/data/circuits";
 
 import { ComparisonForm } from "./comparison-form";
@@ -11,8 +11,7 @@ export const metadata: Metadata = { title: "New comparison" };
 
 export default async function NewComparisonPage({ params }: { params: Promise<{ labId: string }> }) {
   const { labId } = await params;
-  const user = await requirePageUser(`/labs/${labId}/comparisons/new`);
-  const lab = user.labs.find((l) => l.id === labId)!;
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/comparisons/new`);
   const heading = (
     <div>
       <p className="text-sm"><Link href={`/labs/${labId}/comparisons`}>← Comparisons</Link></p>

@@ -3,7 +3,7 @@ import Link from "next/link";
 import { notFound } from "next/navigation";
 
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { getDataset } from "@/lib/data/datasets";
 import { datasetChartSpec } from "@/lib/dataset-overlay";
 import { formatBytes } from "@/lib/datasets";
@@ -20,8 +20,8 @@ const fmt = (x: number | null, digits = 4) => (x == null ? "—" : Number(x.toPr
 export default async function DatasetPage({ params, searchParams }: { params: Promise<{ labId: string; datasetId: string }>; searchParams: Promise<{ column?: string }> }) {
   const { labId, datasetId } = await params;
   const { column } = await searchParams;
-  const user = await requirePageUser(`/labs/${labId}/data/${datasetId}`);
-  const role = user.labs.find((l) => l.id === labId)!.role;
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/data/${datasetId}`);
+  const role = lab.role;
   if (!/^[1-9][0-9]{0,15}$/.test(datasetId)) notFound();
   const ds = await getDataset(datasetId, { values: true });
   if (!ds || ds.lab_id !== labId) notFound();

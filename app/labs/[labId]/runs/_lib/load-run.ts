@@ -6,15 +6,14 @@
 import { notFound } from "next/navigation";
 import { cache } from "react";
 
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { getRun } from "@/lib/data/runs";
 
 const ID = /^[1-9]\d{0,15}$/;
 
 export const loadRun = cache(async (labId: string, runId: string) => {
-  const user = await requirePageUser(`/labs/${labId}/runs/${runId}`);
-  const lab = user.labs.find((l) => l.id === labId);
-  if (!lab || !ID.test(runId)) notFound();
+  const { lab } = await requirePageLab(labId, `/labs/${labId}/runs/${runId}`);
+  if (!ID.test(runId)) notFound();
   const run = await getRun(runId);
   if (!run || run.labId !== labId) notFound();
   return { lab, run };

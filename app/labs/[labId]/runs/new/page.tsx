@@ -5,7 +5,7 @@ import Link from "next/link";
 import { notFound } from "next/navigation";
 
 import { may } from "@/lib/access";
-import { requirePageUser } from "@/lib/auth/page";
+import { requirePageLab } from "@/lib/auth/page";
 import { getCircuit, getVersion } from "@/lib/data/circuits";
 import { getQueuedWork } from "@/lib/data/runs";
 import { getRunBudget } from "@/lib/run-budget";
@@ -20,8 +20,7 @@ export default async function NewRunPage({ params, searchParams }: {
 }) {
   const { labId } = await params;
   const sp = await searchParams;
-  const user = await requirePageUser(`/labs/${labId}/runs/new`);
-  const lab = user.labs.find((l) => l.id === labId)!;
+  const { user, lab } = await requirePageLab(labId, `/labs/${labId}/runs/new`);
   const heading = (
     <div>
       <p className="text-sm"><Link href={`/labs/${labId}/runs`}>← Runs</Link></p>
