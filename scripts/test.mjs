@@ -1,6 +1,6 @@
 // `npm test`: set up what the suites need (PostgreSQL, Chromium, dependencies, a throwaway
 // database, a built app served on a spare port), run every suite, clean up, exit non-zero on failure.
-import { spawnSync } from "node:child_process";
+import { spawn, spawnSync } from "node:child_process";
 import {
   ensureNodeModules, ensureLocalCluster, ensureChromium, ensureDebianPackages, ensureDatabase, dropDatabase, localUrl, migrate,
   seedDemo, ensureBuild, startChild, stopChild, stopLocalCluster, log, ROOT, freePort, startMailFake,
@@ -45,11 +45,16 @@ try {
   web = startChild("web", process.execPath, ["node_modules/next/dist/bin/next", "start", "-H", "127.0.0.1", "-p", String(port)], env);
   await waitForHttp(`${baseUrl}/api/health`, 60_000);
   log(`suites starting (${((Date.now() - started) / 1000).toFixed(0)} s of setup)`);
-  const r = spawnSync(process.execPath, ["node_modules/vitest/vitest.mjs", "run", ...extraArgs], {
+  // Asynchronous, so this process keeps reading the web app's and the mail fake's output while the
+  // suites run: a blocked reader would leave their pipes full and stall their next log line.
+  const vitest = spawn(process.execPath, ["node_modules/vitest/vitest.mjs", "run", ...extraArgs], {
     cwd: ROOT, stdio: "inherit",
     env: { ...process.env, ...env, NODE_ENV: "test", BURSTWISE_REQUIRE_LIBSBML: "1", TEST_DATABASE_URL: databaseUrl, BURSTWISE_TEST_URL: baseUrl, CHROMIUM_PATH: chromium },
   });
-  code = r.status ?? 1;
+  code = await new Promise((done) => {
+    vitest.once("error", (e) => { console.error(`[burstwise] could not start vitest: ${e.message}`); done(1); });
+    vitest.once("exit", (status) => done(status ?? 1));
+  });
   if (typecheckFailed && code === 0) code = 1;
 } catch (e) {
   console.error(`[burstwise] test setup failed: ${e.message}`);
