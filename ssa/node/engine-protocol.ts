@@ -4,6 +4,7 @@
  */
 import type { CompareOptions } from "../bootstrap";
 import type { EnsembleOptions } from "../ensemble";
+import type { ExpectedEventsInput } from "../expected-events";
 import type { Circuit } from "../types";
 
 /** Slot of the shared started flag: the thread sets it when it begins the task (after loading). */
@@ -32,7 +33,9 @@ export type EngineTask =
        */
       kind: "difference"; a: { cellStatsGz: Uint8Array; species: number }; b: { cellStatsGz: Uint8Array; species: number };
       options: CompareOptions;
-    };
+    }
+  /** Expected reaction events of one cell of a run (ssa/expected-events.ts); answers `{ eventsPerCell, basis }`. */
+  | { kind: "run-cost"; circuit: Circuit; input: ExpectedEventsInput };
 
 /**
  * What a task gives back: the JSON text of the answer, or the error it threw by class name and

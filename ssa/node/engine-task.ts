@@ -1,7 +1,7 @@
 /**
  * Worker-thread entry of the engine service pool (ssa/node/engine-pool.ts): the engine's single
  * answers a server gives on request (a version's analysis, its counts table, one replayed cell,
- * the difference test of two designs of a comparison),
+ * the difference test of two designs of a comparison, the expected cost of a run),
  * computed here so that the server's event loop never runs them. Each returns the JSON text the
  * server sends as is, so the server neither re-encodes nor holds the objects. Node only.
  */
@@ -10,6 +10,7 @@ import { gunzipSync } from "node:zlib";
 import { analyze } from "../analyze";
 import { compareCv } from "../bootstrap";
 import { decodeCellStats } from "../cell-stats";
+import { estimateEventsPerCell } from "../expected-events";
 import { trajectory } from "../ensemble";
 import { compileModel, countsTable } from "../model";
 import type { Circuit } from "../types";
@@ -70,6 +71,8 @@ export default function runEngineTask({ task, started }: { task: EngineTask; sta
         return { ok: true, json: cellJson(task) };
       case "difference":
         return { ok: true, json: differenceJson(task) };
+      case "run-cost":
+        return { ok: true, json: JSON.stringify(estimateEventsPerCell(task.circuit, task.input)) };
     }
   } catch (e) {
     if (e instanceof Error) return { ok: false, name: e.name, message: e.message };
