@@ -207,4 +207,21 @@ describe("comparison results and difference tests off the web thread", () => {
     expect(bad.json.error).toMatch(/^species: /);
     expect(await db("comparison_tests").where({ comparison_id: c.id }).count("* as n").first()).toEqual({ n: "1" });
   }, 300_000);
+
+  it("launching a run of a stiff 200-species, 1,000-reaction circuit estimates its cost on the engine pool without stalling /api/health", async () => {
+    // Rates spread over six orders of magnitude along the chain: stiff, so the mean-field
+    // integration of the cost estimate takes the implicit solver, at the size bound (200 × 1,000).
+    const species = Array.from({ length: 200 }, (_, i) => ({ id: `S${i}`, initial: 5 }));
+    const reactions: object[] = [{ id: "make0", products: { S0: 1 }, rate: { law: "mass_action", k: 1 } }];
+    for (let i = 1; i < 200; i++) reactions.push({ id: `conv${i}`, reactants: { [`S${i - 1}`]: 1 }, products: { [`S${i}`]: 1 }, rate: { law: "mass_action", k: Math.pow(10, (i % 7) - 2) } });
+    for (let j = reactions.length; j < 1000; j++) reactions.push({ id: `lose${j}`, reactants: { [`S${j % 200}`]: 1 }, rate: { law: "mass_action", k: 0.1 } });
+    const circuit = { format: "burstwise.circuit/1", name: `Stiff chain ${Date.now()}`, units: { time: "min", amount: "molecules" }, species, parameters: {}, reactions };
+    const v = await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit });
+    expect(v.status, v.text).toBe(201);
+    const launch = await whileWatchingHealth(() => owner.client.request("POST", "/api/runs", { version_id: v.json.version_id, method: "ssa", t_end: 10_000, dt: 100, runs: 10, seed: 3 }));
+    console.log(`launch of the stiff chain: ${launch.result.status} in ${launch.ms.toFixed(0)} ms; health max ${Math.max(...launch.health).toFixed(0)} ms over ${launch.health.length} calls; ${launch.result.text.slice(0, 200)}`);
+    expect(launch.result.status, launch.result.text).toBe(202);
+    expect(launch.result.json.cost.cell_events).toBeGreaterThan(0);
+    expect(Math.max(...launch.health)).toBeLessThan(HEALTH_MAX_MS);
+  }, 120_000);
 });
