@@ -42,7 +42,11 @@ export function createBoss(opts: { supervise?: boolean } = {}): PgBoss {
 export async function ensureQueues(boss: PgBoss): Promise<void> {
   for (const [name, options] of Object.entries(QUEUE_OPTIONS)) {
     if (!(await boss.getQueue(name))) await boss.createQueue(name, options);
-    else await boss.updateQueue(name, options);
+    else {
+      // A queue's policy is fixed when it is created; pg-boss refuses it in an update, even unchanged.
+      const { policy: _policy, ...rest } = options as typeof options & { policy?: string };
+      await boss.updateQueue(name, rest);
+    }
   }
 }
 
