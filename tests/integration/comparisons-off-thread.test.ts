@@ -58,7 +58,10 @@ async function whileWatchingHealth<T>(request: () => Promise<T>): Promise<{ resu
 }
 
 async function getWithHeaders(path: string): Promise<{ status: number; json: any; cache: string | null }> {
-  const res = await fetch(testEnv().baseUrl + path, { headers: { cookie: owner.client.cookieHeader() } });
+  const get = () => fetch(testEnv().baseUrl + path, { headers: { cookie: owner.client.cookieHeader() } });
+  // A kept-alive connection the server closed just as it was reused fails at once ("other side
+  // closed"); the GET is idempotent, so it is sent once more.
+  const res = await get().catch(get);
   const text = await res.text();
   return { status: res.status, json: JSON.parse(text), cache: res.headers.get("x-burstwise-cache") };
 }
