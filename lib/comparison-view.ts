@@ -63,6 +63,8 @@ export interface ComparisonJson {
   progress: number; created_by: string | null; created_at: string; launched_at: string | null; finished_at: string | null;
   designs: DesignJson[];
   results: ComparisonResultsJson | null;
+  /** Running with every design run succeeded: the worker is computing the results. */
+  finishing?: boolean;
 }
 
 export interface DifferenceJson { difference: number | null; lo: number | null; hi: number | null; p_value: number | null; share_b_lower: number | null; replicates: number }

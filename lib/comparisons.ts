@@ -4,23 +4,26 @@ import type {
 } from "@/lib/comparison-view";
 import { MODEL_CAVEAT, comparisonProgress } from "@/lib/comparison-view";
 import {
-  cancelComparisonRuns, cancelDesignRuns, deleteComparison, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunNoise,
+  cancelComparisonRuns, cancelDesignRuns, deleteComparison, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunCellStatsGz, getRunNoise,
   insertComparison, insertDesignRuns, listDesigns, listSettledRunningComparisons, storeComparisonResults, getComparisonResults,
   type ComparisonRow, type DesignRow, type NewDesign,
 } from "@/lib/data/comparisons";
 import { getVersion, type VersionRow } from "@/lib/data/circuits";
+import { getComparisonTest, putComparisonTest, type ComparisonTestKey } from "@/lib/data/comparison-tests";
 import type { AuditEventInput } from "@/lib/data/audit";
 import { failRun, getQueuedWork, getRun, getRunSummaryParts, type QueuedWork } from "@/lib/data/runs";
 import { requireVersion } from "@/lib/data/version-access";
+import { runEngineTask } from "@/lib/engine";
+import { env } from "@/lib/env";
 import { conflict, HttpError, idParam, notFound, unprocessable } from "@/lib/http";
-import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
+import { getSender, Queues, type ComparisonFinishJob, type RunChunkJob } from "@/lib/jobs";
 import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, type RunBudget } from "@/lib/run-budget";
 import { drawSeed, launchCostJson, launchedEvent, type LaunchCost } from "@/lib/runs";
 import { checkOverrides, CircuitError } from "@/lib/schemas/circuit";
 import { COMPARISON_LIMITS, axisValues, sweepDesigns, type ComparisonCreate, type Sweep } from "@/lib/schemas/comparisons";
 import { RUN_LIMITS, type RunSettings } from "@/lib/schemas/runs";
 import { analyze } from "@/ssa/analyze";
-import { bootstrapNoise, compareCv, type Interval } from "@/ssa/bootstrap";
+import { bootstrapNoise, type DifferenceTest, type Interval } from "@/ssa/bootstrap";
 import { decodeCellStats, type CellStats } from "@/ssa/cell-stats";
 import { compileModel } from "@/ssa/model";
 import { TAU_EPSILON } from "@/ssa/types";
@@ -57,20 +60,26 @@ export function comparisonToJson(c: ComparisonRow, designs: DesignRow[], results
       run: d.runId ? { id: d.runId, status: d.runStatus ?? "queued", error: d.runError, chunks_done: d.chunksDone ?? 0, chunks_total: d.chunksTotal ?? 1, seed: d.runSeed ?? 0 } : null,
     })),
     results,
+    finishing: c.status === "running" && designs.length > 0 && designs.every((d) => d.runStatus === "succeeded"),
   };
   json.progress = comparisonProgress(json);
   return json;
 }
 
 /**
- * Seconds after its last design run finished before a read computes a comparison's results
- * itself: the worker's run-finished hook normally does it first; this catches a missed hook.
+ * Seconds after its last design run finished before a read asks a worker to compute a
+ * comparison's results: the worker's run-finished hook normally does it first; this catches a
+ * missed hook (a worker that died in it).
  */
-const READ_COMPUTES_AFTER_S = 15;
+const READ_REQUESTS_AFTER_S = 15;
 
-/** The comparison with its designs and results, after reconciling it with its runs. */
+/**
+ * The comparison with its designs and results, after reconciling it with its runs. A read never
+ * computes results (seconds of engine work for large circuits, on the thread serving everyone):
+ * when they are missing it queues a job for the worker and answers with `finishing: true`.
+ */
 export async function loadComparisonJson(c: ComparisonRow): Promise<ComparisonJson> {
-  const status = c.status === "running" ? await refreshComparison(c.id, { computeAfterS: READ_COMPUTES_AFTER_S }) : c.status;
+  const status = c.status === "running" ? await reconcileComparisonOnRead(c.id) : c.status;
   const row = status !== c.status ? ((await getComparison(c.id)) ?? c) : c;
   const [designs, results] = await Promise.all([listDesigns(c.id), getComparisonResults<ComparisonResultsJson>(c.id)]);
   return comparisonToJson(row, designs, results);
@@ -159,7 +168,7 @@ export async function createComparison(userId: string, body: ComparisonCreate, a
     const versions = new Map<string, VersionRow>();
     for (const d of designs) if (!versions.has(d.versionId)) versions.set(d.versionId, (await getVersion(d.versionId))!);
     const budget = getRunBudget();
-    const { cost } = comparisonWork(s, designs.map((d) => ({ version: versions.get(d.versionId)!, overrides: d.overrides })), budget);
+    const { cost } = await comparisonWork(s, designs.map((d) => ({ version: versions.get(d.versionId)!, overrides: d.overrides })), budget);
     requireQueueRoom(await getQueuedWork(body.lab_id, userId), cost, designs.length, budget, "this comparison");
   }
   const id = await insertComparison({
@@ -184,10 +193,12 @@ export async function createComparison(userId: string, body: ComparisonCreate, a
  * (a comparison counts by all its designs); `costs` per design, in order.
  * @throws 422 naming settings.runs or settings.t_end when it alone is over the budget.
  */
-function comparisonWork(
+async function comparisonWork(
   s: Pick<ComparisonCreate["settings"], "method" | "t_end" | "dt" | "runs">, designs: { version: VersionRow; overrides: Record<string, number> }[], budget: RunBudget,
-): { cost: number; costs: number[] } {
-  const work = designs.map((d) => estimateRunWork(d.version.id, d.version.circuit, { method: s.method, tEnd: s.t_end, dt: s.dt, cells: s.runs, overrides: d.overrides }));
+): Promise<{ cost: number; costs: number[] }> {
+  // One after the other: a comparison of 24 designs must not take every engine thread at once.
+  const work: { cost: number; perCell: number }[] = [];
+  for (const d of designs) work.push(await estimateRunWork(d.version.id, d.version.circuit, { method: s.method, tEnd: s.t_end, dt: s.dt, cells: s.runs, overrides: d.overrides }));
   const cost = work.reduce((sum, w) => sum + w.cost, 0);
   // One cell of every design: over the budget alone, only a shorter run helps.
   const perCell = work.reduce((sum, w) => sum + w.perCell, 0);
@@ -210,7 +221,7 @@ export async function launchComparison(userId: string, rawId: string, actor?: Ac
   const versions = new Map<string, VersionRow>();
   for (const d of designs) if (!versions.has(d.versionId)) versions.set(d.versionId, (await getVersion(d.versionId))!);
   const budget = getRunBudget();
-  const { cost, costs } = comparisonWork(s, designs.map((d) => ({ version: versions.get(d.versionId)!, overrides: d.overrides ?? {} })), budget);
+  const { cost, costs } = await comparisonWork(s, designs.map((d) => ({ version: versions.get(d.versionId)!, overrides: d.overrides ?? {} })), budget);
   const chunksTotal = Math.ceil(s.runs / RUN_LIMITS.chunkCells);
   const inserts = designs.map((d, i) => {
     const settings: RunSettings = {
@@ -273,15 +284,14 @@ export function comparisonEvent(actor: Actor, c: Pick<ComparisonRow, "id" | "lab
 }
 
 /**
- * Brings a running comparison up to date with its runs, idempotently: a failed or cancelled
- * design run ends it (failed, with the reason); when every design run has succeeded, computes
- * the noise table and stores it (a second caller finds it stored and does nothing). Called by
- * the worker when a run finishes and by the API when a comparison is read. Returns the status.
+ * Reconciles a comparison with its runs without computing anything: a failed or cancelled design
+ * run ends it (failed, with the reason). "ready" when it is running and every design run has
+ * succeeded (its results remain to be computed); otherwise its status; null when it is gone.
  */
-export async function refreshComparison(id: string, o: { computeAfterS?: number } = {}): Promise<ComparisonRow["status"] | null> {
+async function reconcileWithRuns(id: string): Promise<{ status: ComparisonRow["status"] | "ready"; c: ComparisonRow; designs: DesignRow[] } | null> {
   const c = await getComparison(id);
   if (!c) return null;
-  if (c.status !== "running") return c.status;
+  if (c.status !== "running") return { status: c.status, c, designs: [] };
   const designs = await listDesigns(id);
   const broken = designs.find((d) => !d.runId || d.runStatus === "failed" || d.runStatus === "cancelled");
   if (broken) {
@@ -289,13 +299,45 @@ export async function refreshComparison(id: string, o: { computeAfterS?: number 
       : broken.runStatus === "cancelled" ? `run #${broken.runId} was cancelled` : `run #${broken.runId} failed: ${broken.runError ?? "no reason given"}`;
     // The other designs' ensembles would be of no use now: stop them and free the lab's queue.
     if (await endComparison(id, "failed", `design "${broken.label}": ${why}`)) await cancelDesignRuns(id);
-    return "failed";
+    return { status: "failed", c, designs };
   }
-  if (!designs.every((d) => d.runStatus === "succeeded")) return "running";
-  if (o.computeAfterS !== undefined) {
-    const last = Math.max(...designs.map((d) => (d.runFinishedAt ? new Date(d.runFinishedAt).getTime() : Date.now())));
-    if (Date.now() - last < o.computeAfterS * 1000) return "running";
+  return { status: designs.every((d) => d.runStatus === "succeeded") ? "ready" : "running", c, designs };
+}
+
+/**
+ * What a read does with a running comparison: reconciles it with its runs and, when every design
+ * run succeeded more than READ_REQUESTS_AFTER_S ago and the results are still missing, queues
+ * one job (per comparison at a time) for a worker to compute them. Returns the status.
+ */
+async function reconcileComparisonOnRead(id: string): Promise<ComparisonRow["status"] | null> {
+  const r = await reconcileWithRuns(id);
+  if (!r) return null;
+  if (r.status !== "ready") return r.status;
+  const last = Math.max(...r.designs.map((d) => (d.runFinishedAt ? new Date(d.runFinishedAt).getTime() : Date.now())));
+  if (Date.now() - last >= READ_REQUESTS_AFTER_S * 1000) {
+    try {
+      // The queue keeps one such job per comparison until it has run (policy "exclusive"): reads that repeat add none.
+      await (await getSender()).send(Queues.comparisonFinish, { comparisonId: id } satisfies ComparisonFinishJob, { singletonKey: id });
+    } catch (e) {
+      // The read still answers; the next one asks again.
+      console.error(`[comparison] could not queue the results of comparison ${id}`, e);
+    }
   }
+  return "running";
+}
+
+/**
+ * Brings a running comparison up to date with its runs, idempotently: a failed or cancelled
+ * design run ends it (failed, with the reason); when every design run has succeeded, computes
+ * the noise table and stores it (a second caller finds it stored and does nothing). Called by
+ * the worker only (when a run finishes, and for the job a read queues): never on a web thread.
+ * Returns the status.
+ */
+export async function refreshComparison(id: string): Promise<ComparisonRow["status"] | null> {
+  const r = await reconcileWithRuns(id);
+  if (!r) return null;
+  if (r.status !== "ready") return r.status;
+  const { c, designs } = r;
   let results: ComparisonResultsJson;
   try {
     results = await computeResults(c, designs);
@@ -422,13 +464,25 @@ function lnaCurve(c: ComparisonRow, designs: DesignRow[], versions: Map<string, 
   return { parameter: first.parameter, scale: first.scale, group: second?.parameter ?? null, points };
 }
 
+/** The difference test as the engine thread answers it: DifferenceTest numbers, non-finite ones as null. */
+type DifferenceOutcome = { paired: boolean; cv: NullableDifference; periodCv: NullableDifference | null };
+type NullableDifference = { [K in keyof DifferenceTest]: DifferenceTest[K] | null };
+
+const numOrNull = (v: number | null): number | null => (v !== null && Number.isFinite(v) ? v : null);
+
+// Requests for the same test while it is being computed wait for that one computation.
+const testsInFlight = new Map<string, Promise<string>>();
+
 /**
  * "Is B less noisy than A?": a bootstrap test of the difference in CV (and in period CV where
  * both oscillate) of one species between two designs of a finished comparison; paired
  * resampling when both ran with the same seed (common random numbers). Seeded: reproducible.
- * @throws 404/403, 409 when the comparison has not succeeded, 422 naming a bad design or species.
+ * Computed on the engine pool within COMPARISON_TEST_BUDGET_S, once: a succeeded comparison never
+ * changes, so the answer is stored and later requests get it, marked `x-burstwise-cache: hit`.
+ * @throws 404/403, 409 when the comparison has not succeeded, 422 naming a bad design or species
+ *   (or the budget), 503 when the engine is busy.
  */
-export async function testDifference(userId: string, rawId: string, q: { a: string; b: string; species: string }): Promise<DifferenceTestJson> {
+export async function respondWithDifferenceTest(userId: string, rawId: string, q: { a: string; b: string; species: string }): Promise<Response> {
   const c = await requireComparison(userId, rawId);
   if (c.status !== "succeeded") throw conflict(`status: the comparison is ${c.status}; the test needs every design's ensemble`);
   const designs = await listDesigns(c.id);
@@ -443,27 +497,64 @@ export async function testDifference(userId: string, rawId: string, q: { a: stri
   const ia = ra?.species.findIndex((s) => s.species === q.species) ?? -1;
   const ib = rb?.species.findIndex((s) => s.species === q.species) ?? -1;
   if (!ra || !rb || ia < 0 || ib < 0) throw unprocessable(`species: "${q.species}" is not a species of both designs`);
-  const [csA, csB] = await Promise.all([designCellStats(a), designCellStats(b)]);
-  const paired = a.runSeed !== null && a.runSeed === b.runSeed && csA.cells === csB.cells;
-  const t = compareCv(csA, ia, csB, ib, {
-    seed: c.seed, stream: 1_000_000 + 2 * (a.position * 64 + b.position), replicates: COMPARISON_LIMITS.replicates, level: COMPARISON_LIMITS.level, paired,
-  });
-  const sa = ra.species[ia]!;
-  const sb = rb.species[ib]!;
+  const key: ComparisonTestKey = { comparisonId: c.id, designA: a.id, designB: b.id, species: q.species, engineVersion: ENGINE_VERSION };
+  let cache: "hit" | "miss" = "hit";
+  let body = await getComparisonTest(key);
+  if (body === null) {
+    const k = JSON.stringify(key);
+    let pending = testsInFlight.get(k);
+    if (!pending) {
+      cache = "miss";
+      pending = computeDifferenceTest(c, { design: a, species: ia, noise: ra.species[ia]! }, { design: b, species: ib, noise: rb.species[ib]! }, q.species)
+        .then(async (text) => {
+          await putComparisonTest(key, text).catch((e) => console.error(`[comparison] could not store a test of comparison ${c.id}`, e));
+          return text;
+        })
+        .finally(() => testsInFlight.delete(k));
+      testsInFlight.set(k, pending);
+    }
+    body = await pending;
+  }
+  return new Response(body, { headers: { "content-type": "application/json", "x-burstwise-cache": cache } });
+}
+
+type TestSide = { design: DesignRow; species: number; noise: SpeciesNoiseJson };
+
+/** The test's JSON text, its bootstrap computed on the engine pool from the runs' stored per-cell sums. */
+async function computeDifferenceTest(c: ComparisonRow, A: TestSide, B: TestSide, species: string): Promise<string> {
+  const [a, b] = [A.design, B.design];
+  const gz = async (d: DesignRow) => {
+    const data = d.runId ? await getRunCellStatsGz(d.runId) : null;
+    if (!data) throw conflict(`${d === a ? "a" : "b"}: run #${d.runId} of design "${d.label}" has no per-cell statistics; launch the comparison again`);
+    return data;
+  };
+  const [gzA, gzB] = await Promise.all([gz(a), gz(b)]);
+  const outcome = await runEngineTask({
+    kind: "difference", a: { cellStatsGz: gzA, species: A.species }, b: { cellStatsGz: gzB, species: B.species },
+    options: {
+      seed: c.seed, stream: 1_000_000 + 2 * (a.position * 64 + b.position), replicates: COMPARISON_LIMITS.replicates, level: COMPARISON_LIMITS.level,
+      paired: a.runSeed !== null && a.runSeed === b.runSeed,
+    },
+  }, env.COMPARISON_TEST_BUDGET_S, (why) => `test: ${why}; the ensembles are too large to test on the server`);
+  if (!outcome.ok) throw new Error(`difference test of comparison ${c.id}: ${outcome.name}: ${outcome.message}`);
+  const t = JSON.parse(outcome.json) as DifferenceOutcome;
+  const sa = A.noise;
+  const sb = B.noise;
   const bothOscillate = sa.oscillating && sb.oscillating;
-  const diff = (d: NonNullable<typeof t.periodCv>) => ({
-    difference: num(d.difference), lo: num(d.lo), hi: num(d.hi), p_value: num(d.pValue), share_b_lower: num(d.shareBLower), replicates: d.replicates,
-    significant: Number.isFinite(d.pValue) && d.pValue < TEST_ALPHA,
+  const diff = (d: NullableDifference) => ({
+    difference: numOrNull(d.difference), lo: numOrNull(d.lo), hi: numOrNull(d.hi), p_value: numOrNull(d.pValue), share_b_lower: numOrNull(d.shareBLower), replicates: d.replicates ?? 0,
+    significant: d.pValue !== null && Number.isFinite(d.pValue) && d.pValue < TEST_ALPHA,
   });
-  return {
-    species: q.species, level: COMPARISON_LIMITS.level, paired, replicates: COMPARISON_LIMITS.replicates,
+  const json: DifferenceTestJson = {
+    species, level: COMPARISON_LIMITS.level, paired: t.paired, replicates: COMPARISON_LIMITS.replicates,
     a: { design_id: a.id, label: a.label, cv: sa.cv.value, period_cv: sa.period_cv?.value ?? null },
     b: { design_id: b.id, label: b.label, cv: sb.cv.value, period_cv: sb.period_cv?.value ?? null },
     cv: diff(t.cv),
     period_cv: bothOscillate && t.periodCv ? diff(t.periodCv) : null,
-    period_note: bothOscillate ? null : `${q.species} does not oscillate in ${!sa.oscillating ? "A" : "B"}: no period to compare`,
+    period_note: bothOscillate ? null : `${species} does not oscillate in ${!sa.oscillating ? "A" : "B"}: no period to compare`,
     caveat: MODEL_CAVEAT,
   };
+  return JSON.stringify(json);
 }
 
 /** Every design's bands of one species (from the run summaries), thinned to about `points` times. */

@@ -31,7 +31,7 @@ export function getEnginePool(): EnginePool {
     threads: env.ENGINE_THREADS ?? Math.max(1, Math.min(2, availableParallelism())),
     maxQueue: env.ENGINE_QUEUE,
     // A task that would wait longer than three budgets would be answered after the client gave up.
-    maxWaitMs: 3 * Math.max(env.ENGINE_BUDGET_S, env.CELL_REPLAY_BUDGET_S) * 1000,
+    maxWaitMs: 3 * Math.max(env.ENGINE_BUDGET_S, env.CELL_REPLAY_BUDGET_S, env.COMPARISON_TEST_BUDGET_S) * 1000,
     maxHeapMb: THREAD_HEAP_MB,
   });
   return holder.burstwiseEnginePool;

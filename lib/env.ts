@@ -32,6 +32,11 @@ const EnvSchema = z.object({
   /** Seconds one cell replay may compute before it is refused. */
   CELL_REPLAY_BUDGET_S: z.coerce.number().min(1).max(600).default(30),
   /**
+   * Seconds one difference test of a comparison may compute before it is refused: 2,000 bootstrap
+   * replicates of two 20,000-cell ensembles take about 4 s on an idle core; the answer is stored.
+   */
+  COMPARISON_TEST_BUDGET_S: z.coerce.number().min(1).max(600).default(30),
+  /**
    * Most expected work a lab may have queued or running, in cell-events (cells × (expected events
    * per cell + grid points); lib/run-budget.ts). 2e9 ≈ a few minutes of every core of a small
    * server; ten times the demo's queued work.

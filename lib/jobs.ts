@@ -4,12 +4,15 @@ import { z } from "zod";
 import { env } from "@/lib/env";
 
 /** Queue names and payloads: the API sends with these schemas and the worker parses with them. */
-export const Queues = { runChunk: "run-chunk", runFinalize: "run-finalize" } as const;
+export const Queues = { runChunk: "run-chunk", runFinalize: "run-finalize", comparisonFinish: "comparison-finish" } as const;
 
 export const RunChunkJob = z.object({ runId: z.string(), chunkIndex: z.number().int().min(0) });
 export type RunChunkJob = z.infer<typeof RunChunkJob>;
 export const RunFinalizeJob = z.object({ runId: z.string() });
 export type RunFinalizeJob = z.infer<typeof RunFinalizeJob>;
+/** Compute a comparison's results that the run-finished hook missed (queued by a read, lib/comparisons.ts). */
+export const ComparisonFinishJob = z.object({ comparisonId: z.string() });
+export type ComparisonFinishJob = z.infer<typeof ComparisonFinishJob>;
 
 /** Retries of a chunk that failed for a transient reason (a crash, a lost connection). */
 export const CHUNK_RETRY_LIMIT = 3;
@@ -22,6 +25,8 @@ export const QUEUE_OPTIONS = {
     heartbeatSeconds: env.WORKER_HEARTBEAT_S, expireInSeconds: 6 * 3600,
   },
   [Queues.runFinalize]: { retryLimit: CHUNK_RETRY_LIMIT, retryDelay: 1, heartbeatSeconds: env.WORKER_HEARTBEAT_S, expireInSeconds: 3600 },
+  // "exclusive": one job per comparison (singletonKey) queued or running at a time, however many reads ask.
+  [Queues.comparisonFinish]: { policy: "exclusive", retryLimit: CHUNK_RETRY_LIMIT, retryDelay: 5, heartbeatSeconds: env.WORKER_HEARTBEAT_S, expireInSeconds: 3600 },
 } as const;
 
 /** A pg-boss instance on the app's database (schema `pgboss`). */
@@ -37,7 +42,11 @@ export function createBoss(opts: { supervise?: boolean } = {}): PgBoss {
 export async function ensureQueues(boss: PgBoss): Promise<void> {
   for (const [name, options] of Object.entries(QUEUE_OPTIONS)) {
     if (!(await boss.getQueue(name))) await boss.createQueue(name, options);
-    else await boss.updateQueue(name, options);
+    else {
+      // A queue's policy is fixed when it is created; pg-boss refuses it in an update, even unchanged.
+      const { policy: _policy, ...rest } = options as typeof options & { policy?: string };
+      await boss.updateQueue(name, rest);
+    }
   }
 }
 

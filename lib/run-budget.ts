@@ -7,9 +7,10 @@
  * (lib/data/runs.ts), so concurrent launches cannot both slip under.
  */
 import type { QueuedWork } from "@/lib/data/runs";
+import { runEngineTask } from "@/lib/engine";
 import { env } from "@/lib/env";
-import { tooMany, unprocessable } from "@/lib/http";
-import { costPerCell, countGridPoints, estimateRunCost, formatCellEvents } from "@/lib/run-cost";
+import { HttpError, tooMany, unprocessable } from "@/lib/http";
+import { costPerCell, countGridPoints, formatCellEvents } from "@/lib/run-cost";
 import type { Circuit } from "@/ssa/types";
 
 export interface RunBudget {
@@ -27,14 +28,18 @@ export const getRunBudget = (): RunBudget => ({ lab: env.RUN_BUDGET_LAB, user: e
 
 /**
  * Circuits larger than this (species × reactions) are estimated from their initial state rather
- * than by integrating the mean field, and the integration stops after MAX_ODE_STEPS: the
- * estimate runs on the web thread on every launch and must stay a few milliseconds.
+ * than by integrating the mean field, and the integration stops after MAX_ODE_STEPS. The estimate
+ * runs on the engine pool (lib/engine.ts) within ENGINE_BUDGET_S: a stiff circuit at these bounds
+ * (200 species × 1,000 reactions, t_end 10,000) integrates for about 25 s on an idle core, and
+ * compiling 20,000 reactions alone takes about 3 s; one past the budget is estimated from its
+ * initial state instead.
  */
 const MAX_ODE_SIZE = 200_000;
 const MAX_ODE_STEPS = 20_000;
 /** Estimates kept per process: versions never change, so an entry never goes stale. */
 const CACHE_SIZE = 2000;
 const eventsCache = new Map<string, number>();
+const eventsInFlight = new Map<string, Promise<number>>();
 
 export interface WorkInput {
   method: "ode" | "ssa" | "tau";
@@ -45,17 +50,45 @@ export interface WorkInput {
   overrides?: Record<string, number>;
 }
 
+/** Expected events of one cell on the pool: the mean-field path, or past the budget the initial state. */
+async function computeEventsPerCell(circuit: Circuit, tEnd: number, overrides: Record<string, number> | undefined): Promise<number> {
+  const tooLarge = (why: string) => `version_id: estimating the cost of a run ${why}; the circuit is too large to run on this server`;
+  const run = (initialOnly: boolean) => runEngineTask({ kind: "run-cost", circuit, input: { tEnd, overrides, maxOdeSize: MAX_ODE_SIZE, maxOdeSteps: MAX_ODE_STEPS, initialOnly } }, env.ENGINE_BUDGET_S, tooLarge);
+  let outcome;
+  try {
+    outcome = await run(false);
+  } catch (e) {
+    if (!(e instanceof HttpError && e.status === 422)) throw e;
+    outcome = await run(true);
+  }
+  if (!outcome.ok) {
+    // compileModel's refusal of an override (checked before, normally): the same 422 as before.
+    if (outcome.name === "ModelInputError") throw unprocessable(outcome.message);
+    throw new Error(`run cost: ${outcome.name}: ${outcome.message}`);
+  }
+  // JSON has no Infinity: a cost that is not finite comes back as null.
+  const events = (JSON.parse(outcome.json) as { eventsPerCell: number | null }).eventsPerCell;
+  return events ?? Number.POSITIVE_INFINITY;
+}
+
 /**
  * Expected cost of one run of version `versionId` (its stored `circuit`), in cell-events.
- * The events per cell are cached per version, method, t_end and overrides.
- * @throws ModelInputError when an override breaks the circuit (checked before, normally).
+ * The events per cell are computed on the engine pool and cached per version, method, t_end and overrides.
+ * @throws 422 when an override breaks the circuit (checked before, normally) or the circuit is too
+ *   large to estimate; 503 when the engine is busy.
  */
-export function estimateRunWork(versionId: string, circuit: Circuit, w: WorkInput): { cost: number; perCell: number } {
+export async function estimateRunWork(versionId: string, circuit: Circuit, w: WorkInput): Promise<{ cost: number; perCell: number }> {
   const overrides = w.overrides && Object.keys(w.overrides).length ? w.overrides : undefined;
   const key = JSON.stringify([versionId, w.method === "ode" ? "ode" : "events", w.tEnd, overrides ? Object.entries(overrides).sort() : null]);
   let events = eventsCache.get(key);
+  if (events === undefined && w.method === "ode") events = 0; // a trace fires no reaction events
   if (events === undefined) {
-    events = estimateRunCost(circuit, { method: w.method, tEnd: w.tEnd, cells: 1, overrides, maxOdeSize: MAX_ODE_SIZE, maxOdeSteps: MAX_ODE_STEPS }).eventsPerCell;
+    let pending = eventsInFlight.get(key);
+    if (!pending) {
+      pending = computeEventsPerCell(circuit, w.tEnd, overrides).finally(() => eventsInFlight.delete(key));
+      eventsInFlight.set(key, pending);
+    }
+    events = await pending;
     if (eventsCache.size >= CACHE_SIZE) eventsCache.delete(eventsCache.keys().next().value as string);
     eventsCache.set(key, events);
   }

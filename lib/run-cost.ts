@@ -1,14 +1,11 @@
 /**
- * The expected cost of a run before it is launched, computed in the browser from the circuit.
- * Reaction events of one cell ≈ ∫₀ᵀ a₀(Ω·y(t)) dt, the total propensity along the mean-field path
- * y(t) (a Gillespie cell fires events at rate a₀(x), so its expected count is ∫ E[a₀(x(t))] dt;
- * the mean field replaces E[a₀(x)] by a₀(E[x]), exact for zeroth- and first-order reactions and
- * an approximation for Hill and higher-order laws). Pure: no I/O.
+ * The expected cost of a run before it is launched, computed in the browser from the circuit
+ * (the server computes the same events on its engine pool, lib/run-budget.ts). The events of one
+ * cell come from ssa/expected-events.ts (the total propensity along the mean-field path). Pure: no I/O.
  */
 import { RUN_LIMITS } from "@/lib/schemas/runs";
+import { estimateEventsPerCell } from "@/ssa/expected-events";
 import { makeGrid } from "@/ssa/grid";
-import { compileModel } from "@/ssa/model";
-import { solveOde } from "@/ssa/ode";
 import type { Circuit } from "@/ssa/types";
 
 /**
@@ -17,9 +14,6 @@ import type { Circuit } from "@/ssa/types";
  * and expression laws run slower.
  */
 export const EVENTS_PER_S_PER_THREAD = 1e7;
-
-/** Most grid points the estimate integrates over (a coarser grid than the run's keeps it fast). */
-const MAX_ESTIMATE_POINTS = 2000;
 
 export interface CostInput {
   method: "ode" | "ssa" | "tau";
@@ -46,14 +40,6 @@ export interface CostEstimate {
   basis: "mean-field path" | "initial state" | "trace";
 }
 
-/** Σⱼ aⱼ(x): total propensity at molecule counts x, per model time unit. */
-function totalPropensity(model: ReturnType<typeof compileModel>, x: Float64Array, a: Float64Array): number {
-  model.propensities(x, a);
-  let a0 = 0;
-  for (let j = 0; j < a.length; j++) a0 += a[j];
-  return a0;
-}
-
 /**
  * Expected events and thread time of a run. Integrates the total propensity along the mean-field
  * path by the trapezoidal rule on at most 2000 points; when the ODE cannot be solved it falls back
@@ -62,28 +48,7 @@ function totalPropensity(model: ReturnType<typeof compileModel>, x: Float64Array
  */
 export function estimateRunCost(circuit: Circuit, input: CostInput): CostEstimate {
   if (input.method === "ode") return { eventsPerCell: 0, totalEvents: 0, threadSeconds: 0, basis: "trace" };
-  const model = compileModel(circuit, input.overrides);
-  const a = new Float64Array(model.nReactions);
-  let eventsPerCell: number;
-  let basis: CostEstimate["basis"] = "mean-field path";
-  try {
-    if (input.maxOdeSize !== undefined && model.nSpecies * model.nReactions > input.maxOdeSize) throw new RangeError("too large to integrate here");
-    const sol = solveOde(model, { tEnd: input.tEnd, dt: input.tEnd / MAX_ESTIMATE_POINTS, units: "molecules", maxSteps: input.maxOdeSteps ?? 200_000 });
-    const x = new Float64Array(model.nSpecies);
-    let prev = 0;
-    let sum = 0;
-    sol.times.forEach((t, g) => {
-      model.species.forEach((id, i) => (x[i] = Math.max(0, sol.trace[id][g])));
-      const a0 = totalPropensity(model, x, a);
-      if (g > 0) sum += 0.5 * (a0 + prev) * (t - sol.times[g - 1]);
-      prev = a0;
-    });
-    eventsPerCell = sum;
-  } catch {
-    basis = "initial state";
-    eventsPerCell = totalPropensity(model, Float64Array.from(model.initialCounts), a) * input.tEnd;
-  }
-  if (!Number.isFinite(eventsPerCell) || eventsPerCell < 0) eventsPerCell = Number.POSITIVE_INFINITY;
+  const { eventsPerCell, basis } = estimateEventsPerCell(circuit, input);
   const totalEvents = eventsPerCell * input.cells;
   return { eventsPerCell, totalEvents, threadSeconds: totalEvents / EVENTS_PER_S_PER_THREAD, basis };
 }

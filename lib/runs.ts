@@ -36,7 +36,7 @@ export async function createRun(userId: string, body: RunCreate, actor?: { id: s
   const kind = body.method === "ode" ? "trace" : "ensemble";
   const cells = kind === "trace" ? 1 : (body.runs ?? 1);
   const budget = getRunBudget();
-  const { cost, perCell } = estimateRunWork(version.id, version.circuit, { method: body.method, tEnd: body.t_end, dt: body.dt, cells, overrides: body.overrides });
+  const { cost, perCell } = await estimateRunWork(version.id, version.circuit, { method: body.method, tEnd: body.t_end, dt: body.dt, cells, overrides: body.overrides });
   requireFitsBudget(cost, perCell, budget, { cells: "runs", tEnd: "t_end" });
   const settings: RunSettings = {
     t_end: body.t_end, dt: body.dt, runs: cells,

@@ -8,7 +8,15 @@ import { notifyFinished } from "./notify";
 /** Called once a run has reached a final state (worker/hooks.ts). Safe to call again. */
 export async function afterComparisonRunFinished(runId: string): Promise<void> {
   const id = await getComparisonIdOfRun(runId);
-  if (!id) return;
+  if (id) await finishComparison(id);
+}
+
+/**
+ * Brings comparison `id` up to date with its runs (computing its results when they all
+ * succeeded) and mails the lab when it ended. For the run-finished hook and for the job a read
+ * queues when that hook was missed. Safe to call again.
+ */
+export async function finishComparison(id: string): Promise<void> {
   const status = await refreshComparison(id);
   if (status !== "succeeded" && status !== "failed") return;
   const c = await getComparison(id);

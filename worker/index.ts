@@ -8,7 +8,8 @@ import { Piscina } from "piscina";
 
 import { closeDb } from "../db/client";
 import { env } from "../lib/env";
-import { createBoss, ensureQueues, Queues } from "../lib/jobs";
+import { ComparisonFinishJob, createBoss, ensureQueues, Queues } from "../lib/jobs";
+import { finishComparison } from "./comparisons";
 import { startNotifySweep } from "./notify";
 import { handleChunk, handleFinalize } from "./runs";
 import type { ChunkResult, ChunkTask } from "./tasks/cells";
@@ -43,6 +44,9 @@ for (let i = 0; i < concurrency; i++) {
 }
 await boss.work(Queues.runFinalize, { batchSize: 1, localConcurrency: 1, pollingIntervalSeconds: 0.5, includeMetadata: true },
   async ([job]) => handleFinalize(job!));
+// Results a read found missing (the run-finished hook died): computed here, never on the web thread.
+await boss.work(Queues.comparisonFinish, { batchSize: 1, localConcurrency: 1, pollingIntervalSeconds: 0.5 },
+  async ([job]) => finishComparison(ComparisonFinishJob.parse(job!.data).comparisonId));
 const stopSweep = startNotifySweep();
 console.log(`worker ready (pid ${process.pid}, ${concurrency} concurrent chunks)`);
 

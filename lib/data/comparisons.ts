@@ -204,6 +204,12 @@ export async function getRunCellStats(runId: string): Promise<Float64Array | nul
   return out;
 }
 
+/** The same per-cell sums still gzipped, as stored: for an engine thread to unzip (lib/comparisons.ts testDifference). */
+export async function getRunCellStatsGz(runId: string): Promise<Buffer | null> {
+  const row = await db("run_results").where({ runId }).first("cellStatsGz");
+  return (row?.cellStatsGz as Buffer | undefined) ?? null;
+}
+
 /** The small per-species noise figures stored with a finished run (stationary, final, period without histograms). */
 export async function getRunNoise<T>(runId: string): Promise<T | null> {
   const row = await db("run_results").where({ runId }).first("noise");

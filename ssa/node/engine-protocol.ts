@@ -2,7 +2,9 @@
  * What the engine pool (ssa/node/engine-pool.ts) and its threads (ssa/node/engine-task.ts) pass
  * each other. Apart from both so that a server importing the pool does not load the engine itself.
  */
+import type { CompareOptions } from "../bootstrap";
 import type { EnsembleOptions } from "../ensemble";
+import type { ExpectedEventsInput } from "../expected-events";
 import type { Circuit } from "../types";
 
 /** Slot of the shared started flag: the thread sets it when it begins the task (after loading). */
@@ -21,7 +23,19 @@ export type EngineTask =
   | {
       kind: "cell"; circuit: Circuit; overrides?: Record<string, number>; options: EnsembleOptions;
       index: number; units: "molecules" | "model"; select?: CellSelection;
-    };
+    }
+  | {
+      /**
+       * The bootstrap test of B − A in CV of one species (ssa/bootstrap.ts compareCv), from the two
+       * runs' per-cell statistics as stored: gzipped ssa/cell-stats.ts encodings, unzipped here too.
+       * `options.paired` asks for pairs; they are used only when both runs have as many cells.
+       * Answers `{ paired, cv, periodCv }`.
+       */
+      kind: "difference"; a: { cellStatsGz: Uint8Array; species: number }; b: { cellStatsGz: Uint8Array; species: number };
+      options: CompareOptions;
+    }
+  /** Expected reaction events of one cell of a run (ssa/expected-events.ts); answers `{ eventsPerCell, basis }`. */
+  | { kind: "run-cost"; circuit: Circuit; input: ExpectedEventsInput };
 
 /**
  * What a task gives back: the JSON text of the answer, or the error it threw by class name and

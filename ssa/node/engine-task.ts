@@ -1,10 +1,16 @@
 /**
  * Worker-thread entry of the engine service pool (ssa/node/engine-pool.ts): the engine's single
- * answers a server gives on request (a version's analysis, its counts table, one replayed cell),
+ * answers a server gives on request (a version's analysis, its counts table, one replayed cell,
+ * the difference test of two designs of a comparison, the expected cost of a run),
  * computed here so that the server's event loop never runs them. Each returns the JSON text the
  * server sends as is, so the server neither re-encodes nor holds the objects. Node only.
  */
+import { gunzipSync } from "node:zlib";
+
 import { analyze } from "../analyze";
+import { compareCv } from "../bootstrap";
+import { decodeCellStats } from "../cell-stats";
+import { estimateEventsPerCell } from "../expected-events";
 import { trajectory } from "../ensemble";
 import { compileModel, countsTable } from "../model";
 import type { Circuit } from "../types";
@@ -35,6 +41,23 @@ function cellJson(task: Extract<EngineTask, { kind: "cell" }>): string {
   return JSON.stringify({ ...cell, species, times: thin(cell.times), values });
 }
 
+/** Decodes stored per-cell statistics (gzipped Float64 encoding). */
+function unzipCellStats(gz: Uint8Array) {
+  const buf = gunzipSync(gz);
+  // Copy into an aligned buffer: the unzipped bytes need not start at a multiple of 8.
+  const data = new Float64Array(buf.length / 8);
+  new Uint8Array(data.buffer).set(buf);
+  return decodeCellStats(data);
+}
+
+/** The difference test as numbers (NaN and ±Infinity become null in the JSON text). */
+function differenceJson(task: Extract<EngineTask, { kind: "difference" }>): string {
+  const a = unzipCellStats(task.a.cellStatsGz);
+  const b = unzipCellStats(task.b.cellStatsGz);
+  const paired = task.options.paired === true && a.cells === b.cells;
+  return JSON.stringify({ paired, ...compareCv(a, task.a.species, b, task.b.species, { ...task.options, paired }) });
+}
+
 /** Piscina task: computes one answer; input errors come back as an outcome, not a thrown error. */
 export default function runEngineTask({ task, started }: { task: EngineTask; started: Int32Array }): EngineOutcome {
   Atomics.store(started, SLOT_STARTED, 1);
@@ -46,6 +69,10 @@ export default function runEngineTask({ task, started }: { task: EngineTask; sta
         return { ok: true, json: countsJson(task.circuit) };
       case "cell":
         return { ok: true, json: cellJson(task) };
+      case "difference":
+        return { ok: true, json: differenceJson(task) };
+      case "run-cost":
+        return { ok: true, json: JSON.stringify(estimateEventsPerCell(task.circuit, task.input)) };
     }
   } catch (e) {
     if (e instanceof Error) return { ok: false, name: e.name, message: e.message };

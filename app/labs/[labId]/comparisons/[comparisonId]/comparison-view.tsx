@@ -128,6 +128,7 @@ function DesignProgress({ labId, c }: { labId: string; c: ComparisonJson }) {
         <h2 id="progress-h" className="text-lg font-semibold">Designs</h2>
         {c.status !== "draft" && <RunProgressBar value={c.progress} label="Progress across all designs" className="max-w-xs" />}
         {c.status !== "draft" && <span className="text-sm tabular-nums text-ink-soft">{Math.round(c.progress * 100)}%</span>}
+        {c.finishing && <span className="text-sm text-ink-soft" role="status">Every design has run; computing the noise table…</span>}
       </div>
       <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
         <table className="w-full min-w-[40rem] text-sm" aria-label="Designs and their runs">
