@@ -4,9 +4,6 @@
  * import's warnings first, and one `warning: <code>: <message>` line each on stderr.
  */
 import { spawn } from "node:child_process";
-import { mkdtempSync, writeFileSync } from "node:fs";
-import { tmpdir } from "node:os";
-import { join } from "node:path";
 
 import { describe, expect, it } from "vitest";
 
@@ -23,27 +20,7 @@ function cli(...args: string[]): Promise<{ code: number | null; stdout: string; 
 }
 
 /** A Level 3 file with no units at all: amounts read as molecules, with two import warnings. */
-const LEVEL3_NO_UNITS = `<?xml version="1.0" encoding="UTF-8"?>
-<sbml xmlns="http://www.sbml.org/sbml/level3/version2/core" level="3" version="2">
-  <model id="birth_death">
-    <listOfCompartments><compartment id="cell" spatialDimensions="3" size="1" constant="true"/></listOfCompartments>
-    <listOfSpecies><species id="X" compartment="cell" initialAmount="5" hasOnlySubstanceUnits="true" boundaryCondition="false" constant="false"/></listOfSpecies>
-    <listOfReactions>
-      <reaction id="make" reversible="false">
-        <listOfProducts><speciesReference species="X" stoichiometry="1" constant="true"/></listOfProducts>
-        <kineticLaw><math xmlns="http://www.w3.org/1998/Math/MathML"><cn>4</cn></math></kineticLaw>
-      </reaction>
-      <reaction id="lose" reversible="false">
-        <listOfReactants><speciesReference species="X" stoichiometry="1" constant="true"/></listOfReactants>
-        <kineticLaw><math xmlns="http://www.w3.org/1998/Math/MathML"><apply><times/><cn>0.5</cn><ci>X</ci></apply></math></kineticLaw>
-      </reaction>
-    </listOfReactions>
-  </model>
-</sbml>`;
-
-const dir = mkdtempSync(join(tmpdir(), "bw-warn-"));
-const sbmlFile = join(dir, "birth-death.xml");
-writeFileSync(sbmlFile, LEVEL3_NO_UNITS);
+const sbmlFile = "tests/fixtures/sbml-l3v2-no-units.xml";
 
 const IMPORT_WARNINGS = [
   { code: "sbml-no-time-unit", message: "no time unit declared; read as seconds", field: "units.time" },
