@@ -6,6 +6,7 @@ import { readFileSync, writeFileSync } from "node:fs";
 
 import { CircuitError, hasFormulas, noFormulas, parseCircuitWith, type FormulaChecker } from "@/lib/schemas/circuit-rules";
 import type { Circuit } from "@/ssa/types";
+import type { EngineWarning } from "@/ssa/warnings";
 
 /**
  * The formula parser when the document has `expression` laws, else a stub: the parser (mathjs)
@@ -109,11 +110,25 @@ export function overridesFlag(flags: ParsedFlags): Record<string, number> | unde
   return out;
 }
 
+/** A circuit read from a file, with the SBML import's warnings ([] for a circuit file). */
+export interface ReadCircuit {
+  circuit: Circuit;
+  warnings: EngineWarning[];
+}
+
 /**
  * Reads and validates a circuit file (JSON; SBML when the text starts with "<").
  * @throws CliError exit 2 naming the file or the bad field.
  */
 export async function readCircuit(path: string | undefined, command: string): Promise<Circuit> {
+  return (await readCircuitFile(path, command)).circuit;
+}
+
+/**
+ * readCircuit with the SBML import's warnings, which the commands join to their result's.
+ * @throws CliError exit 2 naming the file or the bad field.
+ */
+export async function readCircuitFile(path: string | undefined, command: string): Promise<ReadCircuit> {
   if (!path) throw new CliError(`<file>: a circuit file is required (see \`${command} --help\`)`);
   let text: string;
   try {
@@ -131,7 +146,7 @@ export async function readCircuit(path: string | undefined, command: string): Pr
   }
   const checker = await formulaCheckerFor(json);
   try {
-    return parseCircuitWith(json, checker);
+    return { circuit: parseCircuitWith(json, checker), warnings: [] };
   } catch (e) {
     if (e instanceof CircuitError) throw new CliError(e.message);
     throw e;
@@ -142,7 +157,7 @@ export async function readCircuit(path: string | undefined, command: string): Pr
 export const SBML_IMPORT_BUDGET_MS = 10_000;
 
 /** SBML import lives in ssa/sbml.ts (deterministic side); loaded only for SBML input. */
-async function readSbml(text: string, path: string): Promise<Circuit> {
+async function readSbml(text: string, path: string): Promise<ReadCircuit> {
   let mod: Record<string, unknown>;
   try {
     mod = (await import(new URL("../ssa/sbml.ts", import.meta.url).href)) as Record<string, unknown>;
@@ -154,12 +169,30 @@ async function readSbml(text: string, path: string): Promise<Circuit> {
   try {
     const c = fn(text, { timeBudget: { ms: SBML_IMPORT_BUDGET_MS, now: () => performance.now() } });
     const json = (c as { circuit?: unknown }).circuit ?? c;
-    return parseCircuitWith(json, await formulaCheckerFor(json));
+    const warnings = (c as { warnings?: EngineWarning[] }).warnings ?? [];
+    return { circuit: parseCircuitWith(json, await formulaCheckerFor(json)), warnings };
   } catch (e) {
     if (e instanceof CircuitError) throw new CliError(e.message);
     const msg = e instanceof Error ? e.message : String(e);
     throw new CliError(msg.includes(":") ? msg : `${path}: ${msg}`);
   }
+}
+
+/**
+ * Writes a result with its warnings: `warnings` (the file's import warnings first, then the
+ * result's own) as the last key of the JSON, always present, and one `warning: <code>: <message>`
+ * line each on stderr, so a person sees them even when the JSON goes to a file.
+ */
+export function writeResult<T extends { warnings: EngineWarning[] }>(result: T, importWarnings: EngineWarning[], out: string | undefined): void {
+  const { warnings, ...rest } = result;
+  const all = [...importWarnings, ...warnings];
+  printWarnings(all);
+  writeJson({ ...rest, warnings: all }, out);
+}
+
+/** One `warning: <code>: <message>` line per warning on stderr. */
+export function printWarnings(warnings: readonly EngineWarning[]): void {
+  for (const w of warnings) process.stderr.write(`warning: ${w.code}: ${w.message}\n`);
 }
 
 /** Writes a result as JSON to `--out` or stdout. @throws CliError exit 1 when the file cannot be written. */

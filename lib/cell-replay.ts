@@ -3,7 +3,7 @@
  * run's own limits (its stored events per cell), never more values than one answer may carry, on
  * the engine pool (lib/engine.ts) within CELL_REPLAY_BUDGET_S.
  */
-import { getRunCircuit, type RunRow } from "@/lib/data/runs";
+import { getRunCircuit, getRunImportWarnings, type RunRow } from "@/lib/data/runs";
 import { runEngineTask } from "@/lib/engine";
 import { env } from "@/lib/env";
 import { conflict, notFound, unprocessable } from "@/lib/http";
@@ -74,7 +74,8 @@ export async function replayCell(run: RunRow, rawIndex: string, query: CellQuery
   };
   const select: CellSelection = { ...(species ? { species } : {}), ...(every !== 1 ? { every } : {}) };
   const outcome = await runEngineTask(
-    { kind: "cell", circuit, overrides: s.overrides, options, index, units: s.units, select },
+    // The version's import warnings first, as `cli trajectory` of the SBML file prints them.
+    { kind: "cell", circuit, overrides: s.overrides, options, index, units: s.units, select, warnings: await getRunImportWarnings(run.id) },
     env.CELL_REPLAY_BUDGET_S,
     (why) => `index: replaying cell ${index} ${why}; replay it with the command line (trajectory)`,
     signal,

@@ -2,6 +2,7 @@ import { parseCircuit } from "@/lib/schemas/circuit";
 import { unprocessable } from "@/lib/http";
 import { sbmlToCircuit, SbmlError } from "@/ssa/sbml";
 import type { Circuit } from "@/ssa/types";
+import type { EngineWarning } from "@/ssa/warnings";
 
 /**
  * Wall-clock budget of one SBML import on the web thread. The import's own bounds (ssa/sbml-math.ts
@@ -15,7 +16,7 @@ export const SBML_IMPORT_BUDGET_MS = 10_000;
  * validated like any circuit file.
  * @throws CircuitError or HttpError 422 naming the field (or the SBML element).
  */
-export async function circuitFromBody(body: { circuit?: unknown; sbml?: string }): Promise<{ circuit: Circuit; sourceFormat: "circuit" | "sbml"; warnings: string[] }> {
+export async function circuitFromBody(body: { circuit?: unknown; sbml?: string }): Promise<{ circuit: Circuit; sourceFormat: "circuit" | "sbml"; warnings: EngineWarning[] }> {
   if (body.sbml !== undefined) {
     try {
       const { circuit, warnings } = sbmlToCircuit(body.sbml, { timeBudget: { ms: SBML_IMPORT_BUDGET_MS, now: () => performance.now() } });

@@ -7,6 +7,7 @@
 import type { VisualizationSpec } from "vega-embed";
 
 import { toCsv } from "@/lib/run-export";
+import type { EngineWarning } from "@/ssa/warnings";
 
 export type ComparisonStatus = "draft" | "running" | "succeeded" | "failed" | "cancelled";
 
@@ -28,6 +29,8 @@ export interface DesignResultJson {
   values: Record<string, number> | null;
   lna: { stable: boolean | null; oscillatory: boolean | null; note: string };
   species: SpeciesNoiseJson[];
+  /** The design run's warnings (absent from results stored before warnings existed). */
+  warnings?: EngineWarning[];
 }
 
 /** The LNA CV along a sweep's first axis (per value of the second axis for a grid). */

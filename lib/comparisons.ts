@@ -4,7 +4,7 @@ import type {
 } from "@/lib/comparison-view";
 import { MODEL_CAVEAT, comparisonProgress } from "@/lib/comparison-view";
 import {
-  cancelComparisonRuns, cancelDesignRuns, deleteComparison, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunCellStatsGz, getRunNoise,
+  cancelComparisonRuns, cancelDesignRuns, deleteComparison, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunCellStatsGz, getRunNoise, getRunWarnings,
   insertComparison, insertDesignRuns, listDesigns, listSettledRunningComparisons, storeComparisonResults, getComparisonResults,
   type ComparisonRow, type DesignRow, type NewDesign,
 } from "@/lib/data/comparisons";
@@ -408,11 +408,12 @@ async function computeResults(c: ComparisonRow, designs: DesignRow[]): Promise<C
     const cs = await designCellStats(d);
     if (cs.nSpecies !== species.length) throw new Error(`design "${d.label}": per-cell statistics do not match the circuit's species`);
     const noise = (await getRunNoise<StoredNoise>(d.runId!)) ?? {};
+    const warnings = await getRunWarnings(d.runId!);
     const intervals = bootstrapNoise(cs, { seed: c.seed, stream: d.position, replicates: COMPARISON_LIMITS.replicates, level: COMPARISON_LIMITS.level });
     const lna = lnaOf(v.circuit, d.overrides ?? {});
     out.push({
       design_id: d.id, position: d.position, label: d.label, run_id: d.runId!, seed: d.runSeed ?? c.seed, cells: cs.cells,
-      values: d.sweepValues, lna: { stable: lna.stable, oscillatory: lna.oscillatory, note: lna.note },
+      values: d.sweepValues, lna: { stable: lna.stable, oscillatory: lna.oscillatory, note: lna.note }, warnings,
       species: species.map((sp, i): SpeciesNoiseJson => {
         const iv = intervals[i]!;
         const oscillating = noise.period?.[sp]?.oscillating === true;

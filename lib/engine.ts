@@ -73,7 +73,9 @@ async function computeVersionResult(version: VersionRow, kind: VersionResultKind
   const { field, verb } = WHAT[kind];
   let outcome: EngineOutcome;
   try {
-    outcome = await runEngineTask({ kind, circuit: version.circuit }, env.ENGINE_BUDGET_S,
+    // The analysis carries the version's import warnings first, as `cli analyze` of the SBML file does.
+    const task: EngineTask = kind === "analysis" ? { kind, circuit: version.circuit, warnings: version.importWarnings } : { kind, circuit: version.circuit };
+    outcome = await runEngineTask(task, env.ENGINE_BUDGET_S,
       (why) => `${field}: ${why}; the circuit is too large to ${verb} on the server`);
   } catch (e) {
     if (e instanceof HttpError && e.status === 422) {

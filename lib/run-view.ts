@@ -4,6 +4,7 @@
  * I/O; the browser and tests import it.
  */
 import type { TrajectoryResult } from "@/ssa/ensemble";
+import type { EngineWarning } from "@/ssa/warnings";
 
 export type RunStatus = "queued" | "running" | "succeeded" | "failed" | "cancelled";
 export type RunMethod = "ode" | "ssa" | "tau";
@@ -32,6 +33,8 @@ export interface RunJson {
   finished_at: string | null;
   wall_s: number | null;
   events: number | null;
+  /** Caveats on the run's numbers, [] until it has a summary (older API answers may lack it). */
+  warnings?: EngineWarning[];
 }
 
 export interface MomentsJson { mean: number | null; variance: number | null; cv: number | null; fano: number | null }
@@ -58,6 +61,8 @@ export interface SummaryJson {
   final: Record<string, MomentsJson>;
   stationary: Record<string, MomentsJson>;
   period: Record<string, PeriodJson>;
+  /** Caveats on these numbers (absent from summaries stored before warnings existed). */
+  warnings?: EngineWarning[];
   events: number;
   wall_s: number;
   events_per_s?: number;
@@ -80,6 +85,7 @@ export interface AnalysisJson {
   stable: boolean;
   oscillatory: boolean;
   lna: { covariance: number[][]; cv: Record<string, number | null>; fano: Record<string, number | null> } | null;
+  warnings?: EngineWarning[];
 }
 
 /** Whether a run may still change: queued or running. */

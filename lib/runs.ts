@@ -89,6 +89,8 @@ export function runToJson(r: RunRow) {
     chunks_done: r.chunksDone, chunks_total: r.chunksTotal, engine_version: r.engineVersion,
     created_by: r.createdByEmail, created_at: r.createdAt, started_at: r.startedAt, finished_at: r.finishedAt,
     wall_s: r.wallS, events: r.events,
+    // Caveats on the run's numbers (ssa/warnings.ts): [] until it has a summary, then the summary's.
+    warnings: r.warnings ?? [],
   };
 }
 

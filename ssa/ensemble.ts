@@ -13,6 +13,7 @@ import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, histogram
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
+import type { EngineWarning } from "./warnings";
 
 export type StochasticMethod = "ssa" | "tau";
 
@@ -214,6 +215,8 @@ export interface TrajectoryResult {
   method: StochasticMethod;
   time_unit: string;
   amount_unit: string;
+  /** Caveats on this path (ssa/warnings.ts); [] when none. */
+  warnings: EngineWarning[];
 }
 
 /**
@@ -249,5 +252,6 @@ export function trajectory(m: Model, o: EnsembleOptions, index: number, units: "
     method: o.method,
     time_unit: m.timeUnit,
     amount_unit: units === "model" ? m.amountUnit : "molecules",
+    warnings: [],
   };
 }

@@ -25,6 +25,7 @@ import {
   type ExpansionBudget, type Formula, type MathAst, type TranslateContext, type XmlNode,
 } from "./sbml-math";
 import { CIRCUIT_FORMAT, isReservedId, reservedIdReason, type AmountUnit, type Circuit, type ParameterInfo, type RateLaw, type Reaction, type TimeUnit } from "./types";
+import { makeWarning, type EngineWarning } from "./warnings";
 
 /** Bad or unsupported SBML. The message starts with `sbml:` and names the element. */
 export class SbmlError extends Error {
@@ -50,8 +51,8 @@ export interface SbmlImportOptions {
 
 export interface SbmlImport {
   circuit: Circuit;
-  /** Things that were approximated or dropped, one sentence each. */
-  warnings: string[];
+  /** Things that were approximated or dropped, each with a stable code (README, "Warnings"). */
+  warnings: EngineWarning[];
   level: number;
   version: number;
 }
@@ -74,6 +75,12 @@ export const RATE_ANNOTATION_NS = "urn:burstwise:sbml:rate-law:1";
 /** Local name of the element circuitToSbml puts in a parameter's <annotation> (its unit text). */
 export const PARAMETER_ANNOTATION = "burstwiseParameterInfo";
 export const PARAMETER_ANNOTATION_NS = "urn:burstwise:sbml:parameter-info:1";
+/**
+ * Above this cell volume (1 nL, in fL) an imported compartment is far larger than a cell: counts
+ * become so large that exact stochastic runs are out of reach, which usually means a size written
+ * in another unit than the file declares (e.g. a Level 2 file with size="1", read as 1 litre).
+ */
+const LARGE_VOLUME_FL = 1e6;
 /** Limits of `parameter_info` texts in the circuit file (lib/schemas/circuit-rules.ts). */
 const MAX_UNIT_TEXT = 40;
 const MAX_NOTE_TEXT = 500;
@@ -221,7 +228,7 @@ function sampleSequence(seed: number): () => number {
 }
 
 class SbmlReader {
-  private readonly warnings: string[] = [];
+  private readonly warnings: EngineWarning[] = [];
   private level = 0;
   private version = 0;
   private model!: XmlNode;
@@ -357,6 +364,8 @@ class SbmlReader {
 
   private resolveUnit(ref: string | undefined): UnitInfo | undefined {
     if (!ref) return undefined;
+    // Level 2's built-in names (substance, volume, time) mean the model's redefinition or the default.
+    if (this.level === 2 && (ref === "substance" || ref === "volume" || ref === "time")) return this.level2Unit(ref);
     return this.unitDefs.get(ref) ?? BASE_UNITS[ref] ?? { kind: "other", factor: 1 };
   }
 
@@ -417,8 +426,18 @@ class SbmlReader {
     }
   }
 
+  /**
+   * A Level 2 built-in unit: the model's redefinition of `substance`, `volume` or `time` when it
+   * has one, else the default of SBML L2V4 §4.4.3 (Table 4: substance = mole, volume = litre,
+   * time = second; the same in L2V1–V5). Level 3 has no defaults: undefined there.
+   */
+  private level2Unit(name: "substance" | "volume" | "time"): UnitInfo | undefined {
+    if (this.level !== 2) return undefined;
+    return this.unitDefs.get(name) ?? BASE_UNITS[{ substance: "mole", volume: "litre", time: "second" }[name]];
+  }
+
   private readCompartments(): void {
-    const modelVolume = this.level === 3 ? this.resolveUnit(attrsOf(this.model).volumeUnits) : this.unitDefs.get("volume");
+    const modelVolume = this.level === 3 ? this.resolveUnit(attrsOf(this.model).volumeUnits) : this.level2Unit("volume");
     for (const c of listOf(this.model, "listOfCompartments", "compartment")) {
       const a = attrsOf(c);
       const id = a.id;
@@ -578,8 +597,8 @@ class SbmlReader {
 
   private decideUnits(): void {
     const ma = attrsOf(this.model);
-    const substance = this.level === 3 ? this.resolveUnit(ma.extentUnits ?? ma.substanceUnits) : this.unitDefs.get("substance");
-    const time = this.level === 3 ? this.resolveUnit(ma.timeUnits) : this.unitDefs.get("time");
+    const substance = this.level === 3 ? this.resolveUnit(ma.extentUnits ?? ma.substanceUnits) : this.level2Unit("substance");
+    const time = this.level === 3 ? this.resolveUnit(ma.timeUnits) : this.level2Unit("time");
     // Per-species substance units must agree with the kinetic laws' (extent) units.
     for (const s of this.species.values()) {
       const unit = this.resolveUnit(s.substanceUnits);
@@ -591,9 +610,9 @@ class SbmlReader {
     let seconds = 1;
     if (time) {
       if (time.kind === "second") seconds = time.factor;
-      else this.warnings.push(`time unit is not based on seconds; read as seconds`);
+      else this.warnings.push(makeWarning("sbml-time-unit-unknown", "the time unit is not based on seconds; read as seconds", "units.time"));
     } else {
-      this.warnings.push("no time unit declared; read as seconds");
+      this.warnings.push(makeWarning("sbml-no-time-unit", "no time unit declared; read as seconds", "units.time"));
     }
     this.timeUnit = seconds >= 3600 * (1 - 1e-12) ? "h" : seconds >= 60 * (1 - 1e-12) ? "min" : "s";
     const ours = { s: 1, min: 60, h: 3600 }[this.timeUnit];
@@ -631,13 +650,22 @@ class SbmlReader {
       this.concVolume = sizeSbml;
       this.concCompartment = [...dynamicCompartments][0];
       this.volumeFL = roundSig(volumeL / 1e-15);
+      if (this.volumeFL > LARGE_VOLUME_FL) {
+        const perNm = this.volumeFL * 1e-15 * 1e-9 * AVOGADRO;
+        this.warnings.push(makeWarning("sbml-volume-large",
+          `the compartment holds ${volumeL} L, so 1 nM is ${perNm.toPrecision(3)} molecules; stochastic runs will be slow or refused (is the size meant in litres?)`, "volume_fL"));
+      }
       return;
     }
     this.amountUnit = "molecules";
     if (substance?.kind === "mole") this.perSubstance = AVOGADRO * substance.factor;
     else if (substance?.kind === "item") this.perSubstance = substance.factor;
     else this.perSubstance = 1;
-    if (substance === undefined) this.warnings.push("no substance unit declared; amounts read as molecules");
+    if (substance === undefined) {
+      this.warnings.push(makeWarning("sbml-no-substance-unit", "no substance unit declared; amounts read as molecules", "units.amount"));
+    } else if (substance.kind !== "mole" && substance.kind !== "item" && substance.kind !== "dimensionless") {
+      this.warnings.push(makeWarning("sbml-substance-unit-unknown", "the substance unit is neither mole nor item; amounts read as molecules", "units.amount"));
+    }
     // A single litre-based compartment still tells the cell volume, for reference.
     if (dynamicCompartments.size === 1) {
       const c = this.compartments.get([...dynamicCompartments][0]) as CompartmentInfo;
@@ -654,7 +682,7 @@ class SbmlReader {
       id = `${sbmlId}_`;
       while (this.usedIds.has(id) || !isSafeSymbol(id)) id += "_";
       this.usedIds.add(id);
-      this.warnings.push(`id "${sbmlId}" renamed "${id}" (reserved in formulas)`);
+      this.warnings.push(makeWarning("sbml-id-renamed", `id "${sbmlId}" renamed "${id}" (reserved in formulas)`));
     }
     this.rename.set(sbmlId, id);
     return id;
@@ -742,7 +770,7 @@ class SbmlReader {
       const reactants = this.stoichiometry(r, "listOfReactants", where);
       const products = this.stoichiometry(r, "listOfProducts", where);
       if (Object.keys(reactants).length === 0 && Object.keys(products).length === 0) {
-        this.warnings.push(`${where} changes no dynamic species; dropped`);
+        this.warnings.push(makeWarning("sbml-reaction-dropped", `${where} changes no dynamic species; dropped`));
         continue;
       }
       const kl = child(r, "kineticLaw");
@@ -767,12 +795,12 @@ class SbmlReader {
         throw this.mathError(`${where} kineticLaw`, e);
       }
       const name = a.name ? { name: a.name.slice(0, 200) } : {};
-      if (a.fast === "true") this.warnings.push(`${where} is marked fast; simulated at its kinetic law's rate like the others`);
+      if (a.fast === "true") this.warnings.push(makeWarning("sbml-fast-ignored", `${where} is marked fast; simulated at its kinetic law's rate like the others`));
       const reversible = a.reversible === undefined ? this.level === 2 : a.reversible === "true";
       const halves = reversible ? splitNetRate(ast) : null;
       const split = halves !== null;
       if (reversible && !split) {
-        this.warnings.push(`${where} is reversible with a net rate law; stochastic runs clip negative propensities to 0`);
+        this.warnings.push(makeWarning("sbml-reversible-clipped", `${where} is reversible with a net rate law; stochastic runs clip negative propensities to 0`));
       }
       const parts: [string, MathAst, Record<string, number>, Record<string, number>][] = halves
         ? [
@@ -805,7 +833,21 @@ class SbmlReader {
 
   private annotated = new Map<string, RateLaw>();
 
-  /** Kinetic law (substance/time in the file) → our rate f (amount/time in the circuit). */
+  /**
+   * Kinetic law (substance/time in the file) → our rate f (amount/time in the circuit).
+   *
+   * Worked example, a Level 2 file with the default units (mol, L, s; SBML L2V4 §4.4.3) and the
+   * law KL = cell·k·A·B in mol/s with k in M⁻¹s⁻¹ and V = cell in litres: the circuit is in µM
+   * (κ = 1e-6, SBML concentration [A] = κ·yA), so
+   *   f = KL / (κ·V) = k·κ²·yA·yB / κ = (k·1e-6)·yA·yB  µM/s,
+   * i.e. the constant in µM⁻¹s⁻¹ is k·1e-6, as 1 M⁻¹ = 1e-6 µM⁻¹. The model then takes the
+   * propensity a(x) = Ω·f(x/Ω) with Ω = V·N_A·1e-6 molecules per µM (CONTRACT.md §1), which gives
+   *   a(x) = k·xA·xB / (N_A·V),
+   * the stochastic constant c = k/(N_A·V) of a bimolecular reaction (Gillespie 1977, J. Phys.
+   * Chem. 81:2340, eq. 10; Wilkinson, Stochastic Modelling for Systems Biology, §6.6). A first-
+   * order constant in s⁻¹ is unchanged (f = k·yA), and a zeroth-order one in M/s becomes k·1e6 µM/s.
+   * tests/ssa/sbml-units.test.ts checks all three against these formulas.
+   */
   private toRate(ast: MathAst, body: Formula): Formula {
     let f = body;
     let factor = this.timeFactor;
@@ -834,7 +876,7 @@ class SbmlReader {
       if (a.id && this.initialAssignments.has(a.id)) throw new SbmlError(`sbml: ${where}: stoichiometry set by initialAssignment is not supported`);
       let nu = 1;
       if (a.stoichiometry !== undefined) nu = parseNumberAttr(a.stoichiometry, `${where} stoichiometry of "${sid}"`);
-      else if (this.level === 3) this.warnings.push(`${where}: stoichiometry of "${sid}" not given; read as 1`);
+      else if (this.level === 3) this.warnings.push(makeWarning("sbml-stoichiometry-default", `${where}: stoichiometry of "${sid}" not given; read as 1`));
       if (!(Number.isInteger(nu) && nu > 0)) throw new SbmlError(`sbml: ${where}: stoichiometry of "${sid}" must be a positive integer (got ${nu})`);
       const s = this.species.get(sid) as SpeciesInfo;
       if (this.isFixed(s)) continue;
@@ -857,7 +899,7 @@ class SbmlReader {
       mathModel = compileModel(circuit);
       annModel = compileModel(candidate);
     } catch {
-      this.warnings.push("rate-law annotations ignored (they do not compile)");
+      this.warnings.push(makeWarning("sbml-annotation-ignored", "rate-law annotations ignored (they do not compile)"));
       return;
     }
     const nS = circuit.species.length;
@@ -881,7 +923,7 @@ class SbmlReader {
     circuit.reactions = circuit.reactions.map((r, j) => {
       if (!this.annotated.has(r.id)) return r;
       if (agrees[j]) return { ...r, rate: this.annotated.get(r.id) as RateLaw };
-      this.warnings.push(`reaction "${r.id}": annotation differs from the kinetic law; the kinetic law is used`);
+      this.warnings.push(makeWarning("sbml-annotation-differs", `reaction "${r.id}": annotation differs from the kinetic law; the kinetic law is used`));
       return r;
     });
   }
@@ -909,7 +951,7 @@ class SbmlReader {
         out[id] = this.initialValue(g);
       } catch (e) {
         if (used.has(id)) throw e;
-        this.warnings.push(`parameter "${g}" has no value and is unused; dropped`);
+        this.warnings.push(makeWarning("sbml-parameter-dropped", `parameter "${g}" has no value and is unused; dropped`));
         void p;
       }
     }

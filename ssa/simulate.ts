@@ -85,6 +85,7 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
     amount_unit: units === "model" ? model.amountUnit : "molecules",
     omega: model.omega,
     trace: sol.trace,
+    warnings: [],
   };
 }
 

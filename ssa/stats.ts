@@ -7,6 +7,8 @@
  * notes"). Pure: no I/O.
  */
 
+import type { EngineWarning } from "./warnings";
+
 export const PARTIAL_FORMAT = "burstwise.partial/1" as const;
 
 /** Periods and amplitudes of one species for a contiguous range of cells, in cell order. */
@@ -436,6 +438,8 @@ export interface SimulateSummary {
   amount_unit: string;
   omega: number;
   trace?: Record<string, number[]>;
+  /** Caveats on these numbers (ssa/warnings.ts); [] when none. Always present, last but for `trace`. */
+  warnings: EngineWarning[];
 }
 
 export interface FinalizeOptions {
@@ -586,5 +590,6 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
     time_unit: o.timeUnit,
     amount_unit: o.units === "model" ? o.amountUnit : "molecules",
     omega: o.omega,
+    warnings: [],
   };
 }

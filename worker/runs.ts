@@ -8,7 +8,7 @@ import type { Job } from "pg-boss";
 import type { Piscina } from "piscina";
 
 import { db } from "../db/client";
-import { failRun, getRun, getRunCircuit, gzipJson, type RunRow } from "../lib/data/runs";
+import { failRun, getRun, getRunCircuit, getRunImportWarnings, gzipJson, type RunRow } from "../lib/data/runs";
 import { Queues, RunChunkJob, RunFinalizeJob } from "../lib/jobs";
 import { RUN_LIMITS } from "../lib/schemas/runs";
 import { cellStatsOf, encodeCellStats } from "../ssa/cell-stats";
@@ -122,6 +122,7 @@ async function finishTrace(run: RunRow): Promise<void> {
   const summary = await runSimulation(circuit, {
     method: "ode", tEnd: s.t_end, dt: s.dt, units: s.units, overrides: s.overrides, ...(s.burn_in !== undefined ? { burnIn: s.burn_in } : {}),
   });
+  summary.warnings = [...(await getRunImportWarnings(run.id)), ...summary.warnings];
   const { trace, ...rest } = summary;
   await storeResult(run, rest as Record<string, unknown>, trace ?? null, null, 0, summary.wall_s);
 }
@@ -144,6 +145,8 @@ export async function handleFinalize(job: Job<unknown>): Promise<void> {
     const options = ensembleOptions(run);
     const wallS = run.startedAt ? (Date.now() - new Date(run.startedAt).getTime()) / 1000 : 0;
     const summary = summarize(model, options, merged!, { units: run.settings.units, wallS });
+    // The version's import warnings first, as `cli simulate` of the SBML file prints them.
+    summary.warnings = [...(await getRunImportWarnings(runId)), ...summary.warnings];
     let trace: Record<string, number[]> | null = null;
     try {
       trace = solveOde(model, { tEnd: options.tEnd, dt: options.dt, units: run.settings.units }).trace;
@@ -174,6 +177,8 @@ async function storeResult(run: RunRow, summary: Record<string, unknown>, trace:
     await trx("run_results").insert({
       runId: run.id, summaryGz, traceGz: trace ? gzipJson(trace) : null, cellsGz: cells ? gzipJson(cells) : null,
       noise: JSON.stringify(noise), summaryBytes: summaryGz.length, cellStatsGz,
+      // Kept beside the gzipped summary so the run's own JSON can carry them without unpacking it.
+      warnings: JSON.stringify(Array.isArray(summary.warnings) ? summary.warnings : []),
     }).onConflict("runId").ignore();
     const n: number = await trx("runs").where({ id: run.id, status: "running" })
       .update({ status: "succeeded", finishedAt: trx.fn.now(), events, wallS, chunksDone: run.chunksTotal });

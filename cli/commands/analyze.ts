@@ -4,7 +4,7 @@ import { analyze, SteadyStateError } from "@/ssa/analyze";
 import { compileModel } from "@/ssa/model";
 import { OdeError } from "@/ssa/ode";
 
-import { CliError, overridesFlag, parseFlags, readCircuit, writeJson, type Command } from "../common";
+import { CliError, overridesFlag, parseFlags, readCircuitFile, writeResult, type Command } from "../common";
 
 export const command: Command = {
   summary: "deterministic steady state, Jacobian eigenvalues, stable or oscillatory (Hopf), LNA noise",
@@ -20,6 +20,8 @@ integrated until it settles, then refined by damped Newton. Prints as JSON
   lna           linear noise approximation at a stable steady state, in molecules:
                 covariance (species order as in the file), cv and fano per species;
                 null when the steady state is not stable
+  warnings      caveats (the SBML import's, then the analysis's), [] when none; also
+                printed on stderr, one "warning: <code>: <message>" line each
 
 Options:
   --set name=value         override a parameter (repeatable)
@@ -31,7 +33,7 @@ another failure of the tool.`,
   async run(argv) {
     const flags = parseFlags(argv, { set: "list", units: "string", out: "string" }, "analyze");
     if (flags.positional.length > 1) throw new CliError(`${flags.positional[1]}: unexpected argument (see \`analyze --help\`)`);
-    const circuit = await readCircuit(flags.positional[0], "analyze");
+    const { circuit, warnings } = await readCircuitFile(flags.positional[0], "analyze");
     const units = (flags.values.units as string | undefined) ?? "model";
     if (units !== "model" && units !== "molecules") throw new CliError(`--units: must be "model" or "molecules", got "${units}"`);
     const overrides = overridesFlag(flags);
@@ -48,6 +50,6 @@ another failure of the tool.`,
       if (e instanceof SteadyStateError || e instanceof OdeError) throw new CliError(`analyze: ${e.message}`, 1);
       throw e;
     }
-    writeJson(result, flags.values.out as string | undefined);
+    writeResult(result, warnings, flags.values.out as string | undefined);
   },
 };

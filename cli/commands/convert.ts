@@ -6,7 +6,7 @@ import { isSbmlText, SbmlError, sbmlToCircuit } from "@/ssa/sbml";
 import { circuitToSbml } from "@/ssa/sbml-export";
 import type { Circuit } from "@/ssa/types";
 
-import { CliError, parseFlags, SBML_IMPORT_BUDGET_MS, type Command } from "../common";
+import { CliError, parseFlags, printWarnings, SBML_IMPORT_BUDGET_MS, type Command } from "../common";
 
 export const command: Command = {
   summary: "write a circuit as SBML Level 3 Version 2, or an SBML file as a circuit file",
@@ -23,7 +23,7 @@ Options:
   --to sbml|circuit  output format (required)
   --out FILE         write there instead of stdout
 
-SBML import notes (approximations, dropped parts) go to stderr as "warning: ..." lines.
+SBML import notes (approximations, dropped parts) go to stderr as "warning: <code>: <message>" lines.
 Exit codes: 0 success, 2 bad input (the message names the element or field), 1 failure of the tool.`,
   async run(argv) {
     const flags = parseFlags(argv, { to: "string", out: "string" }, "convert");
@@ -63,7 +63,7 @@ export function loadCircuitFile(path: string | undefined): Circuit {
   try {
     if (isSbmlText(text)) {
       const imported = sbmlToCircuit(text, { timeBudget: { ms: SBML_IMPORT_BUDGET_MS, now: () => performance.now() } });
-      for (const w of imported.warnings) process.stderr.write(`warning: ${w}\n`);
+      printWarnings(imported.warnings);
       return parseCircuit(imported.circuit);
     }
     let json: unknown;

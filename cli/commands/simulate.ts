@@ -2,14 +2,16 @@
 import { defaultThreads } from "@/ssa/node/pool";
 import { runSimulation } from "@/ssa/node/run-lazy";
 
-import { parseFlags, readCircuit, writeJson, type Command } from "../common";
+import { parseFlags, readCircuitFile, writeResult, type Command } from "../common";
 import { RUN_FLAGS, RUN_FLAGS_HELP, runOptionsFromFlags } from "./options";
 
 export const command: Command = {
   summary: "one run (ode, or an ssa/tau ensemble): means, SDs, quantiles, noise and periods as JSON",
   help: `Usage: simulate <file> [options]
 
-Simulates a circuit file (or SBML file) and prints the statistics as JSON.
+Simulates a circuit file (or SBML file) and prints the statistics as JSON. Its "warnings"
+(the SBML import's, then the run's) are also printed on stderr, one "warning: <code>: <message>"
+line each.
 
 Options:
 ${RUN_FLAGS_HELP}
@@ -17,7 +19,7 @@ ${RUN_FLAGS_HELP}
 Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of the tool.`,
   async run(argv) {
     const flags = parseFlags(argv, RUN_FLAGS, "simulate");
-    const circuit = await readCircuit(flags.positional[0], "simulate");
+    const { circuit, warnings } = await readCircuitFile(flags.positional[0], "simulate");
     const o = await runOptionsFromFlags(flags, circuit);
     const summary = await runSimulation(circuit, {
       method: o.method,
@@ -31,6 +33,6 @@ Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of t
       tauEpsilon: o.tauEpsilon,
       threads: o.threads ?? defaultThreads(),
     });
-    writeJson(summary, flags.values.out as string | undefined);
+    writeResult(summary, warnings, flags.values.out as string | undefined);
   },
 };

@@ -1,7 +1,7 @@
 /** `trajectory <file> --seed S --index I`: cell I of the `simulate --seed S` ensemble, replayed alone. */
 import { runTrajectoryLazily } from "@/ssa/node/run-lazy";
 
-import { CliError, numberFlag, parseFlags, readCircuit, writeJson, type Command } from "../common";
+import { CliError, numberFlag, parseFlags, readCircuitFile, writeResult, type Command } from "../common";
 import { RUN_FLAGS, RUN_FLAGS_HELP, runOptionsFromFlags } from "./options";
 
 export const command: Command = {
@@ -15,11 +15,12 @@ Options:
   --index I              cell index (required)
 ${RUN_FLAGS_HELP}
 (--runs and --threads are accepted and ignored; --method must be ssa or tau.)
+Warnings go into the JSON's "warnings" and on stderr, one "warning: <code>: <message>" line each.
 
 Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of the tool.`,
   async run(argv) {
     const flags = parseFlags(argv, { ...RUN_FLAGS, index: "string" }, "trajectory");
-    const circuit = await readCircuit(flags.positional[0], "trajectory");
+    const { circuit, warnings } = await readCircuitFile(flags.positional[0], "trajectory");
     if (flags.values.seed === undefined) throw new CliError("--seed: is required");
     const index = numberFlag(flags, "index");
     if (index === undefined) throw new CliError("--index: is required");
@@ -37,6 +38,6 @@ Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of t
       units: o.units,
       tauEpsilon: o.tauEpsilon,
     });
-    writeJson(result, flags.values.out as string | undefined);
+    writeResult(result, warnings, flags.values.out as string | undefined);
   },
 };

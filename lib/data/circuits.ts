@@ -4,6 +4,7 @@ import { db } from "@/db/client";
 import { audited, type AuditFor } from "@/lib/data/audit";
 import { conflict, notFound } from "@/lib/http";
 import type { Circuit } from "@/ssa/types";
+import type { EngineWarning } from "@/ssa/warnings";
 
 /** JSON with object keys sorted at every depth: the same circuit always gives the same text. */
 export function canonicalJson(value: unknown): string {
@@ -24,22 +25,26 @@ export interface CircuitSummary {
 export interface VersionRow {
   id: string; circuitId: string; labId: string; number: number; circuit: Circuit; contentHash: string;
   sourceFormat: string; message: string | null; createdBy: string | null; createdByEmail: string | null; createdAt: Date;
+  /** The warnings of the SBML import that made this version ([] for a circuit file). */
+  importWarnings: EngineWarning[];
 }
 
 const isUnique = (e: unknown) => (e as { code?: string }).code === "23505";
 
 /**
- * Stores a new circuit and its version 1 in one transaction.
+ * Stores a new circuit and its version 1 (with the warnings of the import that made it) in one transaction.
  * @throws 409 when the lab already has a circuit of that name.
  */
 export async function createCircuit(
   labId: string, userId: string, circuit: Circuit, sourceFormat = "circuit", audit?: AuditFor<{ id: string; versionId: string }>,
+  importWarnings: EngineWarning[] = [],
 ): Promise<{ id: string; versionId: string }> {
   try {
     return await audited(async (trx) => {
       const [c] = await trx("circuits").insert({ labId, name: circuit.name, createdBy: userId }).returning(["id"]);
       const [v] = await trx("circuit_versions").insert({
         circuitId: c.id, number: 1, circuit: canonicalJson(circuit), contentHash: contentHash(circuit), sourceFormat, createdBy: userId,
+        importWarnings: JSON.stringify(importWarnings),
       }).returning(["id"]);
       return { id: String(c.id), versionId: String(v.id) };
     }, audit);
@@ -50,12 +55,12 @@ export async function createCircuit(
 }
 
 /**
- * Saves an edit as the next version; an edit identical to an existing version returns that
- * version instead (`created: false`).
+ * Saves an edit as the next version (with the warnings of the import that made it); an edit
+ * identical to an existing version returns that version instead (`created: false`).
  */
 export async function addVersion(
   circuitId: string, userId: string, circuit: Circuit, message?: string, sourceFormat = "circuit",
-  audit?: AuditFor<{ versionId: string; number: number; created: boolean }>,
+  audit?: AuditFor<{ versionId: string; number: number; created: boolean }>, importWarnings: EngineWarning[] = [],
 ): Promise<{ versionId: string; number: number; created: boolean }> {
   const hash = contentHash(circuit);
   return audited(async (trx) => {
@@ -68,6 +73,7 @@ export async function addVersion(
     const number = (last[0]?.max ?? 0) + 1;
     const [v] = await trx("circuit_versions").insert({
       circuitId, number, circuit: canonicalJson(circuit), contentHash: hash, sourceFormat, message: message ?? null, createdBy: userId,
+      importWarnings: JSON.stringify(importWarnings),
     }).returning(["id"]);
     if (circuit.name !== c.name) {
       try {
@@ -109,13 +115,14 @@ export async function getCircuit(id: string): Promise<{ id: string; labId: strin
 
 export interface VersionInfo {
   id: string; number: number; contentHash: string; message: string | null; sourceFormat: string; createdAt: Date; createdByEmail: string | null;
+  importWarnings: EngineWarning[];
 }
 
 /** A circuit's versions, newest first, without the circuit bodies. */
 export async function listVersions(circuitId: string): Promise<VersionInfo[]> {
   const rows = await db("circuit_versions as v").leftJoin("users as u", "u.id", "v.createdBy")
     .where("v.circuitId", circuitId).orderBy("v.number", "desc")
-    .select("v.id", "v.number", "v.contentHash", "v.message", "v.sourceFormat", "v.createdAt", "u.email as createdByEmail");
+    .select("v.id", "v.number", "v.contentHash", "v.message", "v.sourceFormat", "v.createdAt", "u.email as createdByEmail", "v.importWarnings");
   return rows.map((r: VersionInfo) => ({ ...r, id: String(r.id) }));
 }
 
@@ -123,7 +130,7 @@ export async function listVersions(circuitId: string): Promise<VersionInfo[]> {
 export async function getVersion(id: string): Promise<VersionRow | null> {
   const row = await db("circuit_versions as v").join("circuits as c", "c.id", "v.circuitId").leftJoin("users as u", "u.id", "v.createdBy")
     .where("v.id", id)
-    .first("v.id", "v.circuitId", "c.labId", "v.number", "v.circuit", "v.contentHash", "v.sourceFormat", "v.message", "v.createdBy", "u.email as createdByEmail", "v.createdAt");
+    .first("v.id", "v.circuitId", "c.labId", "v.number", "v.circuit", "v.contentHash", "v.sourceFormat", "v.message", "v.createdBy", "u.email as createdByEmail", "v.createdAt", "v.importWarnings");
   return row ? { ...row, id: String(row.id), circuitId: String(row.circuitId), labId: String(row.labId) } : null;
 }
 

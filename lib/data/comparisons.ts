@@ -6,6 +6,7 @@ import { db } from "@/db/client";
 import { audited, type AuditFor } from "@/lib/data/audit";
 import { lockQueuedWork, type QueueGuard } from "@/lib/data/runs";
 import type { RunSettings } from "@/lib/schemas/runs";
+import type { EngineWarning } from "@/ssa/warnings";
 
 export type ComparisonStatus = "draft" | "running" | "succeeded" | "failed" | "cancelled";
 
@@ -211,6 +212,12 @@ export async function getRunCellStatsGz(runId: string): Promise<Buffer | null> {
 }
 
 /** The small per-species noise figures stored with a finished run (stationary, final, period without histograms). */
+/** The warnings stored with a finished run's summary ([] when it has none or no result yet). */
+export async function getRunWarnings(runId: string): Promise<EngineWarning[]> {
+  const row = await db("run_results").where({ runId }).first("warnings");
+  return (row?.warnings as EngineWarning[] | undefined) ?? [];
+}
+
 export async function getRunNoise<T>(runId: string): Promise<T | null> {
   const row = await db("run_results").where({ runId }).first("noise");
   return (row?.noise as T | undefined) ?? null;

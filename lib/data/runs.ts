@@ -6,6 +6,7 @@ import { db } from "@/db/client";
 import { audited, type AuditFor } from "@/lib/data/audit";
 import type { RunSettings } from "@/lib/schemas/runs";
 import type { Circuit } from "@/ssa/types";
+import type { EngineWarning } from "@/ssa/warnings";
 
 export type RunStatus = "queued" | "running" | "succeeded" | "failed" | "cancelled";
 
@@ -15,17 +16,20 @@ export interface RunRow {
   status: RunStatus; chunksTotal: number; chunksDone: number; error: string | null; engineVersion: string;
   createdBy: string | null; createdByEmail: string | null; createdAt: Date; startedAt: Date | null; finishedAt: Date | null;
   cancelRequestedAt: Date | null; wallS: number | null; events: number | null;
+  /** The warnings of the finished run's summary (its version's import warnings first); null before it has one. */
+  warnings: EngineWarning[] | null;
 }
 
 const RUN_COLUMNS = [
   "r.id", "r.labId", "r.versionId", "v.circuitId", "c.name as circuitName", "v.number as versionNumber", "r.kind", "r.method",
   "r.settings", "r.seed", "r.status", "r.chunksTotal", "r.chunksDone", "r.error", "r.engineVersion", "r.createdBy",
   "u.email as createdByEmail", "r.createdAt", "r.startedAt", "r.finishedAt", "r.cancelRequestedAt", "r.wallS", "r.events",
+  "rr.warnings",
 ];
 
 function runsQuery(q: Knex | Knex.Transaction = db) {
   return q("runs as r").join("circuit_versions as v", "v.id", "r.versionId").join("circuits as c", "c.id", "v.circuitId")
-    .leftJoin("users as u", "u.id", "r.createdBy");
+    .leftJoin("users as u", "u.id", "r.createdBy").leftJoin("run_results as rr", "rr.runId", "r.id");
 }
 
 function toRun(r: Record<string, unknown>): RunRow {
@@ -111,6 +115,12 @@ export async function failRun(id: string, error: string): Promise<void> {
 /** Deletes a run; false when it was gone already (`audit` sees which, and records nothing then). */
 export async function deleteRun(id: string, audit?: AuditFor<boolean>): Promise<boolean> {
   return audited(async (trx) => (await trx("runs").where({ id }).delete()) > 0, audit);
+}
+
+/** The warnings of the SBML import that made a run's version ([] for a circuit file). */
+export async function getRunImportWarnings(runId: string): Promise<EngineWarning[]> {
+  const row = await db("runs as r").join("circuit_versions as v", "v.id", "r.versionId").where("r.id", runId).first("v.importWarnings");
+  return (row?.importWarnings as EngineWarning[] | undefined) ?? [];
 }
 
 /** The circuit a run ran (its version's stored JSON). */

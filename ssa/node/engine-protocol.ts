@@ -6,6 +6,7 @@ import type { CompareOptions } from "../bootstrap";
 import type { EnsembleOptions } from "../ensemble";
 import type { ExpectedEventsInput } from "../expected-events";
 import type { Circuit } from "../types";
+import type { EngineWarning } from "../warnings";
 
 /** Slot of the shared started flag: the thread sets it when it begins the task (after loading). */
 export const SLOT_STARTED = 0;
@@ -18,11 +19,14 @@ export interface CellSelection {
 }
 
 export type EngineTask =
-  | { kind: "analysis"; circuit: Circuit }
+  /** `warnings`: the version's import warnings, put before the analysis's own. */
+  | { kind: "analysis"; circuit: Circuit; warnings?: EngineWarning[] }
   | { kind: "counts"; circuit: Circuit }
   | {
       kind: "cell"; circuit: Circuit; overrides?: Record<string, number>; options: EnsembleOptions;
       index: number; units: "molecules" | "model"; select?: CellSelection;
+      /** The version's import warnings, put before the cell's own. */
+      warnings?: EngineWarning[];
     }
   | {
       /**

@@ -31,7 +31,8 @@ function countsJson(circuit: Circuit): string {
 
 /** One cell replayed alone, then cut down to the selected species and grid points. */
 function cellJson(task: Extract<EngineTask, { kind: "cell" }>): string {
-  const cell = trajectory(compileModel(task.circuit, task.overrides), task.options, task.index, task.units);
+  const path = trajectory(compileModel(task.circuit, task.overrides), task.options, task.index, task.units);
+  const cell = task.warnings?.length ? { ...path, warnings: [...task.warnings, ...path.warnings] } : path;
   const every = task.select?.every ?? 1;
   const species = task.select?.species ?? cell.species;
   if (every === 1 && species === cell.species) return JSON.stringify(cell);
@@ -63,8 +64,10 @@ export default function runEngineTask({ task, started }: { task: EngineTask; sta
   Atomics.store(started, SLOT_STARTED, 1);
   try {
     switch (task.kind) {
-      case "analysis":
-        return { ok: true, json: JSON.stringify(analyze(compileModel(task.circuit))) };
+      case "analysis": {
+        const result = analyze(compileModel(task.circuit));
+        return { ok: true, json: JSON.stringify({ ...result, warnings: [...(task.warnings ?? []), ...result.warnings] }) };
+      }
       case "counts":
         return { ok: true, json: countsJson(task.circuit) };
       case "cell":

@@ -39,7 +39,8 @@ describe("cli analyze (through the dispatcher)", () => {
     const osc = cli("analyze", "examples/goodwin.circuit.json");
     expect(osc.code).toBe(0);
     const out = JSON.parse(osc.stdout);
-    expect(Object.keys(out)).toEqual(["steady_state", "eigenvalues", "stable", "oscillatory", "lna"]);
+    expect(Object.keys(out)).toEqual(["steady_state", "eigenvalues", "stable", "oscillatory", "lna", "warnings"]);
+    expect(Array.isArray(out.warnings)).toBe(true);
     expect(out.oscillatory).toBe(true);
     expect(out.lna).toBeNull();
     const missing = cli("analyze", "examples/nope.circuit.json");

@@ -49,6 +49,7 @@ export const LAB_ROUTES: RouteCase[] = [
   { name: "read a version", method: "GET", path: (c) => `/api/versions/${c.versionId}`, allowed: ["owner", "modeler", "reviewer"] },
   { name: "read a version's counts", method: "GET", path: (c) => `/api/versions/${c.versionId}/counts`, allowed: ["owner", "modeler", "reviewer"] },
   { name: "read a version's analysis", method: "GET", path: (c) => `/api/versions/${c.versionId}/analysis`, allowed: ["owner", "modeler", "reviewer"] },
+  { name: "read a version's import warnings", method: "GET", path: (c) => `/api/versions/${c.versionId}/warnings`, allowed: ["owner", "modeler", "reviewer"] },
   { name: "list runs", method: "GET", path: (c) => `/api/runs?lab_id=${c.labId}`, allowed: ["owner", "modeler", "reviewer"] },
   { name: "launch a run", method: "POST", path: () => "/api/runs", body: (c) => ({ version_id: c.versionId, method: "ssa", t_end: 10, dt: 1, runs: 1 }), allowed: ["owner", "modeler"] },
   { name: "read a run", method: "GET", path: async (c) => `/api/runs/${await c.disposableRun()}`, allowed: ["owner", "modeler", "reviewer"] },

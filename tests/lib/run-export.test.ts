@@ -85,7 +85,7 @@ describe("noiseCsv", () => {
 describe("cellCsv", () => {
   const cell: CellJson = {
     seed: 42, index: 3, units: "molecules", species: ["A", "B"], times: [0, 0.5, 1],
-    values: { A: [0, 1, 2], B: [5, 4, 3] }, events: 9, method: "ssa", time_unit: "h", amount_unit: "molecules",
+    values: { A: [0, 1, 2], B: [5, 4, 3] }, events: 9, method: "ssa", time_unit: "h", amount_unit: "molecules", warnings: [],
   };
 
   it("cellCsv(cell) has seed, cell index, time and one column per species, one row per grid time", () => {

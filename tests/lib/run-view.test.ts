@@ -58,7 +58,7 @@ describe("histograms", () => {
 
 describe("sample-cell statistics", () => {
   const cell = (index: number, a: number[]): CellJson => ({
-    seed: 1, index, units: "molecules", species: ["A"], times: [0, 1, 2, 3], values: { A: a }, events: 0, method: "ssa", time_unit: "min", amount_unit: "molecules",
+    seed: 1, index, units: "molecules", species: ["A"], times: [0, 1, 2, 3], values: { A: a }, events: 0, method: "ssa", time_unit: "min", amount_unit: "molecules", warnings: [],
   });
 
   it("valuesAfterBurnIn(cells, sp, b) pools grid values at t ≥ b across cells", () => {

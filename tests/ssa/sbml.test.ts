@@ -176,7 +176,7 @@ describe("SBML round trip", () => {
     const xml = circuitToSbml(c).replace("<ci> g </ci><ci> X </ci>", "<ci> g </ci><ci> X </ci><cn> 2 </cn>");
     const back = sbmlToCircuit(xml);
     expect(back.circuit.reactions[1].rate).toEqual({ law: "expression", expression: "g * X * 2" });
-    expect(back.warnings.join(" ")).toMatch(/lose_X.*annotation differs/);
+    expect(back.warnings.map((w) => `${w.code}: ${w.message}`).join(" ")).toMatch(/sbml-annotation-differs: .*lose_X.*annotation differs/);
   });
 
   it("circuitToSbml writes Level 3 Version 2 with units, one compartment of volume_fL and MathML for Hill laws", () => {
@@ -236,9 +236,10 @@ describe("SBML import of hand-written files", () => {
     const { circuit, warnings, level, version } = sbmlToCircuit(fixture("sbml-l2v4-enzyme.xml"));
     expect([level, version]).toEqual([2, 4]);
     const c = parseCircuit(circuit);
-    // No units declared: substance = molecules, time = s (CONTRACT.md §1; documented choice).
+    // substance redefined as item: molecules; time keeps the Level 2 default, second (SBML L2V4 §4.4.3).
     expect(c.units).toEqual({ time: "s", amount: "molecules" });
-    expect(warnings).toContain("no substance unit declared; amounts read as molecules");
+    expect(warnings.map((w) => w.code)).not.toContain("sbml-no-time-unit");
+    expect(warnings.map((w) => w.code)).not.toContain("sbml-no-substance-unit");
     // Initial counts: S is 10 per unit volume in a compartment of size 2 → 20; E is an amount.
     expect(Object.fromEntries(c.species.map((s) => [s.id, s.initial]))).toEqual({ S: 20, E: 4, ES: 0, P: 1 });
     // The boundary species Src is not simulated; the reversible "bind" became two reactions.
@@ -283,7 +284,7 @@ describe("SBML import of hand-written files", () => {
     expect(c.volume_fL).toBe(2);
     expect(c.description).toBe("Negative autoregulation.\n\nProtein P represses its own gene.");
     expect(c.species).toEqual([{ id: "P", name: "repressor", initial: 0.01 }]);
-    expect(warnings).toEqual(['reaction "synthesis" is marked fast; simulated at its kinetic law\'s rate like the others']);
+    expect(warnings).toEqual([{ code: "sbml-fast-ignored", message: 'reaction "synthesis" is marked fast; simulated at its kinetic law\'s rate like the others' }]);
     const f = ratesById(c, [0.03]);
     expect(f.synthesis).toBeCloseTo((0.05 * 0.02) / (0.02 + 0.03), 15); // nucleus·β·K/(K+P) over the volume
     expect(f.degradation).toBeCloseTo(0.1 * 0.03, 15);
@@ -321,7 +322,7 @@ describe("SBML import of hand-written files", () => {
     const c = parseCircuit(circuit);
     expect(c.species[0].id).toBe("true_");
     expect(c.reactions[0].reactants).toEqual({ true_: 1 });
-    expect(warnings.join(" ")).toMatch(/renamed "true_"/);
+    expect(warnings).toContainEqual({ code: "sbml-id-renamed", message: 'id "true" renamed "true_" (reserved in formulas)' });
     expect(ratesById(c, [4])).toEqual({ r: 8 });
   });
 });

@@ -25,6 +25,6 @@ export const POST = handle("POST /api/circuits", async (req) => {
   const { circuit, sourceFormat, warnings } = await circuitFromBody(body);
   const { id, versionId } = await createCircuit(body.lab_id, user.id, circuit, sourceFormat, (r) => ({
     labId: body.lab_id, actor: user, action: "circuit.created", target: { type: "circuit", id: r.id }, details: { name: circuit.name, version_id: r.versionId, source: sourceFormat },
-  }));
+  }), warnings);
   return Response.json({ id, version_id: versionId, ...(warnings.length ? { warnings } : {}) }, { status: 201 });
 });

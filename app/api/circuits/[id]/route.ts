@@ -13,7 +13,7 @@ export const GET = handle("GET /api/circuits/:id", async (req, ctx: Ctx) => {
   const versions = await listVersions(circuit.id);
   return Response.json({
     id: circuit.id, lab_id: circuit.labId, name: circuit.name, created_at: circuit.createdAt, updated_at: circuit.updatedAt,
-    versions: versions.map((v) => ({ id: v.id, number: v.number, content_hash: v.contentHash, message: v.message, source_format: v.sourceFormat, created_at: v.createdAt, created_by: v.createdByEmail })),
+    versions: versions.map((v) => ({ id: v.id, number: v.number, content_hash: v.contentHash, message: v.message, source_format: v.sourceFormat, created_at: v.createdAt, created_by: v.createdByEmail, warnings: v.importWarnings })),
   });
 });
 

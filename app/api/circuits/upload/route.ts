@@ -54,6 +54,6 @@ export const POST = handle("POST /api/circuits/upload", async (req) => {
   const { id, versionId } = await createCircuit(lab_id, user.id, parsed.circuit, parsed.sourceFormat, (r) => ({
     labId: lab_id, actor: { id: user.id, email: user.email }, action: "circuit.created", target: { type: "circuit", id: r.id },
     details: { name: parsed.circuit.name, version_id: r.versionId, source: parsed.sourceFormat, file_name: file.name },
-  }));
+  }), parsed.warnings);
   return Response.json({ id, version_id: versionId, name: parsed.circuit.name, source_format: parsed.sourceFormat, ...(parsed.warnings.length ? { warnings: parsed.warnings } : {}) }, { status: 201 });
 });

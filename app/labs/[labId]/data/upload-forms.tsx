@@ -123,7 +123,7 @@ export function CircuitUploadForm({ labId }: { labId: string }) {
     const r = await postForm("/api/circuits/upload", form);
     setBusy(false);
     if (!r.ok) return setError(r.error);
-    setDone({ id: String(r.json.id), name: String(r.json.name), warnings: Array.isArray(r.json.warnings) ? r.json.warnings.map(String) : [] });
+    setDone({ id: String(r.json.id), name: String(r.json.name), warnings: Array.isArray(r.json.warnings) ? r.json.warnings.map((w: unknown) => String((w as { message?: unknown })?.message ?? w)) : [] });
     el.reset();
   }
   return (

@@ -15,6 +15,6 @@ export const POST = handle("POST /api/circuits/:id/versions", async (req, ctx: {
   const v = await addVersion(circuit.id, user.id, parsed.circuit, body.message, parsed.sourceFormat, (r) => r.created ? {
     labId: circuit.labId, actor: user, action: "circuit.version_saved", target: { type: "circuit", id: circuit.id },
     details: { name: parsed.circuit.name, version_id: r.versionId, number: r.number, ...(body.message ? { message: body.message } : {}) },
-  } : null);
-  return Response.json({ id: circuit.id, version_id: v.versionId, number: v.number, created: v.created }, { status: v.created ? 201 : 200 });
+  } : null, parsed.warnings);
+  return Response.json({ id: circuit.id, version_id: v.versionId, number: v.number, created: v.created, ...(parsed.warnings.length ? { warnings: parsed.warnings } : {}) }, { status: v.created ? 201 : 200 });
 });

@@ -1,6 +1,7 @@
 import type { Metadata } from "next";
 import { notFound } from "next/navigation";
 
+import { WarningList } from "@/app/_components/warning-list";
 import { getVersion } from "@/lib/data/circuits";
 
 import { CircuitEditor } from "../_components/circuit-editor";
@@ -18,16 +19,19 @@ export default async function CircuitPage({ params, searchParams }: {
   const version = await getVersion(selected.id);
   if (!version || version.circuitId !== circuit.id) notFound();
   return (
-    <CircuitEditor
-      key={version.id}
-      labId={labId}
-      circuitId={circuit.id}
-      versionId={version.id}
-      versionNumber={version.number}
-      latestNumber={versions[0].number}
-      circuit={version.circuit}
-      canWrite={canWrite}
-      justSaved={query.saved === "1" && canWrite}
-    />
+    <>
+      <WarningList warnings={version.importWarnings} title={`Warnings from the SBML import of version ${version.number}`} testId="import-warnings" />
+      <CircuitEditor
+        key={version.id}
+        labId={labId}
+        circuitId={circuit.id}
+        versionId={version.id}
+        versionNumber={version.number}
+        latestNumber={versions[0].number}
+        circuit={version.circuit}
+        canWrite={canWrite}
+        justSaved={query.saved === "1" && canWrite}
+      />
+    </>
   );
 }

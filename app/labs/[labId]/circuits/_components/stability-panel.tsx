@@ -5,6 +5,7 @@ import useSWR from "swr";
 import { Caution } from "@/app/_components/caution";
 import { Chart } from "@/app/_components/charts/chart";
 import { TableHead } from "@/app/_components/table-head";
+import { WarningList } from "@/app/_components/warning-list";
 
 import { eigenSpec } from "./eigen-spec";
 import { fetchJson, type AnalysisJson } from "./fetch-json";
@@ -67,6 +68,7 @@ export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omeg
         <h2 id="verdict-h" className="text-lg font-semibold">{v.title}</h2>
         <p className="mt-1 text-sm">{v.text}</p>
       </section>
+      <WarningList warnings={data.warnings} title="Warnings on this analysis" testId="analysis-warnings" />
 
       <div className="grid gap-5 lg:grid-cols-2">
         <section aria-labelledby="ss-h" className="flex min-w-0 flex-col gap-2">

@@ -10,6 +10,7 @@ import { ComparisonStatusBadge } from "@/app/_components/comparison-status";
 import { fetchJson, jsonFetcher } from "@/app/_components/run-api";
 import { RunProgressBar, When } from "@/app/_components/run-status";
 import { TableHead } from "@/app/_components/table-head";
+import { WarningList } from "@/app/_components/warning-list";
 import { resultSpecies, type ComparisonJson } from "@/lib/comparison-view";
 import { formatNumber } from "@/lib/run-view";
 
@@ -22,6 +23,11 @@ export interface ComparisonViewProps {
 }
 
 const button = "rounded-md border px-3 py-1.5 text-sm disabled:opacity-50";
+
+/** Every design run's warnings, each message led by the design it concerns. */
+function designWarnings(c: ComparisonJson) {
+  return (c.results?.designs ?? []).flatMap((d) => (d.warnings ?? []).map((w) => ({ ...w, message: `${d.label}: ${w.message}` })));
+}
 
 /** A comparison: settings, progress across every design, then the noise table, charts and the difference test. */
 export function ComparisonView({ labId, initial, canLaunch, canCancel, canDelete, role }: ComparisonViewProps) {
@@ -105,6 +111,7 @@ export function ComparisonView({ labId, initial, canLaunch, canCancel, canDelete
               </button>
             ))}
           </div>
+          <WarningList warnings={designWarnings(c)} title="Warnings on these results" testId="comparison-warnings" />
           <NoiseTable c={c} species={current} />
           <ComparisonCharts c={c} species={current} />
           <DifferenceTest c={c} species={current} />

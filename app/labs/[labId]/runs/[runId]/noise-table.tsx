@@ -5,6 +5,7 @@ import useSWR from "swr";
 
 import { jsonFetcher } from "@/app/_components/run-api";
 import { TableHead } from "@/app/_components/table-head";
+import { WarningMark, warningsAbout } from "@/app/_components/warning-list";
 import { formatNumber, sdOf, type AnalysisJson, type RunJson, type SummaryJson } from "@/lib/run-view";
 import { analyze } from "@/ssa/analyze";
 import { compileModel } from "@/ssa/model";
@@ -73,7 +74,7 @@ export function NoiseTable({ summary, lna, amountUnit, timeUnit, burnIn }: {
               const st = summary.stationary[sp];
               return (
                 <tr key={sp} className="border-t border-ink/10">
-                  <th scope="row" className="px-3 py-2 text-left font-medium">{sp}</th>
+                  <th scope="row" className="px-3 py-2 text-left font-medium">{sp}<WarningMark warnings={warningsAbout(summary.warnings, sp)} /></th>
                   <td className="px-3 py-2 text-right">{formatNumber(st?.mean)}</td>
                   <td className="px-3 py-2 text-right">{formatNumber(sdOf(st?.variance))}</td>
                   <td className="px-3 py-2 text-right">{formatNumber(st?.cv)}</td>

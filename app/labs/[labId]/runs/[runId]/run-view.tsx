@@ -7,6 +7,7 @@ import useSWR from "swr";
 
 import { fetchJson, jsonFetcher } from "@/app/_components/run-api";
 import { RunProgressBar, RunStatusBadge, When, runKindLabel } from "@/app/_components/run-status";
+import { WarningList } from "@/app/_components/warning-list";
 import { amountUnitOf, burnInOf, etaSeconds, formatCount, formatDuration, formatNumber, isActive, METHOD_LABEL, type RunJson } from "@/lib/run-view";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
 
@@ -66,6 +67,7 @@ export function RunView({ labId, initialRun, contentHash, canLaunch, canCancel, 
               </p>
             </section>
           )}
+          {run.status === "succeeded" && <WarningList warnings={run.warnings} title="Warnings on these results" testId="run-warnings" />}
           {run.status === "succeeded" && <RunResults run={run} timeUnit={timeUnit} modelAmountUnit={modelAmountUnit} />}
         </div>
         <RunProvenance labId={labId} run={run} contentHash={contentHash} canLaunch={canLaunch} role={role} timeUnit={timeUnit} modelAmountUnit={modelAmountUnit} />

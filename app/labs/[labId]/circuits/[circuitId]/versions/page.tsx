@@ -48,7 +48,7 @@ export default async function VersionsPage({ params, searchParams }: {
                   <td className="whitespace-nowrap px-3 py-2 text-ink-soft">{formatWhen(v.createdAt)}</td>
                   <td className="px-3 py-2 text-ink-soft">{v.createdByEmail ?? "—"}</td>
                   <td className="px-3 py-2">{v.message ?? <span className="text-ink-soft">—</span>}</td>
-                  <td className="px-3 py-2 text-ink-soft">{v.sourceFormat === "sbml" ? "SBML import" : "circuit file"}</td>
+                  <td className="px-3 py-2 text-ink-soft">{v.sourceFormat === "sbml" ? "SBML import" : "circuit file"}{v.importWarnings.length ? ` (${v.importWarnings.length} warning${v.importWarnings.length === 1 ? "" : "s"}: ${v.importWarnings.map((w) => w.code).join(", ")})` : ""}</td>
                   <td className="px-3 py-2 font-mono text-xs text-ink-soft" title={v.contentHash}>{v.contentHash.slice(0, 12)}</td>
                 </tr>
               ))}
