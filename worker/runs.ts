@@ -12,6 +12,7 @@ import { failRun, getRun, getRunCircuit, gzipJson, type RunRow } from "../lib/da
 import { Queues, RunChunkJob, RunFinalizeJob } from "../lib/jobs";
 import { RUN_LIMITS } from "../lib/schemas/runs";
 import { cellStatsOf, encodeCellStats } from "../ssa/cell-stats";
+import { checkAgainstMeanField } from "../ssa/oscillation-checks";
 import { burnInOf, summarize, trajectory, type EnsembleOptions } from "../ssa/ensemble";
 import { compileModel, parseCircuitExpressions } from "../ssa/model";
 import { runSimulation } from "../ssa/node/run";
@@ -144,6 +145,7 @@ export async function handleFinalize(job: Job<unknown>): Promise<void> {
     const options = ensembleOptions(run);
     const wallS = run.startedAt ? (Date.now() - new Date(run.startedAt).getTime()) / 1000 : 0;
     const summary = summarize(model, options, merged!, { units: run.settings.units, wallS });
+    checkAgainstMeanField(model, summary, { tEnd: options.tEnd, dt: options.dt, burnIn: burnInOf(options) });
     let trace: Record<string, number[]> | null = null;
     try {
       trace = solveOde(model, { tEnd: options.tEnd, dt: options.dt, units: run.settings.units }).trace;
