@@ -9,9 +9,11 @@
 import { analyze, type AnalyzeResult } from "./analyze";
 import type { Model } from "./model";
 import { solveOde } from "./ode";
-import { DAMPED_DROP, fitAmplitudeTrend, MIN_SAMPLES_PER_PERIOD, QUASI_CYCLE_RATIO } from "./oscillation";
+import { complexModes, DAMPED_DROP, fitAmplitudeTrend, MIN_SAMPLES_PER_PERIOD, quasiCycleWarning } from "./oscillation";
 import { cellPeriods, gridWarning, withheldPeriod, type PeriodSummary, type SimulateSummary } from "./stats";
 import { makeWarning, type EngineWarning } from "./warnings";
+
+export { quasiCycleWarning };
 
 /** Most grid points of the fine mean-field solve that measures the limit cycle's period. */
 const FINE_POINTS = 200_000;
@@ -25,29 +27,6 @@ export function analyzeOrNull(model: Model): AnalyzeResult | null {
   } catch {
     return null;
   }
-}
-
-/** Complex eigenvalue pairs (one of each, Im > 0), least stable first. */
-function complexModes(an: AnalyzeResult): { re: number; im: number }[] {
-  let scale = 1;
-  for (const l of an.eigenvalues) scale = Math.max(scale, Math.hypot(l.re, l.im));
-  return an.eigenvalues.filter((l) => l.im > 1e-9 * scale).sort((a, b) => b.re - a.re);
-}
-
-/**
- * The LNA caveat (issue 12 item 4): a stable steady state whose least-stable complex pair has
- * |Re λ| < QUASI_CYCLE_RATIO·|Im λ| shows noise-driven cycles of period about 2π/|Im λ|, which
- * the Gaussian LNA covariance does not describe as a rhythm. Null when the rule does not apply.
- */
-export function quasiCycleWarning(an: AnalyzeResult, field = "lna"): EngineWarning | null {
-  if (!an.stable) return null;
-  const mode = complexModes(an)[0];
-  if (!mode || !(Math.abs(mode.re) < QUASI_CYCLE_RATIO * mode.im)) return null;
-  return makeWarning(
-    "quasi-cycles",
-    `The steady state is stable but lightly damped (least-stable eigenvalues ${fmt(mode.re)} ± ${fmt(mode.im)}i: |Re λ| < ${QUASI_CYCLE_RATIO}·|Im λ|), so noise drives cycles of period about ${fmt((2 * Math.PI) / mode.im)} that decay with time constant ${fmt(-1 / mode.re)}; the linear noise approximation gives their variance, not their rhythm.`,
-    field,
-  );
 }
 
 /**

@@ -16,9 +16,18 @@
  * time, γ(k) = [Σ_c Σ_t x_{c,t} x_{c,t+k} − Σ_t S_t S_{t+k} / N] / (N (n − k)) with S_t = Σ_c x_{c,t}.
  * Counts are integers, so each cell's lag sum Σ_t x_t x_{t+k} is an integer, and the sums over
  * cells are kept exactly in two float64 limbs (value = hi·2³² + lo), which add in any order to the
- * same bits; S_t comes from the per-time histograms, which are exact as well. So the verdict is
- * the same whatever the thread count and chunking. Pure: no I/O.
+ * same bits; S_t is an integer sum too. So the verdict is the same whatever the thread count and
+ * chunking. Pure: no I/O.
  */
+import { makeWarning, type EngineWarning } from "./warnings";
+
+/** The eigenvalue part of an analyze result (ssa/analyze.ts imports this module). */
+interface AnalyzeResult {
+  eigenvalues: { re: number; im: number }[];
+  stable: boolean;
+}
+
+const fmt = (v: number) => Number(v.toPrecision(3)).toString();
 
 /** Most lags of the ACF (cost per cell ∝ samples × lags); periods beyond ACF_MAX_LAGS·dt are not seen. */
 export const ACF_MAX_LAGS = 128;
@@ -241,3 +250,27 @@ export function fitAmplitudeTrend(periods: ArrayLike<number>, amplitudes: ArrayL
 
 /** A trace is damped when the fitted amplitude falls by more than this fraction over the last half of its cycles. */
 export const DAMPED_DROP = 0.05;
+
+/** Complex eigenvalue pairs (one of each, Im > 0), least stable first. */
+export function complexModes(an: Pick<AnalyzeResult, "eigenvalues">): { re: number; im: number }[] {
+  let scale = 1;
+  for (const l of an.eigenvalues) scale = Math.max(scale, Math.hypot(l.re, l.im));
+  return an.eigenvalues.filter((l) => l.im > 1e-9 * scale).sort((a, b) => b.re - a.re);
+}
+
+/**
+ * The LNA caveat (issue 12 item 4): a stable steady state whose least-stable complex pair has
+ * |Re λ| < QUASI_CYCLE_RATIO·|Im λ| shows noise-driven cycles of period about 2π/|Im λ|, which
+ * the Gaussian LNA covariance does not describe as a rhythm. Null when the rule does not apply.
+ */
+export function quasiCycleWarning(an: Pick<AnalyzeResult, "eigenvalues" | "stable">, field = "lna"): EngineWarning | null {
+  if (!an.stable) return null;
+  const mode = complexModes(an)[0];
+  if (!mode || !(Math.abs(mode.re) < QUASI_CYCLE_RATIO * mode.im)) return null;
+  return makeWarning(
+    "quasi-cycles",
+    `The steady state is stable but lightly damped (least-stable eigenvalues ${fmt(mode.re)} ± ${fmt(mode.im)}i: |Re λ| < ${QUASI_CYCLE_RATIO}·|Im λ|), so noise drives cycles of period about ${fmt((2 * Math.PI) / mode.im)} that decay with time constant ${fmt(-1 / mode.re)}; the linear noise approximation gives their variance, not their rhythm.`,
+    field,
+  );
+}
+
