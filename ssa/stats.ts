@@ -383,8 +383,10 @@ export interface PeriodSummary {
 }
 
 /**
- * Crossing intervals count as periods only when their CV across the ensemble is below this.
- * Our rule, measured here (100 cells, dt 1): fluctuations without a rhythm (birth–death, both
+ * The old verdict, kept only for partials stored before the autocorrelation test (no `acf`):
+ * crossing intervals counted as periods when their CV across the ensemble was below this. It sits
+ * at the noise floor (independent samples give interval CV² ≥ 0.25; issue 12), which is why the
+ * verdict is now the null-model test of ssa/oscillation.ts. Measured here then (100 cells, dt 1): fluctuations without a rhythm (birth–death, both
  * species of the two-stage reporter) cross the band at intervals with CV 0.74–0.81, close to a
  * renewal process; the ring timer gives 0.21–0.26 at 1 fL and 0.07–0.08 at 10 fL.
  */
@@ -656,7 +658,8 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
  * estimate. Mutates `period`; returns the warnings.
  */
 export function guardPeriodsByGrid(period: Record<string, PeriodSummary>, times: ArrayLike<number>): EngineWarning[] {
-  const dt = times.length > 1 ? times[1] - times[0] : Infinity;
+  if (times.length < 2) return []; // one grid point: no sampling step to judge
+  const dt = times[1] - times[0];
   const coarse: string[] = [];
   let shortest = Infinity;
   for (const [id, p] of Object.entries(period)) {
