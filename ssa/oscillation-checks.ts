@@ -37,12 +37,14 @@ export function analyzeOrNull(model: Model): AnalyzeResult | null {
 export function modelRhythm(model: Model, an: AnalyzeResult, tEnd: number, burnIn: number): { period: number; source: string } | null {
   const modes = complexModes(an);
   if (an.oscillatory && modes[0]) {
-    const fine = Math.max(Math.min((2 * Math.PI) / modes[0].im / 32, tEnd / 100), tEnd / FINE_POINTS);
+    // 200 linear periods settle any cycle we ship (the ring timer's within 10); a longer run only costs time.
+    const horizon = Math.min(tEnd, (200 * 2 * Math.PI) / modes[0].im);
+    const fine = Math.max(Math.min((2 * Math.PI) / modes[0].im / 32, horizon / 100), horizon / FINE_POINTS);
     try {
-      const sol = solveOde(model, { tEnd, dt: fine });
+      const sol = solveOde(model, { tEnd: horizon, dt: fine });
       const times = Float64Array.from(sol.times);
       let g0 = 0;
-      while (g0 < times.length - 1 && times[g0] < burnIn) g0++;
+      while (g0 < times.length - 1 && times[g0] < Math.min(burnIn, horizon / 2)) g0++;
       let best = Infinity;
       for (const id of model.species) {
         const y = Float64Array.from(sol.trace[id]);
