@@ -8,6 +8,7 @@ import { eigenvalues, luFactor, luSolve, type Complex, type Conservation } from 
 import { linearNoise, meanFieldJacobian, modelConservation, reducedJacobian, type JacobianModel } from "./lna";
 import type { Model } from "./model";
 import { integrate, meanFieldRhs, OdeError } from "./ode";
+import { quasiCycleWarning } from "./oscillation";
 import type { EngineWarning } from "./warnings";
 
 export type AnalyzeModel = JacobianModel & Pick<Model, "species" | "omega" | "initialAmounts">;
@@ -26,7 +27,7 @@ export interface AnalyzeResult {
   stable: boolean;
   oscillatory: boolean;
   lna: { covariance: number[][]; cv: Record<string, number | null>; fano: Record<string, number | null> } | null;
-  /** Caveats on this analysis (ssa/warnings.ts); [] when none. */
+  /** Caveats (ssa/warnings.ts): `quasi-cycles` when the stable steady state is lightly damped (ssa/oscillation.ts). */
   warnings: EngineWarning[];
 }
 
@@ -322,5 +323,7 @@ export function analyze(model: AnalyzeModel, options: AnalyzeOptions = {}): Anal
     }
     lna = { covariance: cov, cv, fano };
   }
-  return { steady_state: steady, eigenvalues: all.map((l) => ({ re: l.re, im: l.im })), stable, oscillatory, lna, warnings: [] };
+  const eig = all.map((l) => ({ re: l.re, im: l.im }));
+  const caveat = quasiCycleWarning({ eigenvalues: eig, stable }, "lna");
+  return { steady_state: steady, eigenvalues: eig, stable, oscillatory, lna, warnings: caveat ? [caveat] : [] };
 }

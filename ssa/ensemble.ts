@@ -8,6 +8,7 @@
 import { makeGrid } from "./grid";
 import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type DirectKernel } from "./kernel";
 import type { Model } from "./model-core";
+import { ACF_MAX_CELLS, acfRange, addCellLagSums, countAcfCell, makeAcfSums } from "./oscillation";
 import { cellRngState } from "./rng";
 import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
@@ -113,6 +114,9 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
   const sums = Array.from({ length: nS }, () => new Float64Array(last - first));
   const sumSqs = Array.from({ length: nS }, () => new Float64Array(last - first));
   const pair = new Float64Array(2);
+  // Exact lag sums over cells for the oscillation verdict (ssa/oscillation.ts).
+  const acf = makeAcfSums(nS, acfRange(grid, gStart));
+  const acfScratch = new Float64Array(Math.max(1, acf.end - acf.start));
   let events = 0;
 
   for (let start = first; start < last; start += B) {
@@ -131,7 +135,9 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
         cellSampleSums(out, i * B + b, nS * B, gStart, nT, pair);
         sums[i][cell - first] = pair[0];
         sumSqs[i][cell - first] = pair[1];
+        if (cell < ACF_MAX_CELLS) addCellLagSums(acf, i, out, i * B + b, nS * B, acfScratch);
       }
+      if (cell < ACF_MAX_CELLS) countAcfCell(acf);
     }
     const h = histogramsOfBlock(out, nPoints, B, nb);
     hist = hist ? mergeHistograms(hist, h, nPoints) : h;
@@ -158,6 +164,7 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
       },
     ],
     cellSamples: nT - gStart,
+    acf,
   };
 }
 

@@ -6,7 +6,8 @@
 import { burnInOf, simulateEnsemble } from "./ensemble";
 import type { Model } from "./model-core";
 import { solveOde } from "./ode";
-import { cellPeriods, periodSummary, sparseMoments, type SimulateSummary, type SpeciesMoments } from "./stats";
+import { analyzeOrNull, checkAgainstMeanField, judgeTrace } from "./oscillation-checks";
+import { cellPeriods, guardPeriodsByGrid, periodSummary, sparseMoments, type SimulateSummary, type SpeciesMoments } from "./stats";
 
 export interface SimulateInput {
   method: "ode" | "ssa" | "tau";
@@ -29,7 +30,8 @@ function momentsOf(values: number[]): SpeciesMoments {
 /**
  * The deterministic run: runs 1, sd 0, quantiles equal to the path, `trace` the path itself;
  * `stationary` pools the path's grid values after burn-in; periods come from the same crossing
- * rule as for cells.
+ * rule as for cells, and are reported only for a sustained cycle on a grid that resolves it
+ * (ssa/oscillation-checks.ts: `damped-oscillation`, `grid-too-coarse`).
  */
 export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateSummary {
   const units = o.units ?? "model";
@@ -44,6 +46,7 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
   const final: Record<string, SpeciesMoments> = {};
   const stationary: Record<string, SpeciesMoments> = {};
   const period: SimulateSummary["period"] = {};
+  const raw: Record<string, { periods: number[]; amps: number[] }> = {};
   for (const id of model.species) {
     const path = sol.trace[id];
     sd[id] = path.map(() => 0);
@@ -62,9 +65,13 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
     const amps: number[] = [];
     // A band of 1e-6 of the path's range: a deterministic path has no noise to guard against.
     cellPeriods(y, 0, 1, times, gStart, times.length, 1e-6 * Math.max(hi - lo, 1e-300), scratch, periods, amps);
-    period[id] = periodSummary(Float64Array.from(periods), Float64Array.from(amps), periods.length ? 1 : 0, 1);
+    period[id] = periodSummary(Float64Array.from(periods), Float64Array.from(amps), periods.length ? 1 : 0, 1, periods.length >= 3);
+    raw[id] = { periods, amps };
   }
-  return {
+  const an = analyzeOrNull(model);
+  const warnings = judgeTrace(period, raw, an);
+  warnings.push(...guardPeriodsByGrid(period, times));
+  const summary: SimulateSummary = {
     method: "ode",
     seed: null,
     runs: 1,
@@ -85,8 +92,10 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
     amount_unit: units === "model" ? model.amountUnit : "molecules",
     omega: model.omega,
     trace: sol.trace,
-    warnings: [],
+    warnings,
   };
+  checkAgainstMeanField(model, summary, { tEnd: o.tEnd, dt: o.dt, burnIn }, an);
+  return summary;
 }
 
 /**
@@ -96,5 +105,7 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
 export function simulate(model: Model, o: SimulateInput): SimulateSummary {
   if (o.method === "ode") return odeSummary(model, o);
   if (o.seed === undefined) throw new RangeError("seed is required for a stochastic run");
-  return simulateEnsemble(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.runs ?? 1, { units: o.units });
+  const summary = simulateEnsemble(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.runs ?? 1, { units: o.units });
+  checkAgainstMeanField(model, summary, { tEnd: o.tEnd, dt: o.dt, burnIn: burnInOf(o) });
+  return summary;
 }

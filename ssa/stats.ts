@@ -7,7 +7,8 @@
  * notes"). Pure: no I/O.
  */
 
-import type { EngineWarning } from "./warnings";
+import { acfVerdict, mergeAcfSums, MIN_SAMPLES_PER_PERIOD, type AcfEvidence, type AcfSums } from "./oscillation";
+import { makeWarning, type EngineWarning } from "./warnings";
 
 export const PARTIAL_FORMAT = "burstwise.partial/1" as const;
 
@@ -51,6 +52,8 @@ export interface Partial {
   segments: PeriodSegment[];
   /** Samples per cell behind `CellSeriesList.sum` (grid times ≥ burn-in); absent without per-cell sums. */
   cellSamples?: number;
+  /** Exact lag sums for the averaged autocorrelation (ssa/oscillation.ts); absent in partials made before it. */
+  acf?: AcfSums;
 }
 
 /** Sparse histograms of every grid point in CSR form (see Partial). */
@@ -201,6 +204,7 @@ export function mergePartials(a: Partial, b: Partial): Partial {
     segments,
   };
   if (a.cellSamples !== undefined && a.cellSamples === b.cellSamples) merged.cellSamples = a.cellSamples;
+  if (a.acf && b.acf) merged.acf = mergeAcfSums(a.acf, b.acf);
   return merged;
 }
 
@@ -361,15 +365,28 @@ export interface PeriodSummary {
   cells: number;
   /** Half the peak-to-trough range per cycle, in the output's amount units. */
   amplitude: { mean: number; sd: number };
-  /** Whether the crossings are regular enough to call the species oscillating (see PERIOD_CV_LIMIT). */
+  /**
+   * The verdict: a period is reported (count > 0) exactly when this is true. Ensembles decide by
+   * the autocorrelation test (`acf`); the mean-field trace by a sustained cycle (`trend`).
+   */
   oscillating: boolean;
-  /** All measured crossing intervals, whether or not they count as periods. */
+  /** All measured crossing intervals, whether or not they count as periods (evidence only, never a period). */
   crossings: { count: number; mean: number; cv: number };
+  /** The null-model test behind the verdict of an ensemble (ssa/oscillation.ts). */
+  acf?: AcfEvidence;
+  /** 2.5th and 97.5th percentiles of the cells' own mean periods (cells with ≥ 1 period); when oscillating. */
+  interval?: [number, number] | null;
+  /** Mean-field trace only: the fitted decay of the cycle amplitude over the last half of its cycles. */
+  trend?: { damping_time: number | null; ratio: number; cycles: number; sustained: boolean };
+  /** Why a period that the test found is not reported (e.g. `grid-too-coarse`, `damped-oscillation`). */
+  withheld?: string;
 }
 
 /**
- * Crossing intervals count as periods only when their CV across the ensemble is below this.
- * Our rule, measured here (100 cells, dt 1): fluctuations without a rhythm (birth–death, both
+ * The old verdict, kept only for partials stored before the autocorrelation test (no `acf`):
+ * crossing intervals counted as periods when their CV across the ensemble was below this. It sits
+ * at the noise floor (independent samples give interval CV² ≥ 0.25; issue 12), which is why the
+ * verdict is now the null-model test of ssa/oscillation.ts. Measured here then (100 cells, dt 1): fluctuations without a rhythm (birth–death, both
  * species of the two-stage reporter) cross the band at intervals with CV 0.74–0.81, close to a
  * renewal process; the ring timer gives 0.21–0.26 at 1 fL and 0.07–0.08 at 10 fL.
  */
@@ -377,25 +394,17 @@ export const PERIOD_CV_LIMIT = 0.5;
 /** Fewest crossing intervals that can establish a rhythm. */
 export const PERIOD_MIN_COUNT = 3;
 
-/** Period statistics from crossing intervals and amplitudes in cell order (scale divides amplitudes). */
-export function periodSummary(periods: Float64Array, amps: Float64Array, cells: number, scale: number): PeriodSummary {
+/**
+ * Period statistics from crossing intervals and amplitudes in cell order (scale divides amplitudes).
+ * `verdict` decides whether they are reported; without one, the older regularity rule
+ * (PERIOD_CV_LIMIT) decides, for partials stored before the autocorrelation test.
+ */
+export function periodSummary(periods: Float64Array, amps: Float64Array, cells: number, scale: number, verdict?: boolean): PeriodSummary {
   const pm = meanSd(periods);
   const cv = pm.mean > 0 ? pm.sd / pm.mean : NaN;
-  const oscillating = periods.length >= PERIOD_MIN_COUNT && cv < PERIOD_CV_LIMIT;
+  const oscillating = periods.length >= PERIOD_MIN_COUNT && (verdict ?? cv < PERIOD_CV_LIMIT);
   const crossings = { count: periods.length, mean: pm.mean, cv };
-  if (!oscillating) {
-    return {
-      count: 0,
-      mean: NaN,
-      sd: NaN,
-      cv: NaN,
-      histogram: { edges: [], counts: [] },
-      cells: 0,
-      amplitude: { mean: NaN, sd: NaN },
-      oscillating,
-      crossings,
-    };
-  }
+  if (!oscillating) return withheldPeriod({ crossings } as PeriodSummary);
   const am = meanSd(amps);
   return {
     count: periods.length,
@@ -408,6 +417,43 @@ export function periodSummary(periods: Float64Array, amps: Float64Array, cells: 
     oscillating,
     crossings,
   };
+}
+
+/** The period entry with no period reported: count 0, statistics NaN; the evidence fields are kept. */
+export function withheldPeriod(p: PeriodSummary, reason?: string): PeriodSummary {
+  const out: PeriodSummary = {
+    count: 0,
+    mean: NaN,
+    sd: NaN,
+    cv: NaN,
+    histogram: { edges: [], counts: [] },
+    cells: 0,
+    amplitude: { mean: NaN, sd: NaN },
+    oscillating: false,
+    crossings: p.crossings,
+  };
+  if (p.acf) out.acf = p.acf;
+  if (p.trend) out.trend = p.trend;
+  if (reason) out.withheld = reason;
+  return out;
+}
+
+/** 2.5th and 97.5th percentiles (type 7) of per-cell mean periods; null with fewer than 2 cells. */
+export function cellPeriodInterval(cellPtr: ArrayLike<number>[], periods: ArrayLike<number>[]): [number, number] | null {
+  const means: number[] = [];
+  cellPtr.forEach((ptr, s) => {
+    for (let c = 0; c + 1 < ptr.length; c++) {
+      const a = ptr[c];
+      const b = ptr[c + 1];
+      if (b <= a) continue;
+      let sum = 0;
+      for (let k = a; k < b; k++) sum += periods[s][k];
+      means.push(sum / (b - a));
+    }
+  });
+  if (means.length < 2) return null;
+  means.sort((x, y) => x - y);
+  return [quantileSorted(means, 0.025), quantileSorted(means, 0.975)];
 }
 
 export interface SimulateSummary {
@@ -438,7 +484,7 @@ export interface SimulateSummary {
   amount_unit: string;
   omega: number;
   trace?: Record<string, number[]>;
-  /** Caveats on these numbers (ssa/warnings.ts); [] when none. Always present, last but for `trace`. */
+  /** Caveats on these numbers (ssa/warnings.ts), e.g. `grid-too-coarse`, `damped-oscillation`, `quasi-cycles`. */
   warnings: EngineWarning[];
 }
 
@@ -566,8 +612,19 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
       amps.set(seg.species[i].amplitudes, at);
       at += seg.species[i].periods.length;
     }
-    period[id] = periodSummary(periods, amps, cells, scale);
+    let evidence: AcfEvidence | undefined;
+    if (partial.acf) {
+      const dt = nT > 1 ? times[1] - times[0] : 1;
+      evidence = acfVerdict(partial.acf, i, dt);
+    }
+    const p = periodSummary(periods, amps, cells, scale, evidence?.significant);
+    if (evidence) p.acf = evidence;
+    if (p.oscillating) {
+      p.interval = cellPeriodInterval(partial.segments.map((sg) => sg.species[i].cellPtr), partial.segments.map((sg) => sg.species[i].periods));
+    }
+    period[id] = p;
   });
+  const warnings = guardPeriodsByGrid(period, times);
   return {
     method: o.method,
     seed: o.seed,
@@ -590,6 +647,39 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
     time_unit: o.timeUnit,
     amount_unit: o.units === "model" ? o.amountUnit : "molecules",
     omega: o.omega,
-    warnings: [],
+    warnings,
   };
+}
+
+/**
+ * Grid guard (issue 12 item 3) on the periods found: a period shorter than MIN_SAMPLES_PER_PERIOD
+ * grid steps is not resolved and may be an alias of a faster rhythm, so it is withheld with a
+ * `grid-too-coarse` warning. Periods are judged by the larger of the crossing mean and the ACF's
+ * estimate. Mutates `period`; returns the warnings.
+ */
+export function guardPeriodsByGrid(period: Record<string, PeriodSummary>, times: ArrayLike<number>): EngineWarning[] {
+  if (times.length < 2) return []; // one grid point: no sampling step to judge
+  const dt = times[1] - times[0];
+  const coarse: string[] = [];
+  let shortest = Infinity;
+  for (const [id, p] of Object.entries(period)) {
+    const found = p.oscillating ? Math.max(p.mean, p.acf?.period ?? 0) : p.acf?.significant ? (p.acf.period ?? 0) : NaN;
+    if (found === found && found < MIN_SAMPLES_PER_PERIOD * dt) {
+      coarse.push(id);
+      shortest = Math.min(shortest, found);
+      period[id] = withheldPeriod(p, "grid-too-coarse");
+    }
+  }
+  if (coarse.length === 0) return [];
+  return [gridWarning(dt, shortest, `the rhythm found in ${coarse.join(", ")}`)];
+}
+
+/** The `grid-too-coarse` warning for a rhythm of period `period` sampled every dt. */
+export function gridWarning(dt: number, period: number, what: string): EngineWarning {
+  const fmt = (v: number) => Number(v.toPrecision(3)).toString();
+  return makeWarning(
+    "grid-too-coarse",
+    `The sampling step dt = ${fmt(dt)} is too coarse for ${what} (period about ${fmt(period)}, fewer than ${MIN_SAMPLES_PER_PERIOD} samples per period): periods are not reported because they may be aliased; use dt ≤ ${fmt(period / MIN_SAMPLES_PER_PERIOD)}.`,
+    "dt",
+  );
 }

@@ -12,6 +12,7 @@ import { failRun, getRun, getRunCircuit, getRunImportWarnings, gzipJson, type Ru
 import { Queues, RunChunkJob, RunFinalizeJob } from "../lib/jobs";
 import { RUN_LIMITS } from "../lib/schemas/runs";
 import { cellStatsOf, encodeCellStats } from "../ssa/cell-stats";
+import { checkAgainstMeanField } from "../ssa/oscillation-checks";
 import { burnInOf, summarize, trajectory, type EnsembleOptions } from "../ssa/ensemble";
 import { compileModel, parseCircuitExpressions } from "../ssa/model";
 import { runSimulation } from "../ssa/node/run";
@@ -145,6 +146,7 @@ export async function handleFinalize(job: Job<unknown>): Promise<void> {
     const options = ensembleOptions(run);
     const wallS = run.startedAt ? (Date.now() - new Date(run.startedAt).getTime()) / 1000 : 0;
     const summary = summarize(model, options, merged!, { units: run.settings.units, wallS });
+    checkAgainstMeanField(model, summary, { tEnd: options.tEnd, dt: options.dt, burnIn: burnInOf(options) });
     // The version's import warnings first, as `cli simulate` of the SBML file prints them.
     summary.warnings = [...(await getRunImportWarnings(runId)), ...summary.warnings];
     let trace: Record<string, number[]> | null = null;

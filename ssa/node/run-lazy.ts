@@ -6,7 +6,7 @@
  */
 import { performance } from "node:perf_hooks";
 
-import { makeGrid, summarize, trajectory, type EnsembleOptions, type TrajectoryResult } from "../ensemble";
+import { burnInOf, makeGrid, summarize, trajectory, type EnsembleOptions, type TrajectoryResult } from "../ensemble";
 import type { Model } from "../model-core";
 import type { SimulateSummary } from "../stats";
 import type { Circuit } from "../types";
@@ -49,6 +49,8 @@ export async function runSimulation(circuit: Circuit, o: RunOptions, pool: PoolR
   const model = await compileModelLazily(circuit, o.overrides);
   const wallS = (performance.now() - t0) / 1000;
   const summary = summarize(model, options, partial, { units: o.units ?? "molecules", wallS });
+  // The grid guard and the quasi-cycle caveat need the mean field (ODE code, loaded here only).
+  (await import("../oscillation-checks")).checkAgainstMeanField(model, summary, { tEnd: o.tEnd, dt: o.dt, burnIn: burnInOf(options) });
   if (o.includeTrace) summary.trace = (await import("../ode")).solveOde(model, { tEnd: o.tEnd, dt: o.dt, units: o.units ?? "molecules" }).trace;
   return summary;
 }

@@ -1,6 +1,6 @@
 /**
  * Periods of the ring timer (CONTRACT.md example) against the mean-field limit cycle, and the
- * regularity rule that keeps non-oscillating species at count 0.
+ * verdict (ssa/oscillation.ts) that keeps non-oscillating species at count 0.
  */
 import { readFileSync } from "node:fs";
 

@@ -217,7 +217,10 @@ function PeriodSpread({ run, summary, species, onSpecies, units, burnIn }: {
       <h2 id="period-h" className="text-lg font-semibold">Period spread</h2>
       <p className="text-sm text-ink-soft">
         Periods are the times between successive upward crossings of a band from the 40th to the 60th percentile of each {run.kind === "trace" ? "path" : "cell"}&apos;s own values after burn-in ({formatNumber(burnIn)} {units.time}).
-        A species counts as oscillating when those intervals are regular (CV below 0.5).
+        {run.kind === "trace"
+          ? "A species counts as oscillating when its cycle is sustained: the amplitude does not decay over the last half of the path."
+          : "A species counts as oscillating when the cells' averaged autocorrelation dips below zero and rises to a second peak by more than noise alone reaches (4 standard errors, Bartlett's formula)."}
+        {" "}No period is reported when the sampling step is too coarse for the rhythm (fewer than 8 samples per period).
       </p>
       <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
         <table className="w-full min-w-[36rem] text-sm tabular-nums">
