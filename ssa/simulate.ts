@@ -3,9 +3,11 @@
  * ensemble (method "ssa" / "tau"), as the JSON of CONTRACT.md §2 with wall_s = 0. The command
  * line and the worker use ssa/node/run.ts, which adds threads and timing. Pure: no I/O.
  */
-import { burnInOf, simulateEnsemble } from "./ensemble";
+import { simulateEnsemble } from "./ensemble";
 import type { Model } from "./model-core";
 import { solveOde } from "./ode";
+import { chooseBurnIn } from "./burn-in";
+import { BURN_IN_RELAXATION_TIMES, pathDriftWarnings, type BurnInChoice } from "./stationarity";
 import { cellPeriods, periodSummary, sparseMoments, type SimulateSummary, type SpeciesMoments } from "./stats";
 
 export interface SimulateInput {
@@ -31,11 +33,11 @@ function momentsOf(values: number[]): SpeciesMoments {
  * `stationary` pools the path's grid values after burn-in; periods come from the same crossing
  * rule as for cells.
  */
-export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateSummary {
+export function odeSummary(model: Model, o: SimulateInput, wallS = 0, choice: BurnInChoice = chooseBurnIn(model, o)): SimulateSummary {
   const units = o.units ?? "model";
   const sol = solveOde(model, { tEnd: o.tEnd, dt: o.dt, units });
   const times = Float64Array.from(sol.times);
-  const burnIn = burnInOf(o);
+  const burnIn = choice.burnIn;
   let gStart = 0;
   while (gStart < times.length - 1 && times[gStart] < burnIn) gStart++;
   const scratch = new Float64Array(times.length);
@@ -81,6 +83,10 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
     wall_s: wallS,
     events_per_s: 0,
     burn_in: burnIn,
+    burn_in_rule: { source: choice.source, relaxation_time: choice.relaxationTime, relaxation_times: BURN_IN_RELAXATION_TIMES },
+    // A path that settles to a stable state is checked for drift; a limit cycle's half-window
+    // means differ by the part of a cycle each half cuts off, which is no drift.
+    warnings: [...choice.warnings, ...(choice.relaxationTime !== null ? pathDriftWarnings(model.species, sol.trace, gStart, burnIn, model.timeUnit) : [])],
     time_unit: model.timeUnit,
     amount_unit: units === "model" ? model.amountUnit : "molecules",
     omega: model.omega,
@@ -95,5 +101,6 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
 export function simulate(model: Model, o: SimulateInput): SimulateSummary {
   if (o.method === "ode") return odeSummary(model, o);
   if (o.seed === undefined) throw new RangeError("seed is required for a stochastic run");
-  return simulateEnsemble(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.runs ?? 1, { units: o.units });
+  const choice = chooseBurnIn(model, o);
+  return simulateEnsemble(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: choice.burnIn }, o.runs ?? 1, { units: o.units, burnIn: choice });
 }

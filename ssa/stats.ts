@@ -7,6 +7,10 @@
  * notes"). Pure: no I/O.
  */
 
+import type { MomentIntervals } from "./intervals";
+import type { BurnInSource } from "./stationarity";
+import type { EngineWarning } from "./warnings";
+
 export const PARTIAL_FORMAT = "burstwise.partial/1" as const;
 
 /** Periods and amplitudes of one species for a contiguous range of cells, in cell order. */
@@ -23,6 +27,9 @@ export interface CellSeriesList {
    */
   sum?: Float64Array;
   sumSq?: Float64Array;
+  /** Per cell, Σx over the first and over the last half of the window (ssa/stationarity.ts drift check). */
+  sumHead?: Float64Array;
+  sumTail?: Float64Array;
 }
 
 export interface PeriodSegment {
@@ -167,6 +174,10 @@ function joinSegments(a: PeriodSegment, b: PeriodSegment): PeriodSegment {
       if (sa.sum && sb.sum && sa.sumSq && sb.sumSq) {
         joined.sum = concatF64(sa.sum, sb.sum);
         joined.sumSq = concatF64(sa.sumSq, sb.sumSq);
+      }
+      if (sa.sumHead && sb.sumHead && sa.sumTail && sb.sumTail) {
+        joined.sumHead = concatF64(sa.sumHead, sb.sumHead);
+        joined.sumTail = concatF64(sa.sumTail, sb.sumTail);
       }
       return joined;
     }),
@@ -347,6 +358,8 @@ export interface SpeciesMoments {
   variance: number;
   cv: number;
   fano: number;
+  /** 95% intervals over cells (ssa/intervals.ts); ensembles only. */
+  ci?: MomentIntervals;
 }
 
 export interface PeriodSummary {
@@ -432,6 +445,10 @@ export interface SimulateSummary {
   /** ε of the tau-leaping step selection (method "tau" only). */
   tau_epsilon?: number;
   burn_in: number;
+  /** Where the burn-in came from and the circuit's slowest relaxation time (ssa/stationarity.ts). */
+  burn_in_rule?: { source: BurnInSource; relaxation_time: number | null; relaxation_times: number };
+  /** Caveats on these numbers (ssa/warnings.ts), e.g. `not-stationary`, `window-too-short`. */
+  warnings: EngineWarning[];
   time_unit: string;
   amount_unit: string;
   omega: number;
@@ -583,6 +600,7 @@ export function finalizeSummary(partial: Partial, o: FinalizeOptions): SimulateS
     events_per_s: o.wallS > 0 ? partial.events / o.wallS : NaN,
     ...(o.method === "tau" ? { tau_epsilon: o.tauEpsilon } : {}),
     burn_in: o.burnIn,
+    warnings: [],
     time_unit: o.timeUnit,
     amount_unit: o.units === "model" ? o.amountUnit : "molecules",
     omega: o.omega,
