@@ -102,12 +102,13 @@ describe("exportFileName", () => {
 
 describe("noiseCsv with intervals", () => {
   const method = "percentile bootstrap over cells, 1000 replicates";
-  const ci = (k: number) => ({ mean: [k, k + 1], sd: [k + 2, k + 3], cv: [k + 4, k + 5], fano: [k + 6, k + 7], level: 0.95, method }) as const;
+  type B = [number | null, number | null];
+  const ci = (k: number) => ({ mean: [k, k + 1] as B, sd: [k + 2, k + 3] as B, cv: [k + 4, k + 5] as B, fano: [k + 6, k + 7] as B, level: 0.95, method });
   const withCi: SummaryJson = {
     ...summary,
     stationary: { A: { ...summary.stationary.A, ci: ci(100) }, B: { ...summary.stationary.B, ci: { ...ci(200), cv: [null, null] } } },
     final: { A: { ...summary.final.A, ci: ci(300) }, B: { ...summary.final.B, ci: ci(400) } },
-  } as SummaryJson;
+  };
 
   it("noiseCsv(summary) appends each interval's bounds, the level and the method after the older columns", () => {
     const rows = lines(noiseCsv(withCi));
