@@ -67,8 +67,8 @@ function percentileBounds(reps: Float64Array, scale: number): Bounds {
 
 /**
  * Intervals of the final-time moments of every species: each replicate draws `cells` values with
- * replacement from the last grid point's histogram (one value per cell), by inverting the
- * cumulative counts. Variances with n − 1, as in the summary.
+ * replacement from the last grid point's histogram (one value per cell). Variances with n − 1, as
+ * in the summary.
  */
 export function computeFinalIntervals(partial: Partial, o: IntervalOptions): MomentIntervals[] {
   const replicates = o.replicates ?? SUMMARY_REPLICATES;
@@ -79,36 +79,28 @@ export function computeFinalIntervals(partial: Partial, o: IntervalOptions): Mom
   const scale = o.scale ?? 1;
   const rng = bootstrapRng(o.seed, FINAL_STREAM);
   const g = partial.nTimes - 1;
-  const hists = Array.from({ length: nS }, (_, s) => {
+  // Each species' n final values in ascending order (the histogram expanded): a replicate then
+  // reads values[rank] for n random ranks, with no search.
+  const sorted = Array.from({ length: nS }, (_, s) => {
     const a = partial.histPtr[g * nS + s];
     const b = partial.histPtr[g * nS + s + 1];
-    const values = partial.histValues.subarray(a, b);
-    const cum = new Float64Array(b - a);
-    let acc = 0;
-    for (let k = 0; k < cum.length; k++) cum[k] = acc += partial.histCounts[a + k];
-    return { values, cum };
+    const out = new Float64Array(n);
+    let at = 0;
+    for (let k = a; k < b; k++) out.fill(partial.histValues[k], at, (at += partial.histCounts[k]));
+    return out;
   });
   const reps = Array.from({ length: nS * 4 }, () => new Float64Array(replicates)); // [species][mean, sd, cv, fano]
-  const picks = new Float64Array(n);
+  const picks = new Int32Array(n);
   for (let r = 0; r < replicates; r++) {
     // Ranks into each species' sorted values: each species' replicate is a valid draw of n cells
     // with replacement; ranks are not the same cells across species, which no interval here needs.
     for (let k = 0; k < n; k++) picks[k] = Math.floor(rng.uniform() * n);
     for (let s = 0; s < nS; s++) {
-      const { values, cum } = hists[s];
+      const values = sorted[s];
       let sx = 0;
       let sxx = 0;
       for (let k = 0; k < n; k++) {
-        // The value of rank picks[k]: first bin whose cumulative count exceeds it.
-        let lo = 0;
-        let hi = cum.length - 1;
-        const rank = picks[k];
-        while (lo < hi) {
-          const mid = (lo + hi) >> 1;
-          if (cum[mid] > rank) hi = mid;
-          else lo = mid + 1;
-        }
-        const v = values[lo];
+        const v = values[picks[k]];
         sx += v;
         sxx += v * v;
       }
@@ -121,7 +113,7 @@ export function computeFinalIntervals(partial: Partial, o: IntervalOptions): Mom
       reps[s * 4 + 3][r] = mean !== 0 ? variance / mean : NaN;
     }
   }
-  return hists.map((_, s) => ({
+  return sorted.map((_, s) => ({
     mean: percentileBounds(reps[s * 4], scale),
     sd: percentileBounds(reps[s * 4 + 1], scale),
     cv: percentileBounds(reps[s * 4 + 2], 1),
