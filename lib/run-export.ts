@@ -4,7 +4,7 @@
  * comma separated, CRLF line ends, fields quoted only when they hold a comma, quote or line break;
  * numbers in full precision; undefined values (NaN, null) as empty fields. Pure: no I/O.
  */
-import { QUANTILE_KEYS, sdOf, type AnalysisJson, type CellJson, type SummaryJson } from "@/lib/run-view";
+import { QUANTILE_KEYS, sdOf, type AnalysisJson, type CellJson, type MomentsJson, type SummaryJson } from "@/lib/run-view";
 
 const EOL = "\r\n";
 
@@ -46,9 +46,26 @@ export function bandsCsv(s: SummaryJson): string {
   return toCsv(rows);
 }
 
+const CI_STATS = ["mean", "sd", "cv", "fano"] as const;
+
+/** Header of the interval columns: stationary_mean_lo, stationary_mean_hi, … final_fano_hi, ci_level, ci_method. */
+const ciColumns = (): string[] => [
+  ...(["stationary", "final"] as const).flatMap((w) => CI_STATS.flatMap((k) => [`${w}_${k}_lo`, `${w}_${k}_hi`])),
+  "ci_level", "ci_method",
+];
+
+/** One species' interval fields in ciColumns' order (empty where the summary has none). */
+function ciFields(st: MomentsJson | undefined, fi: MomentsJson | undefined): (string | number | null | undefined)[] {
+  const pair = (m: MomentsJson | undefined, k: (typeof CI_STATS)[number]) => [m?.ci?.[k]?.[0], m?.ci?.[k]?.[1]];
+  const ci = st?.ci ?? fi?.ci;
+  return [...CI_STATS.flatMap((k) => pair(st, k)), ...CI_STATS.flatMap((k) => pair(fi, k)), ci?.level, ci?.method];
+}
+
 /**
  * The noise table as CSV: one row per species with the stationary (after burn-in) and final
- * moments, the period spread and amplitude, and, when given, the LNA CV and Fano factor beside.
+ * moments, the period spread and amplitude, and, when given, the LNA CV and Fano factor beside;
+ * when the summary carries 95% intervals (ssa/intervals.ts), their bounds, level and method follow
+ * in columns of their own at the end, so readers of the older columns see no change.
  */
 export function noiseCsv(s: SummaryJson, lna?: AnalysisJson["lna"] | null): string {
   const tu = s.time_unit ?? "model";
@@ -58,6 +75,8 @@ export function noiseCsv(s: SummaryJson, lna?: AnalysisJson["lna"] | null): stri
     "period_count", `period_mean_${tu}`, `period_sd_${tu}`, "period_cv", "amplitude_mean", "amplitude_sd",
     ...(lna ? ["lna_cv", "lna_fano"] : []), "burn_in_" + tu, "unit",
   ];
+  const hasCi = s.species.some((sp) => s.stationary[sp]?.ci || s.final[sp]?.ci);
+  if (hasCi) header.push(...ciColumns());
   const unit = amountUnit(s);
   const rows: (string | number | null | undefined)[][] = [header];
   for (const sp of s.species) {
@@ -69,6 +88,7 @@ export function noiseCsv(s: SummaryJson, lna?: AnalysisJson["lna"] | null): stri
       fi?.mean, sdOf(fi?.variance), fi?.cv, fi?.fano,
       p?.count ?? 0, p?.mean, p?.sd, p?.cv, p?.amplitude?.mean, p?.amplitude?.sd,
       ...(lna ? [lna.cv[sp], lna.fano[sp]] : []), s.burn_in, unit,
+      ...(hasCi ? ciFields(st, fi) : []),
     ]);
   }
   return toCsv(rows);

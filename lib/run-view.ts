@@ -37,7 +37,14 @@ export interface RunJson {
   warnings?: EngineWarning[];
 }
 
-export interface MomentsJson { mean: number | null; variance: number | null; cv: number | null; fano: number | null }
+/** A 95% interval over cells beside a summary's moments (ssa/intervals.ts); null bounds where undefined. */
+export interface MomentIntervalsJson {
+  mean: [number | null, number | null]; sd: [number | null, number | null];
+  cv: [number | null, number | null]; fano: [number | null, number | null];
+  level: number; method: string;
+}
+export interface MomentsJson { mean: number | null; variance: number | null; cv: number | null; fano: number | null; ci?: MomentIntervalsJson }
+export type IntervalStat = "mean" | "sd" | "cv" | "fano";
 export interface PeriodJson {
   count: number; mean: number | null; sd: number | null; cv: number | null;
   histogram: { edges: number[]; counts: number[] };
@@ -67,6 +74,8 @@ export interface SummaryJson {
   wall_s: number;
   events_per_s?: number;
   burn_in?: number;
+  burn_in_rule?: { source: "given" | "relaxation" | "t_end/5"; relaxation_time: number | null; relaxation_times: number };
+  warnings?: { code: string; message: string; field?: string }[];
   time_unit?: string;
   amount_unit?: string;
   omega?: number;
@@ -140,6 +149,13 @@ export function formatNumber(v: number | null | undefined, digits = 4): string {
   const a = Math.abs(v);
   if (a >= 1e6 || a < 1e-3) return v.toExponential(Math.max(0, digits - 1)).replace("e+", "e");
   return String(Number(v.toPrecision(digits)));
+}
+
+/** An interval as "[lo, hi]" in formatNumber's digits, or "" when the summary has none (older runs, one cell). */
+export function formatInterval(ci: MomentIntervalsJson | undefined, stat: IntervalStat, digits = 4): string {
+  const b = ci?.[stat];
+  if (!b || b[0] == null || b[1] == null || !Number.isFinite(b[0]) || !Number.isFinite(b[1])) return "";
+  return `[${formatNumber(b[0], digits)}, ${formatNumber(b[1], digits)}]`;
 }
 
 /** Large counts with thin grouping: 12 345 678. */

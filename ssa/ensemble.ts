@@ -11,10 +11,12 @@ import type { Model } from "./model-core";
 import { ACF_MAX_CELLS, acfRange, addCellLagSums, countAcfCell, makeAcfSums } from "./oscillation";
 import { cellRngState } from "./rng";
 import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
+import { computeFinalIntervals, computeStationaryIntervals } from "./intervals";
+import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type BurnInChoice } from "./stationarity";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
-import type { EngineWarning } from "./warnings";
+import { makeWarning, type EngineWarning } from "./warnings";
 
 export type StochasticMethod = "ssa" | "tau";
 
@@ -113,6 +115,8 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
   // Per species, each cell's Σx and Σx² after burn-in, in cell order (the bootstrap over cells).
   const sums = Array.from({ length: nS }, () => new Float64Array(last - first));
   const sumSqs = Array.from({ length: nS }, () => new Float64Array(last - first));
+  const heads = Array.from({ length: nS }, () => new Float64Array(last - first));
+  const tails = Array.from({ length: nS }, () => new Float64Array(last - first));
   const pair = new Float64Array(2);
   // Exact lag sums over cells for the oscillation verdict (ssa/oscillation.ts).
   const acf = makeAcfSums(nS, acfRange(grid, gStart));
@@ -136,6 +140,9 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
         sums[i][cell - first] = pair[0];
         sumSqs[i][cell - first] = pair[1];
         if (cell < ACF_MAX_CELLS) addCellLagSums(acf, i, out, i * B + b, nS * B, acfScratch);
+        cellHalfSums(out, i * B + b, nS * B, gStart, nT, pair);
+        heads[i][cell - first] = pair[0];
+        tails[i][cell - first] = pair[1];
       }
       if (cell < ACF_MAX_CELLS) countAcfCell(acf);
     }
@@ -160,6 +167,8 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
           amplitudes: Float64Array.from(amplitudes[i]),
           sum: sums[i],
           sumSq: sumSqs[i],
+          sumHead: heads[i],
+          sumTail: tails[i],
         })),
       },
     ],
@@ -178,10 +187,37 @@ export function chunkRanges(runs: number, size: number): [number, number][] {
 export interface SummaryContext {
   units?: "molecules" | "model";
   wallS?: number;
+  /** How the burn-in was chosen (ssa/stationarity.ts chooseBurnIn): its rule and warnings join the summary. */
+  burnIn?: BurnInChoice;
 }
 
-/** The simulate JSON from a merged partial of a run (see finalizeSummary). */
+/**
+ * The simulate JSON from a merged partial of a run (see finalizeSummary), with 95% intervals over
+ * cells beside the stationary and final moments (ssa/intervals.ts) and the stationarity warnings.
+ */
 export function summarize(m: Model, o: EnsembleOptions, partial: Partial, ctx: SummaryContext = {}): SimulateSummary {
+  const summary = finalizeSummaryOf(m, o, partial, ctx);
+  const scale = summary.units === "model" ? m.omega : 1;
+  const stationaryCi = computeStationaryIntervals(partial, { seed: o.seed, scale });
+  const finalCi = computeFinalIntervals(partial, { seed: o.seed, scale });
+  m.species.forEach((id, i) => {
+    summary.stationary[id].ci = stationaryCi[i];
+    summary.final[id].ci = finalCi[i];
+  });
+  const choice = ctx.burnIn;
+  if (choice) summary.burn_in_rule = { source: choice.source, relaxation_time: choice.relaxationTime, relaxation_times: BURN_IN_RELAXATION_TIMES };
+  summary.warnings.push(...(choice?.warnings ?? []), ...windowWarnings(partial, summary.burn_in, m.timeUnit));
+  summary.warnings.push(...driftWarnings(m.species, checkDrift(partial, scale), summary.burn_in, m.timeUnit, choice?.relaxationTime ?? null));
+  return summary;
+}
+
+/** `window-too-short` (field burn_in) when the window after burn-in has fewer than 4 grid points: no drift check is possible. */
+function windowWarnings(partial: Partial, burnIn: number, timeUnit: string): EngineWarning[] {
+  if (partial.cellSamples === undefined || partial.cellSamples >= 4) return [];
+  return [makeWarning("window-too-short", `burn_in: only ${partial.cellSamples} grid point(s) lie at or after burn-in ${burnIn} ${timeUnit}; stationary statistics need a longer window (lower burn_in or raise t_end) and cannot be checked for drift.`, "burn_in")];
+}
+
+function finalizeSummaryOf(m: Model, o: EnsembleOptions, partial: Partial, ctx: SummaryContext): SimulateSummary {
   return finalizeSummary(partial, {
     method: o.method,
     seed: o.seed,

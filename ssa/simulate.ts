@@ -3,10 +3,12 @@
  * ensemble (method "ssa" / "tau"), as the JSON of CONTRACT.md §2 with wall_s = 0. The command
  * line and the worker use ssa/node/run.ts, which adds threads and timing. Pure: no I/O.
  */
-import { burnInOf, simulateEnsemble } from "./ensemble";
+import { simulateEnsemble } from "./ensemble";
 import type { Model } from "./model-core";
 import { solveOde } from "./ode";
+import { chooseBurnIn } from "./burn-in";
 import { analyzeOrNull, checkAgainstMeanField, judgeTrace } from "./oscillation-checks";
+import { BURN_IN_RELAXATION_TIMES, pathDriftWarnings, type BurnInChoice } from "./stationarity";
 import { cellPeriods, guardPeriodsByGrid, periodSummary, sparseMoments, type SimulateSummary, type SpeciesMoments } from "./stats";
 
 export interface SimulateInput {
@@ -33,11 +35,11 @@ function momentsOf(values: number[]): SpeciesMoments {
  * rule as for cells, and are reported only for a sustained cycle on a grid that resolves it
  * (ssa/oscillation-checks.ts: `damped-oscillation`, `grid-too-coarse`).
  */
-export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateSummary {
+export function odeSummary(model: Model, o: SimulateInput, wallS = 0, choice: BurnInChoice = chooseBurnIn(model, o)): SimulateSummary {
   const units = o.units ?? "model";
   const sol = solveOde(model, { tEnd: o.tEnd, dt: o.dt, units });
   const times = Float64Array.from(sol.times);
-  const burnIn = burnInOf(o);
+  const burnIn = choice.burnIn;
   let gStart = 0;
   while (gStart < times.length - 1 && times[gStart] < burnIn) gStart++;
   const scratch = new Float64Array(times.length);
@@ -88,11 +90,14 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
     wall_s: wallS,
     events_per_s: 0,
     burn_in: burnIn,
+    burn_in_rule: { source: choice.source, relaxation_time: choice.relaxationTime, relaxation_times: BURN_IN_RELAXATION_TIMES },
+    // A path that settles to a stable state is checked for drift; a limit cycle's half-window
+    // means differ by the part of a cycle each half cuts off, which is no drift.
+    warnings: [...warnings, ...choice.warnings, ...(choice.relaxationTime !== null ? pathDriftWarnings(model.species, sol.trace, gStart, burnIn, model.timeUnit) : [])],
     time_unit: model.timeUnit,
     amount_unit: units === "model" ? model.amountUnit : "molecules",
     omega: model.omega,
     trace: sol.trace,
-    warnings,
   };
   checkAgainstMeanField(model, summary, { tEnd: o.tEnd, dt: o.dt, burnIn }, an);
   return summary;
@@ -105,7 +110,8 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0): SimulateS
 export function simulate(model: Model, o: SimulateInput): SimulateSummary {
   if (o.method === "ode") return odeSummary(model, o);
   if (o.seed === undefined) throw new RangeError("seed is required for a stochastic run");
-  const summary = simulateEnsemble(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: o.burnIn }, o.runs ?? 1, { units: o.units });
-  checkAgainstMeanField(model, summary, { tEnd: o.tEnd, dt: o.dt, burnIn: burnInOf(o) });
+  const choice = chooseBurnIn(model, o);
+  const summary = simulateEnsemble(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: choice.burnIn }, o.runs ?? 1, { units: o.units, burnIn: choice });
+  checkAgainstMeanField(model, summary, { tEnd: o.tEnd, dt: o.dt, burnIn: choice.burnIn });
   return summary;
 }

@@ -7,7 +7,9 @@
  * notes"). Pure: no I/O.
  */
 
+import type { MomentIntervals } from "./intervals";
 import { acfVerdict, mergeAcfSums, MIN_SAMPLES_PER_PERIOD, type AcfEvidence, type AcfSums } from "./oscillation";
+import type { BurnInSource } from "./stationarity";
 import { makeWarning, type EngineWarning } from "./warnings";
 
 export const PARTIAL_FORMAT = "burstwise.partial/1" as const;
@@ -26,6 +28,9 @@ export interface CellSeriesList {
    */
   sum?: Float64Array;
   sumSq?: Float64Array;
+  /** Per cell, Σx over the first and over the last half of the window (ssa/stationarity.ts drift check). */
+  sumHead?: Float64Array;
+  sumTail?: Float64Array;
 }
 
 export interface PeriodSegment {
@@ -172,6 +177,10 @@ function joinSegments(a: PeriodSegment, b: PeriodSegment): PeriodSegment {
       if (sa.sum && sb.sum && sa.sumSq && sb.sumSq) {
         joined.sum = concatF64(sa.sum, sb.sum);
         joined.sumSq = concatF64(sa.sumSq, sb.sumSq);
+      }
+      if (sa.sumHead && sb.sumHead && sa.sumTail && sb.sumTail) {
+        joined.sumHead = concatF64(sa.sumHead, sb.sumHead);
+        joined.sumTail = concatF64(sa.sumTail, sb.sumTail);
       }
       return joined;
     }),
@@ -353,6 +362,8 @@ export interface SpeciesMoments {
   variance: number;
   cv: number;
   fano: number;
+  /** 95% intervals over cells (ssa/intervals.ts); ensembles only. */
+  ci?: MomentIntervals;
 }
 
 export interface PeriodSummary {
@@ -480,11 +491,14 @@ export interface SimulateSummary {
   /** ε of the tau-leaping step selection (method "tau" only). */
   tau_epsilon?: number;
   burn_in: number;
+  /** Where the burn-in came from and the circuit's slowest relaxation time (ssa/stationarity.ts). */
+  burn_in_rule?: { source: BurnInSource; relaxation_time: number | null; relaxation_times: number };
   time_unit: string;
   amount_unit: string;
   omega: number;
   trace?: Record<string, number[]>;
-  /** Caveats on these numbers (ssa/warnings.ts), e.g. `grid-too-coarse`, `damped-oscillation`, `quasi-cycles`. */
+  /** Caveats on these numbers (ssa/warnings.ts), e.g. `grid-too-coarse`, `damped-oscillation`, `quasi-cycles`,
+   * `not-stationary`, `window-too-short`. */
   warnings: EngineWarning[];
 }
 

@@ -12,9 +12,12 @@ import { failRun, getRun, getRunCircuit, getRunImportWarnings, gzipJson, type Ru
 import { Queues, RunChunkJob, RunFinalizeJob } from "../lib/jobs";
 import { RUN_LIMITS } from "../lib/schemas/runs";
 import { cellStatsOf, encodeCellStats } from "../ssa/cell-stats";
+import { summarize, trajectory, type EnsembleOptions } from "../ssa/ensemble";
+import { chooseBurnIn } from "../ssa/burn-in";
 import { checkAgainstMeanField } from "../ssa/oscillation-checks";
-import { burnInOf, summarize, trajectory, type EnsembleOptions } from "../ssa/ensemble";
 import { compileModel, parseCircuitExpressions } from "../ssa/model";
+import { compileParsedModel, type Model } from "../ssa/model-core";
+import type { BurnInChoice } from "../ssa/stationarity";
 import { runSimulation } from "../ssa/node/run";
 import { solveOde } from "../ssa/ode";
 import { mergePartials, type Partial } from "../ssa/stats";
@@ -40,6 +43,23 @@ export function ensembleOptions(run: RunRow): EnsembleOptions {
     // The run's own limit, stored with it (older runs: the limit they were queued under).
     maxEventsPerCell: s.max_events_per_cell ?? RUN_LIMITS.maxEventsPerCell,
   };
+}
+
+/**
+ * The run's burn-in: as stored when the user gave one, else from the circuit's relaxation time
+ * (ssa/burn-in.ts). Every chunk and the finalize job must use the same value, and they do: the
+ * choice depends only on the stored circuit, overrides and settings. Kept per run in this process
+ * so the steady state is found once, not once per chunk.
+ */
+const burnInChoices = new Map<string, BurnInChoice>();
+function chooseRunBurnIn(run: RunRow, model: Model): BurnInChoice {
+  let choice = burnInChoices.get(run.id);
+  if (!choice) {
+    choice = chooseBurnIn(model, { tEnd: run.settings.t_end, burnIn: run.settings.burn_in });
+    if (burnInChoices.size > 200) burnInChoices.clear(); // a bound, not a cache policy: recomputing is cheap
+    burnInChoices.set(run.id, choice);
+  }
+  return choice;
 }
 
 export interface RunDeps {
@@ -85,8 +105,9 @@ export async function handleChunk(job: Job<unknown> & { retryCount?: number; ret
       const t0 = performance.now();
       const overrides = run.settings.overrides;
       const expressions = parseCircuitExpressions(circuit, overrides);
+      const { burnIn } = chooseRunBurnIn(run, compileParsedModel(circuit, overrides, expressions));
       const result = await whileNotCancelled(runId, (signal) =>
-        deps.pool.run({ circuit, overrides, expressions, options: ensembleOptions(run), first, last }, { signal }));
+        deps.pool.run({ circuit, overrides, expressions, options: { ...ensembleOptions(run), burnIn }, first, last }, { signal }));
       if (!result) return; // cancelled while computing
       if ("inputError" in result) throw new InputError(result.inputError);
       const { partial } = result;
@@ -143,10 +164,12 @@ export async function handleFinalize(job: Job<unknown>): Promise<void> {
     }
     const circuit = await getRunCircuit(runId);
     const model = compileModel(circuit, run.settings.overrides);
-    const options = ensembleOptions(run);
+    const choice = chooseRunBurnIn(run, model);
+    burnInChoices.delete(run.id);
+    const options = { ...ensembleOptions(run), burnIn: choice.burnIn };
     const wallS = run.startedAt ? (Date.now() - new Date(run.startedAt).getTime()) / 1000 : 0;
-    const summary = summarize(model, options, merged!, { units: run.settings.units, wallS });
-    checkAgainstMeanField(model, summary, { tEnd: options.tEnd, dt: options.dt, burnIn: burnInOf(options) });
+    const summary = summarize(model, options, merged!, { units: run.settings.units, wallS, burnIn: choice });
+    checkAgainstMeanField(model, summary, { tEnd: options.tEnd, dt: options.dt, burnIn: choice.burnIn });
     // The version's import warnings first, as `cli simulate` of the SBML file prints them.
     summary.warnings = [...(await getRunImportWarnings(runId)), ...summary.warnings];
     let trace: Record<string, number[]> | null = null;

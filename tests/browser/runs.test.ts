@@ -71,7 +71,9 @@ describe("the modeler launches an ensemble and reads its results", () => {
     await page.getByLabel(/^End time/).fill("200");
     await page.getByLabel(/^Sampling step/).fill("1");
     await page.getByLabel("Cells").fill("100");
-    expect(await page.getByLabel(/^Burn-in/).inputValue()).toBe("40"); // t_end / 5
+    // Empty: the worker chooses it from the circuit's relaxation time (at least t_end / 5).
+    expect(await page.getByLabel(/^Burn-in/).inputValue()).toBe("");
+    await page.getByText(/Empty: 5 × the circuit's slowest relaxation time/).waitFor();
     const cost = page.getByTestId("cost-estimate");
     await cost.getByText("of one thread").waitFor();
     expect(await cost.textContent()).toMatch(/Events per cell.*× cells\s*100/s);
@@ -87,7 +89,9 @@ describe("the modeler launches an ensemble and reads its results", () => {
     await page.getByRole("button", { name: "Launch ensemble" }).click();
     await page.waitForURL(/\/runs\/\d+$/);
     runId = page.url().split("/").pop()!;
-    expect((await modeler.request("GET", `/api/runs/${runId}`)).json).toMatchObject({ seed, settings: { runs: 100, t_end: 200, dt: 1, burn_in: 40 } });
+    const launched = (await modeler.request("GET", `/api/runs/${runId}`)).json;
+    expect(launched).toMatchObject({ seed, settings: { runs: 100, t_end: 200, dt: 1 } });
+    expect(launched.settings.burn_in).toBeUndefined();
   });
 
   it("the run page follows the run to the end and then shows the results with the caution", async () => {
@@ -125,7 +129,20 @@ describe("the modeler launches an ensemble and reads its results", () => {
     const rows = page.getByTestId("noise-table").locator("tbody tr");
     expect(await rows.count()).toBe(3);
     const a = (await rows.first().locator("td").allTextContents());
-    expect(Number(a[0])).toBeCloseTo(summary.stationary.A.mean, 1); // shown to 4 significant digits
+    expect(Number(/^[\d.]+/.exec(a[0]!)?.[0])).toBeCloseTo(summary.stationary.A.mean, 1); // shown to 4 significant digits
+    // The ring timer oscillates (no stable steady state): the burn-in stays t_end / 5.
+    expect(summary.burn_in).toBe(40);
+    // Each stationary number has its 95% interval over cells under it, as the summary has it.
+    const ci = summary.stationary.A.ci;
+    expect(ci.method).toBe("percentile bootstrap over cells, 1000 replicates");
+    const fmt = (v: number) => String(Number(v.toPrecision(4)));
+    for (const k of ["mean", "cv", "fano"]) {
+      expect(await page.getByTestId(`ci-${k}-A`).textContent(), k).toBe(`[${fmt(ci[k][0])}, ${fmt(ci[k][1])}]`);
+      expect(ci[k][0]).toBeLessThanOrEqual(summary.stationary.A[k]);
+      expect(ci[k][1]).toBeGreaterThanOrEqual(summary.stationary.A[k]);
+    }
+    await page.getByTestId("ci-sd-C").waitFor();
+    await page.getByTestId("noise-table").getByText("Under each number its 95% interval (percentile bootstrap over cells, 1000 replicates).", { exact: false }).waitFor();
     // The ring timer's steady state is unstable (it oscillates), so there is no LNA, and the page says why.
     await page.getByTestId("noise-table").getByText(/No LNA: the steady state .* is unstable/).waitFor();
     const period = page.getByTestId("period-spread");
@@ -169,7 +186,14 @@ describe("the modeler launches an ensemble and reads its results", () => {
     expect(rows[0]).toBe("species,time_min,mean,sd,p05,p25,p50,p75,p95,mean_field,unit");
     expect(rows).toHaveLength(1 + 3 * 201);
     const noise = await download(page, () => page.getByRole("button", { name: "Download noise table CSV" }).click());
-    expect(csvRows(noise.text)).toHaveLength(4);
+    const noiseRows = csvRows(noise.text);
+    expect(noiseRows).toHaveLength(4);
+    // The intervals travel with the export: bounds, level and method in columns of their own.
+    expect(noiseRows[0]).toContain(",unit,stationary_mean_lo,stationary_mean_hi,stationary_sd_lo,");
+    expect(noiseRows[0]).toMatch(/,final_fano_hi,ci_level,ci_method$/);
+    const summary = (await modeler.request("GET", `/api/runs/${runId}/summary`)).json;
+    expect(noiseRows[1]).toContain(`,${summary.stationary.A.ci.mean[0]},${summary.stationary.A.ci.mean[1]},`);
+    expect(noiseRows[1]).toMatch(/,0\.95,"percentile bootstrap over cells, 1000 replicates"$/);
     const svg = await download(page, () => page.getByTestId("bands-chart").getByRole("button", { name: /^SVG of/ }).click());
     expect(svg.name).toBe(`run-${runId}-bands-A.svg`);
     expect(svg.text).toMatch(/^<svg[\s\S]*mark-area/);
@@ -182,7 +206,7 @@ describe("the modeler launches an ensemble and reads its results", () => {
     await page.waitForURL((u) => /\/runs\/\d+$/.test(u.pathname) && !u.pathname.endsWith(`/${runId}`));
     const again = page.url().split("/").pop()!;
     const done = await waitForRun(modeler, again, (r) => r.status !== "queued" && r.status !== "running", 120_000);
-    expect(done).toMatchObject({ status: "succeeded", seed, version_id: versionId, method: "ssa", settings: { runs: 100, t_end: 200, dt: 1, burn_in: 40 } });
+    expect(done).toMatchObject({ status: "succeeded", seed, version_id: versionId, method: "ssa", settings: { runs: 100, t_end: 200, dt: 1 } });
     const [a, b] = await Promise.all([runId, again].map((id) => modeler.request("GET", `/api/runs/${id}/summary`)));
     for (const k of ["mean", "sd", "quantiles", "stationary", "period"]) expect(b.json[k]).toEqual(a.json[k]);
   });

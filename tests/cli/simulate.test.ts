@@ -44,7 +44,10 @@ describe("cli simulate and trajectory", () => {
     expect(a).toMatchObject({ method: "ssa", seed: 42, runs: 60, units: "molecules", species: ["A", "B", "C"] });
     expect(a.times).toHaveLength(201);
     expect(Object.keys(a.quantiles.A)).toEqual(["p05", "p25", "p50", "p75", "p95"]);
-    expect(Object.keys(a.final.A)).toEqual(["mean", "variance", "cv", "fano"]);
+    // The older four numbers first, then their 95% interval over cells beside them (issue 12).
+    expect(Object.keys(a.final.A)).toEqual(["mean", "variance", "cv", "fano", "ci"]);
+    expect(Object.keys(a.stationary.A.ci)).toEqual(["mean", "sd", "cv", "fano", "level", "method"]);
+    expect(a.warnings).toEqual(expect.any(Array));
     expect(a.period.A).toMatchObject({ count: expect.any(Number), histogram: { edges: expect.any(Array), counts: expect.any(Array) } });
     expect(statsBytes(b)).toBe(statsBytes(a));
     expect(b.events).toBe(a.events);

@@ -151,6 +151,36 @@ describe("ensembles through the API and the worker", () => {
     expect(Number((await db("runs").count({ n: "*" }))[0]?.n)).toBe(before);
   });
 
+  it("a run without burn_in takes it from the circuit's relaxation time; its summary carries 95% intervals and the stationarity warnings, as `cli simulate` does", async () => {
+    await worker();
+    const reporter = JSON.parse(readFileSync("examples/two-stage-reporter.circuit.json", "utf8"));
+    const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: { ...reporter, name: `Two-stage reporter ${Date.now()}` } });
+    expect(c.status, c.text).toBe(201);
+    const r = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 200, dt: 1, runs: 300, seed: 8 });
+    expect(r.status, r.text).toBe(202);
+    const run = await waitFor(r.json.id, finished);
+    expect(run.status).toBe("succeeded");
+    expect(run.settings.burn_in).toBeUndefined();
+    const summary = (await modeler.request("GET", `/api/runs/${r.json.id}/summary`)).json;
+    // 5 relaxation times (1/gp = 50 min) do not fit in t_end = 200: capped at t_end / 2, and said so.
+    expect(summary.burn_in).toBe(100);
+    expect(summary.burn_in_rule).toMatchObject({ source: "relaxation", relaxation_times: 5 });
+    expect(summary.warnings.map((w: any) => `${w.code}:${w.field}`)).toEqual(["window-too-short:t_end", "not-stationary:stationary.P"]);
+    for (const sp of ["M", "P"]) {
+      for (const where of ["stationary", "final"]) {
+        const m = summary[where][sp];
+        expect(m.ci).toMatchObject({ level: 0.95, method: "percentile bootstrap over cells, 1000 replicates" });
+        for (const k of ["mean", "cv", "fano"]) {
+          expect(m.ci[k][0], `${where}.${sp}.ci.${k}`).toBeLessThanOrEqual(m[k]);
+          expect(m.ci[k][1], `${where}.${sp}.ci.${k}`).toBeGreaterThanOrEqual(m[k]);
+        }
+      }
+    }
+    const cli = runCli(["simulate", "examples/two-stage-reporter.circuit.json", "--runs", "300", "--seed", "8", "--t-end", "200", "--dt", "1", "--threads", "1"]);
+    expect(cli.status, cli.stderr).toBe(0);
+    expect(JSON.stringify({ ...pick(summary), w: summary.warnings, b: summary.burn_in })).toBe(JSON.stringify({ ...pick(cli.json), w: cli.json.warnings, b: cli.json.burn_in }));
+  });
+
   it("a deterministic trace run stores the mean-field path", async () => {
     await worker();
     const { id } = await launch({ method: "ode" });

@@ -99,3 +99,25 @@ describe("exportFileName", () => {
     expect(exportFileName("12", "bands A/B", "svg")).toBe("run-12-bands-A-B.svg");
   });
 });
+
+describe("noiseCsv with intervals", () => {
+  const method = "percentile bootstrap over cells, 1000 replicates";
+  type B = [number | null, number | null];
+  const ci = (k: number) => ({ mean: [k, k + 1] as B, sd: [k + 2, k + 3] as B, cv: [k + 4, k + 5] as B, fano: [k + 6, k + 7] as B, level: 0.95, method });
+  const withCi: SummaryJson = {
+    ...summary,
+    stationary: { A: { ...summary.stationary.A, ci: ci(100) }, B: { ...summary.stationary.B, ci: { ...ci(200), cv: [null, null] } } },
+    final: { A: { ...summary.final.A, ci: ci(300) }, B: { ...summary.final.B, ci: ci(400) } },
+  };
+
+  it("noiseCsv(summary) appends each interval's bounds, the level and the method after the older columns", () => {
+    const rows = lines(noiseCsv(withCi));
+    expect(rows[0]).toBe(
+      "species,stationary_mean,stationary_sd,stationary_cv,stationary_fano,final_mean,final_sd,final_cv,final_fano," +
+      "period_count,period_mean_min,period_sd_min,period_cv,amplitude_mean,amplitude_sd,burn_in_min,unit," +
+      "stationary_mean_lo,stationary_mean_hi,stationary_sd_lo,stationary_sd_hi,stationary_cv_lo,stationary_cv_hi,stationary_fano_lo,stationary_fano_hi," +
+      "final_mean_lo,final_mean_hi,final_sd_lo,final_sd_hi,final_cv_lo,final_cv_hi,final_fano_lo,final_fano_hi,ci_level,ci_method");
+    expect(rows[1]).toBe("A,2,2,1,2,2.5,0.7,0.28,0.196,0,,,,,,0.4,molecules,100,101,102,103,104,105,106,107,300,301,302,303,304,305,306,307,0.95,\"" + method + "\"");
+    expect(rows[2]).toBe("B,11,,,,12,3,0.25,0.75,7,30,3,0.1,5,1,0.4,molecules,200,201,202,203,,,206,207,400,401,402,403,404,405,406,407,0.95,\"" + method + "\"");
+  });
+});

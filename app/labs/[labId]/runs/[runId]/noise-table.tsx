@@ -6,7 +6,7 @@ import useSWR from "swr";
 import { jsonFetcher } from "@/app/_components/run-api";
 import { TableHead } from "@/app/_components/table-head";
 import { WarningMark, warningsAbout } from "@/app/_components/warning-list";
-import { formatNumber, sdOf, type AnalysisJson, type RunJson, type SummaryJson } from "@/lib/run-view";
+import { formatInterval, formatNumber, sdOf, type AnalysisJson, type IntervalStat, type MomentsJson, type RunJson, type SummaryJson } from "@/lib/run-view";
 import { analyze } from "@/ssa/analyze";
 import { compileModel } from "@/ssa/model";
 import type { Circuit } from "@/ssa/types";
@@ -52,7 +52,34 @@ export function useLna(run: RunJson, summary: SummaryJson): LnaState {
   return { lna: { ...result.lna, fano }, note: `LNA at the deterministic steady state ${where}.`, loading: false };
 }
 
-/** Stationary mean, SD, CV and Fano factor per species, with the LNA CV and Fano beside. */
+/** One number with its 95% interval under it (nothing under it when the summary has no interval). */
+function ValueWithInterval({ m, stat, value, testId }: { m: MomentsJson | undefined; stat: IntervalStat; value: number | null | undefined; testId: string }) {
+  const ci = formatInterval(m?.ci, stat);
+  return (
+    <td className="px-3 py-2 text-right">
+      {formatNumber(value)}
+      {ci && <span className="block text-xs text-ink-soft" data-testid={testId}>{ci}</span>}
+    </td>
+  );
+}
+
+/** Where the burn-in came from, in words (older summaries have no rule). */
+function burnInWhy(summary: SummaryJson, timeUnit: string): string {
+  const r = summary.burn_in_rule;
+  if (!r) return "";
+  const tau = r.relaxation_time != null ? `the circuit's slowest relaxation time is ${formatNumber(r.relaxation_time)} ${timeUnit}` : "the circuit has no stable steady state to relax to";
+  if (r.source === "given") return ` Burn-in as given; ${tau}.`;
+  if (r.source === "relaxation") return ` Burn-in ${r.relaxation_times} × the slowest relaxation time (${tau.replace("the circuit's slowest relaxation time is ", "")}), at most t_end / 2.`;
+  return ` Burn-in t_end / 5; ${tau}.`;
+}
+
+/** The caption's sentence on the intervals, naming their method. */
+function ciNote(summary: SummaryJson): string {
+  const ci = summary.species.map((sp) => summary.stationary[sp]?.ci).find((c) => c);
+  return ci ? `Under each number its ${Math.round(ci.level * 100)}% interval (${ci.method}).` : "";
+}
+
+/** Stationary mean, SD, CV and Fano factor per species with their 95% intervals, and the LNA CV and Fano beside. */
 export function NoiseTable({ summary, lna, amountUnit, timeUnit, burnIn }: {
   summary: SummaryJson; lna: LnaState; amountUnit: string; timeUnit: string; burnIn: number;
 }) {
@@ -65,7 +92,7 @@ export function NoiseTable({ summary, lna, amountUnit, timeUnit, burnIn }: {
           <caption className="px-3 pt-2 text-left text-xs text-ink-soft">
             {isTrace
               ? <>Over the deterministic path&apos;s grid values at times ≥ burn-in ({formatNumber(burnIn)} {timeUnit}): SD and CV measure how far the path swings in time (an oscillation), not cell-to-cell noise. The LNA columns predict that noise. </>
-              : <>Stationary statistics: pooled over all {summary.runs.toLocaleString("en-US")} cells and grid times ≥ burn-in ({formatNumber(burnIn)} {timeUnit}). SD with n − 1. </>}
+              : <>Stationary statistics: pooled over all {summary.runs.toLocaleString("en-US")} cells and grid times ≥ burn-in ({formatNumber(burnIn)} {timeUnit}). SD with n − 1.{burnInWhy(summary, timeUnit)} {ciNote(summary)} </>}
             {lna.note}
           </caption>
           <TableHead columns={["Species", { label: `Mean (${amountUnit})`, numeric: true }, { label: `SD (${amountUnit})`, numeric: true }, { label: "CV", numeric: true }, { label: `Fano (${amountUnit})`, numeric: true }, { label: "LNA CV", numeric: true }, { label: "LNA Fano", numeric: true }]} />
@@ -75,10 +102,10 @@ export function NoiseTable({ summary, lna, amountUnit, timeUnit, burnIn }: {
               return (
                 <tr key={sp} className="border-t border-ink/10">
                   <th scope="row" className="px-3 py-2 text-left font-medium">{sp}<WarningMark warnings={warningsAbout(summary.warnings, sp)} /></th>
-                  <td className="px-3 py-2 text-right">{formatNumber(st?.mean)}</td>
-                  <td className="px-3 py-2 text-right">{formatNumber(sdOf(st?.variance))}</td>
-                  <td className="px-3 py-2 text-right">{formatNumber(st?.cv)}</td>
-                  <td className="px-3 py-2 text-right">{formatNumber(st?.fano)}</td>
+                  <ValueWithInterval m={st} stat="mean" value={st?.mean} testId={`ci-mean-${sp}`} />
+                  <ValueWithInterval m={st} stat="sd" value={sdOf(st?.variance)} testId={`ci-sd-${sp}`} />
+                  <ValueWithInterval m={st} stat="cv" value={st?.cv} testId={`ci-cv-${sp}`} />
+                  <ValueWithInterval m={st} stat="fano" value={st?.fano} testId={`ci-fano-${sp}`} />
                   <td className="px-3 py-2 text-right text-ink-soft">{lna.loading ? "…" : formatNumber(lna.lna?.cv[sp])}</td>
                   <td className="px-3 py-2 text-right text-ink-soft">{lna.loading ? "…" : formatNumber(lna.lna?.fano[sp])}</td>
                 </tr>

@@ -175,7 +175,7 @@ function RunProvenance({ labId, run, contentHash, canLaunch, role, timeUnit, mod
     ...(run.kind === "ensemble" ? ([["Seed", <span key="s" data-testid="run-seed">{run.seed}</span>], ["Cells", formatCount(s.runs)]] as [string, React.ReactNode][]) : []),
     ["End time", `${s.t_end} ${timeUnit}`],
     ["Sampling step", `${s.dt} ${timeUnit}`],
-    ["Burn-in", s.burn_in !== undefined ? `${s.burn_in} ${timeUnit}` : `${formatNumber(burnInOf(s))} ${timeUnit} (default t_end / 5)`],
+    ["Burn-in", s.burn_in !== undefined ? `${s.burn_in} ${timeUnit}` : `automatic: 5 relaxation times of the circuit, at least t_end / 5 (${formatNumber(burnInOf(s))} ${timeUnit}), at most t_end / 2; the value used is given with the noise table`],
     ["Overrides", overrides.length ? overrides.map(([k, v]) => `${k} = ${v}`).join(", ") : "none (saved parameters)"],
     ["Output units", amountUnitOf(s.units, modelAmountUnit)],
     ["Engine", run.engine_version],

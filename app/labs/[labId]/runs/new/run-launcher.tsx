@@ -80,7 +80,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed, budget }: Ru
   const [dt, setDt] = useState("1");
   const [cells, setCells] = useState("1000");
   const [seed, setSeed] = useState(String(initialSeed));
-  const [burnIn, setBurnIn] = useState<string | null>(null); // null: follows t_end / 5
+  const [burnIn, setBurnIn] = useState<string | null>(null); // null: the engine chooses it from the circuit (ssa/burn-in.ts)
   const [overrides, setOverrides] = useState<OverrideRow[]>([]);
   const [units, setUnits] = useState<"molecules" | "model" | null>(null); // null: the method's default
   const [tauEpsilon, setTauEpsilon] = useState(String(TAU_EPSILON));
@@ -91,8 +91,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed, budget }: Ru
 
   const isTrace = method === "ode";
   const tEndNum = num(tEnd);
-  const autoBurnIn = tEndNum !== undefined && Number.isFinite(tEndNum) && tEndNum > 0 ? tEndNum / 5 : undefined;
-  const burnInText = burnIn ?? (autoBurnIn !== undefined ? String(Number(autoBurnIn.toPrecision(12))) : "");
+  const burnInText = burnIn ?? "";
   const effectiveUnits = units ?? (isTrace ? "model" : "molecules");
   const omega = useMemo(() => {
     try {
@@ -112,7 +111,8 @@ export function RunLauncher({ labId, version, circuit, initialSeed, budget }: Ru
     t_end: tEndNum,
     dt: dtNum,
     ...(isTrace ? {} : { runs: num(cells), seed: num(seed) }),
-    ...(burnIn === null ? (autoBurnIn !== undefined ? { burn_in: autoBurnIn } : {}) : { burn_in: num(burnIn) }),
+    // Left out unless typed: the worker then takes 5 relaxation times of the circuit (at least t_end / 5).
+    ...(burnIn === null || burnIn.trim() === "" ? {} : { burn_in: num(burnIn) }),
     ...(overrides.length ? { overrides: overrideValues } : {}),
     ...(method === "tau" ? { tau_epsilon: num(tauEpsilon) } : {}),
     units: effectiveUnits,
@@ -214,7 +214,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed, budget }: Ru
               className="shrink-0 rounded-md border border-ink/20 bg-white px-3 text-sm hover:border-ochre disabled:opacity-40">New seed</button>
           </NumberInput>
           <NumberInput id="burn_in" label="Burn-in" unit={timeUnit} value={burnInText} onChange={(v) => setBurnIn(v)} error={errors.burn_in}
-            hint={<>Stationary statistics and periods use grid times ≥ burn-in. {burnIn === null ? "Default: t_end / 5." : <button type="button" className="text-ochre-dark underline" onClick={() => setBurnIn(null)}>Back to t_end / 5</button>}</>} />
+            hint={<>Stationary statistics and periods use grid times ≥ burn-in. {burnIn === null || burnIn.trim() === "" ? "Empty: 5 × the circuit's slowest relaxation time, at least t_end / 5 and at most t_end / 2." : <button type="button" className="text-ochre-dark underline" onClick={() => setBurnIn(null)}>Back to the automatic burn-in</button>}</>} />
           {method === "tau" && (
             <NumberInput id="tau_epsilon" label="Leap tolerance ε" value={tauEpsilon} onChange={setTauEpsilon} error={errors.tau_epsilon}
               hint={`How much a propensity may change within one leap (Cao, Gillespie & Petzold 2006). Default ${TAU_EPSILON}; at most ${MAX_TAU_EPSILON}. Larger is faster and less exact.`} />
