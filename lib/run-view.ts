@@ -75,7 +75,6 @@ export interface SummaryJson {
   events_per_s?: number;
   burn_in?: number;
   burn_in_rule?: { source: "given" | "relaxation" | "t_end/5"; relaxation_time: number | null; relaxation_times: number };
-  warnings?: { code: string; message: string; field?: string }[];
   time_unit?: string;
   amount_unit?: string;
   omega?: number;
