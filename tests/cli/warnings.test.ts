@@ -30,7 +30,8 @@ const STDERR_LINES = "warning: sbml-no-time-unit: no time unit declared; read as
 
 describe("cli warnings", () => {
   it("simulate on an SBML file prints the import warnings in its JSON and one line each on stderr", async () => {
-    const r = await cli("simulate", sbmlFile, "--t-end", "10", "--dt", "1", "--runs", "4", "--seed", "3", "--threads", "1");
+    // t_end 40 leaves a window after 5 relaxation times (2 s each): no stationarity warning joins them.
+    const r = await cli("simulate", sbmlFile, "--t-end", "40", "--dt", "1", "--runs", "4", "--seed", "3", "--threads", "1");
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
     expect(out.warnings).toEqual(IMPORT_WARNINGS);
@@ -53,7 +54,7 @@ describe("cli warnings", () => {
   });
 
   it("simulate --method ode on a circuit file prints \"warnings\": [] and nothing on stderr", async () => {
-    const r = await cli("simulate", "examples/two-stage-reporter.circuit.json", "--method", "ode", "--t-end", "10", "--dt", "1");
+    const r = await cli("simulate", "examples/two-stage-reporter.circuit.json", "--method", "ode", "--t-end", "2000", "--dt", "10");
     expect(r.code).toBe(0);
     expect(JSON.parse(r.stdout).warnings).toEqual([]);
     expect(r.stderr).toBe("");

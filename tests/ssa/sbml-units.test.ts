@@ -120,7 +120,8 @@ describe("SBML Level 2 without unit definitions: mole, litre, second (SBML L2V4 
     expect(r.mean.B[0]).toBe(1204);
     // Binding starts at kon/(N_A V)·602·1204 ≈ 1200 /s against unbinding at 0.1 /s per C: C ends in the hundreds.
     expect(r.final.C.mean).toBeGreaterThan(100);
-    expect(r.warnings).toEqual([]);
+    // C is still forming at t = 10 s, so the stationarity check rightly warns; nothing else may.
+    expect(r.warnings.map((w) => w.code).filter((code) => code !== "not-stationary" && code !== "window-too-short")).toEqual([]);
   });
 
   it("a file with a size of 1 (read as 1 litre) imports with the warning sbml-volume-large on volume_fL", () => {
