@@ -10,7 +10,7 @@ import { conflict, notFound, unprocessable } from "@/lib/http";
 import { RUN_LIMITS, type CellQuery } from "@/lib/schemas/runs";
 import type { EnsembleOptions } from "@/ssa/ensemble";
 import type { CellSelection } from "@/ssa/node/engine-protocol";
-import { ENGINE_VERSION, reproducesResultsOf } from "@/ssa/version";
+import { ENGINE_VERSION, reproducesCellsOf } from "@/ssa/version";
 
 const fmt = (n: number) => n.toLocaleString("en-US");
 
@@ -33,7 +33,7 @@ export async function replayCell(run: RunRow, rawIndex: string, query: CellQuery
   if (run.kind !== "ensemble") throw unprocessable("index: a trace has no cells; only ensembles do");
   const index = /^(0|[1-9][0-9]{0,8})$/.test(rawIndex) ? Number(rawIndex) : NaN;
   if (!(index < run.settings.runs)) throw notFound(`cell ${rawIndex} (the run has cells 0 to ${run.settings.runs - 1})`);
-  if (!reproducesResultsOf(run.engineVersion, run.method as "ssa" | "tau")) {
+  if (!reproducesCellsOf(run.engineVersion, run.method as "ssa" | "tau")) {
     throw conflict(`engine_version: this ${run.method} run was computed by ${run.engineVersion}, and this server's ${ENGINE_VERSION} draws ${run.method} cells differently; launch it again to replay its cells`);
   }
   // Until a run has succeeded its cells are not all known to stay within its limits: a failed

@@ -3,12 +3,24 @@
  * 0.2.0: tau-leaping draws its Poisson numbers from tables (ssa/poisson.ts) and takes a leap
  * tolerance ε (default 0.05), so tau runs differ from 0.1.0 for the same seed; direct-method and
  * mean-field results are unchanged.
+ * 0.3.0: summaries change (issue 12): the default burn-in comes from the circuit's relaxation time,
+ * the oscillation verdict from the averaged autocorrelation, and chunks carry the sums behind both
+ * (lag and half-window sums). Cells are drawn exactly as by 0.2.0.
  */
-export const ENGINE_VERSION = "burstwise-ssa/0.2.0";
+export const ENGINE_VERSION = "burstwise-ssa/0.3.0";
 
-/** Earlier versions whose results this engine reproduces exactly, per method. */
-const SAME_RESULTS: Record<string, readonly ("ode" | "ssa" | "tau")[]> = {
+type Method = "ode" | "ssa" | "tau";
+
+/**
+ * Earlier versions whose run results (chunks and summaries) this engine reproduces exactly, per
+ * method: none, since 0.3.0 sums other statistics per chunk and chooses another default window.
+ */
+const SAME_RESULTS: Record<string, readonly Method[]> = {};
+
+/** Earlier versions whose single cells this engine draws identically, per method (cell replay). */
+const SAME_CELLS: Record<string, readonly Method[]> = {
   "burstwise-ssa/0.1.0": ["ode", "ssa"],
+  "burstwise-ssa/0.2.0": ["ode", "ssa", "tau"],
 };
 
 /**
@@ -16,6 +28,11 @@ const SAME_RESULTS: Record<string, readonly ("ode" | "ssa" | "tau")[]> = {
  * chunks, a replayed cell): always for the same version, and for earlier versions whose
  * change left that method alone.
  */
-export function reproducesResultsOf(recorded: string, method: "ode" | "ssa" | "tau"): boolean {
+export function reproducesResultsOf(recorded: string, method: Method): boolean {
   return recorded === ENGINE_VERSION || (SAME_RESULTS[recorded]?.includes(method) ?? false);
+}
+
+/** Whether this engine replays, for `method`, exactly the cells the engine `recorded` drew. */
+export function reproducesCellsOf(recorded: string, method: Method): boolean {
+  return recorded === ENGINE_VERSION || (SAME_CELLS[recorded]?.includes(method) ?? false);
 }

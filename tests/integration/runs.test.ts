@@ -122,19 +122,25 @@ describe("ensembles through the API and the worker", () => {
     expect((await modeler.request("GET", `/api/runs/${plain.id}`)).json.settings.tau_epsilon).toBe(0.05);
   });
 
-  it("a tau run recorded by engine 0.1.0 is not replayed or finished by this engine (409 / failed, naming engine_version); a direct-method one still is", async () => {
+  it("a run queued under an older engine is not finished by this one (its summaries differ: failed, naming engine_version); a finished run's cells replay when this engine draws them identically, else 409", async () => {
+    const queuedOld = await launch({ runs: 10, seed: 3, t_end: 20 });
+    await db("runs").where("id", queuedOld.id).update({ engine_version: "burstwise-ssa/0.2.0" });
     const tau = await launch({ method: "tau", runs: 10, seed: 3, t_end: 20 });
     const ssa = await launch({ runs: 10, seed: 3, t_end: 20 });
+    await worker();
+    const failed = await waitFor(queuedOld.id, finished);
+    expect(failed.status).toBe("failed");
+    expect(failed.error).toMatch(/^engine_version: queued under burstwise-ssa\/0\.2\.0/);
+    expect((await waitFor(tau.id, finished)).status).toBe("succeeded");
+    expect((await waitFor(ssa.id, finished)).status).toBe("succeeded");
+    // Recorded by older engines once finished: 0.1.0 drew tau cells differently, 0.2.0 and 0.1.0 direct-method cells alike.
     await db("runs").whereIn("id", [tau.id, ssa.id]).update({ engine_version: "burstwise-ssa/0.1.0" });
     const old = await modeler.request("GET", `/api/runs/${tau.id}/cells/0`);
     expect(old.status).toBe(409);
     expect(old.json.error).toMatch(/^engine_version: this tau run was computed by burstwise-ssa\/0\.1\.0/);
-    await worker();
-    const failed = await waitFor(tau.id, finished);
-    expect(failed.status).toBe("failed");
-    expect(failed.error).toMatch(/^engine_version: queued under burstwise-ssa\/0\.1\.0/);
-    expect((await waitFor(ssa.id, finished)).status).toBe("succeeded");
-    expect((await modeler.request("GET", `/api/runs/${ssa.id}/cells/0`)).status).toBe(200); // the direct method did not change
+    expect((await modeler.request("GET", `/api/runs/${ssa.id}/cells/0`)).status).toBe(200);
+    await db("runs").where("id", tau.id).update({ engine_version: "burstwise-ssa/0.2.0" });
+    expect((await modeler.request("GET", `/api/runs/${tau.id}/cells/0`)).status).toBe(200);
   });
 
   it("tau_epsilon outside (0, 0.2] or with another method is a 422 naming it, and nothing is stored", async () => {
