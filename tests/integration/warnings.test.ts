@@ -80,7 +80,8 @@ describe("a version made from SBML keeps its import warnings", () => {
 describe("runs carry their warnings", () => {
   it("an ensemble of the SBML version: GET /api/runs/:id, its summary and its cells carry the import warnings, as `cli simulate` prints them", async () => {
     await workers.start();
-    const r = await me.request("POST", "/api/runs", { version_id: sbmlVersionId, method: "ssa", t_end: 10, dt: 1, runs: 30, seed: 11 });
+    // t_end 40 leaves a window after 5 relaxation times (2 s each): only the import warnings apply.
+    const r = await me.request("POST", "/api/runs", { version_id: sbmlVersionId, method: "ssa", t_end: 40, dt: 1, runs: 30, seed: 11 });
     expect(r.status, r.text).toBe(202);
     const queued = await me.request("GET", `/api/runs/${r.json.id}`);
     expect(queued.json.warnings).toEqual([]); // no summary yet
@@ -95,7 +96,7 @@ describe("runs carry their warnings", () => {
     const stored = await db("run_results").where({ run_id: r.json.id }).first("warnings");
     expect(stored.warnings).toEqual(IMPORT_WARNINGS);
     // Last: the command line blocks this process, and the app may close idle connections meanwhile.
-    const cli = runCli(["simulate", SBML_FILE, "--runs", "30", "--seed", "11", "--t-end", "10", "--dt", "1", "--threads", "1"]);
+    const cli = runCli(["simulate", SBML_FILE, "--runs", "30", "--seed", "11", "--t-end", "40", "--dt", "1", "--threads", "1"]);
     expect(cli.status, cli.stderr).toBe(0);
     expect(summary.warnings).toEqual(cli.json.warnings);
     expect(summary.stationary).toEqual(cli.json.stationary);
@@ -103,9 +104,9 @@ describe("runs carry their warnings", () => {
 
   it("a trace of the SBML version carries them; a run of a circuit file carries warnings []", async () => {
     await workers.start();
-    const t = await me.request("POST", "/api/runs", { version_id: sbmlVersionId, method: "ode", t_end: 10, dt: 1 });
+    const t = await me.request("POST", "/api/runs", { version_id: sbmlVersionId, method: "ode", t_end: 40, dt: 1 });
     expect(t.status, t.text).toBe(202);
-    const p = await me.request("POST", "/api/runs", { version_id: plainVersionId, method: "ssa", t_end: 10, dt: 1, runs: 5, seed: 3 });
+    const p = await me.request("POST", "/api/runs", { version_id: plainVersionId, method: "ssa", t_end: 200, dt: 1, runs: 5, seed: 3 });
     expect(p.status, p.text).toBe(202);
     const trace = await waitForRun(me, t.json.id, isFinished);
     expect(trace.status).toBe("succeeded");
