@@ -50,6 +50,8 @@ export interface PeriodJson {
   histogram: { edges: number[]; counts: number[] };
   cells?: number; amplitude?: { mean: number | null; sd: number | null }; oscillating?: boolean;
   crossings?: { count: number; mean: number | null; cv: number | null };
+  /** 95% intervals of the period mean and CV over cells, where a period is reported (ensembles). */
+  ci?: { mean: [number | null, number | null]; cv: [number | null, number | null]; level: number; method: string };
 }
 export type QuantileKey = "p05" | "p25" | "p50" | "p75" | "p95";
 export const QUANTILE_KEYS: readonly QuantileKey[] = ["p05", "p25", "p50", "p75", "p95"];
@@ -151,7 +153,7 @@ export function formatNumber(v: number | null | undefined, digits = 4): string {
 }
 
 /** An interval as "[lo, hi]" in formatNumber's digits, or "" when the summary has none (older runs, one cell). */
-export function formatInterval(ci: MomentIntervalsJson | undefined, stat: IntervalStat, digits = 4): string {
+export function formatInterval<S extends string>(ci: Partial<Record<S, [number | null, number | null]>> | undefined, stat: S, digits = 4): string {
   const b = ci?.[stat];
   if (!b || b[0] == null || b[1] == null || !Number.isFinite(b[0]) || !Number.isFinite(b[1])) return "";
   return `[${formatNumber(b[0], digits)}, ${formatNumber(b[1], digits)}]`;

@@ -201,8 +201,12 @@ export function summarize(m: Model, o: EnsembleOptions, partial: Partial, ctx: S
   const stationaryCi = computeStationaryIntervals(partial, { seed: o.seed, scale });
   const finalCi = computeFinalIntervals(partial, { seed: o.seed, scale });
   m.species.forEach((id, i) => {
-    summary.stationary[id].ci = stationaryCi[i];
+    const { period, ...moments } = stationaryCi[i];
+    summary.stationary[id].ci = moments;
     summary.final[id].ci = finalCi[i];
+    // A period's interval only where a period is reported (oscillating, not withheld by the grid guard).
+    const p = summary.period[id];
+    if (p.oscillating && p.count > 0 && p.withheld === undefined) p.ci = period;
   });
   const choice = ctx.burnIn;
   if (choice) summary.burn_in_rule = { source: choice.source, relaxation_time: choice.relaxationTime, relaxation_times: BURN_IN_RELAXATION_TIMES };

@@ -32,8 +32,24 @@ export interface MomentIntervals {
   method: string;
 }
 
+/** Intervals of an ensemble's period mean and CV (issue 12 item 6): time units, no amount scale. */
+export interface PeriodIntervals {
+  mean: Bounds;
+  cv: Bounds;
+  level: number;
+  method: string;
+}
+
+/** The stationary moments' intervals of one species, with its period's from the same replicates. */
+export interface StationaryIntervals extends MomentIntervals {
+  period: PeriodIntervals;
+}
+
 const bounds = (iv: Interval, scale: number): Bounds => [iv.lo / scale, iv.hi / scale];
 const undefinedIntervals = (method: string): MomentIntervals => ({ mean: [NaN, NaN], sd: [NaN, NaN], cv: [NaN, NaN], fano: [NaN, NaN], level: SUMMARY_LEVEL, method });
+const undefinedStationary = (method: string): StationaryIntervals => ({
+  ...undefinedIntervals(method), period: { mean: [NaN, NaN], cv: [NaN, NaN], level: SUMMARY_LEVEL, method },
+});
 
 export interface IntervalOptions {
   seed: number;
@@ -44,16 +60,19 @@ export interface IntervalOptions {
 
 /**
  * Intervals of the stationary moments of every species, from the partial's per-cell sums after
- * burn-in. With fewer than 2 cells there is nothing to resample: the bounds are NaN.
+ * burn-in, and of its period mean and CV from the same replicates (each cell's periods move with
+ * the cell, as in the comparisons). With fewer than 2 cells there is nothing to resample: the
+ * bounds are NaN, as they are for the period of a species without periods.
  */
-export function computeStationaryIntervals(partial: Partial, o: IntervalOptions): MomentIntervals[] {
+export function computeStationaryIntervals(partial: Partial, o: IntervalOptions): StationaryIntervals[] {
   const replicates = o.replicates ?? SUMMARY_REPLICATES;
   const method = `percentile bootstrap over cells, ${replicates} replicates`;
-  if (partial.cells < 2) return Array.from({ length: partial.nSpecies }, () => undefinedIntervals(method));
+  if (partial.cells < 2) return Array.from({ length: partial.nSpecies }, () => undefinedStationary(method));
   const scale = o.scale ?? 1;
   const noise = bootstrapNoise(cellStatsOf(partial), { seed: o.seed, stream: STATIONARY_STREAM, replicates, level: SUMMARY_LEVEL });
   return noise.map((n) => ({
     mean: bounds(n.mean, scale), sd: bounds(n.sd, scale), cv: bounds(n.cv, 1), fano: bounds(n.fano, scale), level: SUMMARY_LEVEL, method,
+    period: { mean: bounds(n.periodMean, 1), cv: bounds(n.periodCv, 1), level: SUMMARY_LEVEL, method },
   }));
 }
 

@@ -7,7 +7,7 @@
  * notes"). Pure: no I/O.
  */
 
-import type { MomentIntervals } from "./intervals";
+import type { MomentIntervals, PeriodIntervals } from "./intervals";
 import { acfVerdict, mergeAcfSums, MIN_SAMPLES_PER_PERIOD, type AcfEvidence, type AcfSums } from "./oscillation";
 import type { BurnInSource } from "./stationarity";
 import { makeWarning, type EngineWarning } from "./warnings";
@@ -387,6 +387,8 @@ export interface PeriodSummary {
   acf?: AcfEvidence;
   /** 2.5th and 97.5th percentiles of the cells' own mean periods (cells with ≥ 1 period); when oscillating. */
   interval?: [number, number] | null;
+  /** 95% intervals of `mean` and `cv` over cells (ssa/intervals.ts); ensembles, where a period is reported. */
+  ci?: PeriodIntervals;
   /** Mean-field trace only: the fitted decay of the cycle amplitude over the last half of its cycles. */
   trend?: { damping_time: number | null; ratio: number; cycles: number; sustained: boolean };
   /** Why a period that the test found is not reported (e.g. `grid-too-coarse`, `damped-oscillation`). */

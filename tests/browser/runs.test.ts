@@ -149,6 +149,14 @@ describe("the modeler launches an ensemble and reads its results", () => {
     await period.getByRole("heading", { name: "Period spread" }).waitFor();
     expect(summary.period.A.count).toBeGreaterThan(0);
     expect(await period.locator("tbody tr").first().textContent()).toContain(String(summary.period.A.count.toLocaleString("en-US")));
+    // The period's mean and CV carry their 95% interval over cells too, as the summary has it.
+    const pci = summary.period.A.ci;
+    expect(pci.method).toBe("percentile bootstrap over cells, 1000 replicates");
+    for (const k of ["mean", "cv"]) {
+      expect(await period.getByTestId(`period-ci-${k}-A`).textContent(), `period ${k}`).toBe(`[${fmt(pci[k][0])}, ${fmt(pci[k][1])}]`);
+      expect(pci[k][0]).toBeLessThanOrEqual(summary.period.A[k]);
+      expect(pci[k][1]).toBeGreaterThanOrEqual(summary.period.A[k]);
+    }
     await period.locator("svg g.mark-rect").first().waitFor(); // histogram bars
     await page.locator("section", { has: page.getByRole("heading", { name: "Sample cells" }) }).locator("svg g.mark-line").first().waitFor();
     // The stationary distribution is the whole ensemble's exact tally, not the sample cells.

@@ -13,7 +13,7 @@ import { seriesOverlayLayer, seriesOverlayPoints, snapshotOverlayBins, type Data
 import { bandsSpec, cellsSpec, distributionVersusMeasuredSpec, histogramSpec, traceSpec } from "@/lib/run-charts";
 import { bandsCsv, exportBaseName, exportFileName, noiseCsv } from "@/lib/run-export";
 import {
-  amountUnitOf, burnInOf, formatNumber, histogramOf, momentsOf, valuesAfterBurnIn, weightedHistogramOf,
+  amountUnitOf, burnInOf, formatInterval, formatNumber, histogramOf, momentsOf, valuesAfterBurnIn, weightedHistogramOf,
   type CellJson, type RunJson, type SummaryJson,
 } from "@/lib/run-view";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
@@ -221,6 +221,7 @@ function PeriodSpread({ run, summary, species, onSpecies, units, burnIn }: {
           ? "A species counts as oscillating when its cycle is sustained: the amplitude does not decay over the last half of the path."
           : "A species counts as oscillating when the cells' averaged autocorrelation dips below zero and rises to a second peak by more than noise alone reaches (4 standard errors, Bartlett's formula)."}
         {" "}No period is reported when the sampling step is too coarse for the rhythm (fewer than 8 samples per period).
+        {run.kind !== "trace" && " Under the mean and the CV: their 95% interval over cells (percentile bootstrap over whole cells, 1000 replicates)."}
       </p>
       <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
         <table className="w-full min-w-[36rem] text-sm tabular-nums">
@@ -238,9 +239,15 @@ function PeriodSpread({ run, summary, species, onSpecies, units, burnIn }: {
                   {has ? (
                     <>
                       <td className="px-3 py-2 text-right">{q.count.toLocaleString("en-US")}</td>
-                      <td className="px-3 py-2 text-right">{formatNumber(q.mean)}</td>
+                      <td className="px-3 py-2 text-right">
+                        {formatNumber(q.mean)}
+                        {q.ci && <span className="block text-xs text-ink-soft" data-testid={`period-ci-mean-${sp}`}>{formatInterval(q.ci, "mean")}</span>}
+                      </td>
                       <td className="px-3 py-2 text-right">{formatNumber(q.sd)}</td>
-                      <td className="px-3 py-2 text-right">{formatNumber(q.cv)}</td>
+                      <td className="px-3 py-2 text-right">
+                        {formatNumber(q.cv)}
+                        {q.ci && <span className="block text-xs text-ink-soft" data-testid={`period-ci-cv-${sp}`}>{formatInterval(q.ci, "cv")}</span>}
+                      </td>
                       <td className="px-3 py-2 text-right">{q.amplitude ? `${formatNumber(q.amplitude.mean)} ± ${formatNumber(q.amplitude.sd)}` : "—"}</td>
                     </>
                   ) : (
