@@ -5,7 +5,7 @@ import type {
 import { MODEL_CAVEAT, comparisonProgress } from "@/lib/comparison-view";
 import {
   cancelComparisonRuns, cancelDesignRuns, deleteComparison, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunCellStatsGz, getRunNoise, getRunWarnings,
-  insertComparison, insertDesignRuns, listDesigns, listSettledRunningComparisons, storeComparisonResults, getComparisonResults,
+  insertComparison, insertDesignRuns, listDesigns, storeComparisonResults, getComparisonResults,
   type ComparisonRow, type DesignRow, type NewDesign,
 } from "@/lib/data/comparisons";
 import { getVersion, type VersionRow } from "@/lib/data/circuits";
@@ -353,13 +353,6 @@ export async function refreshComparison(id: string): Promise<ComparisonRow["stat
 export async function refreshComparisonOfRun(runId: string): Promise<void> {
   const id = await getComparisonIdOfRun(runId);
   if (id) await refreshComparison(id);
-}
-
-/** Catches up on running comparisons whose runs have all ended (a hook that never ran). */
-export async function refreshSettledComparisons(): Promise<number> {
-  const ids = await listSettledRunningComparisons();
-  for (const id of ids) await refreshComparison(id);
-  return ids.length;
 }
 
 const num = (v: number): number | null => (Number.isFinite(v) ? v : null);

@@ -185,15 +185,6 @@ export async function getComparisonIdOfRun(runId: string): Promise<string | null
   return row ? String(row.comparisonId) : null;
 }
 
-/** Running comparisons whose design runs have all ended (a missed hook catches up through these). */
-export async function listSettledRunningComparisons(limit = 20): Promise<string[]> {
-  const rows = await db("comparisons as c").where("c.status", "running")
-    .whereNotExists(db("comparison_designs as d").leftJoin("runs as r", "r.id", "d.runId").whereRaw("d.comparison_id = c.id")
-      .where((q) => q.whereNull("r.id").orWhereIn("r.status", ["queued", "running"])))
-    .orderBy("c.id").limit(limit).select("c.id");
-  return rows.map((r: { id: string }) => String(r.id));
-}
-
 /** Per-cell sums stored with a finished ensemble (ssa/cell-stats.ts encoding), or null. */
 export async function getRunCellStats(runId: string): Promise<Float64Array | null> {
   const row = await db("run_results").where({ runId }).first("cellStatsGz");
