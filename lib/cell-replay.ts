@@ -1,15 +1,18 @@
 /**
- * Replaying one cell of a finished ensemble for the API: only from runs that succeeded, with the
- * run's own limits (its stored events per cell), never more values than one answer may carry, on
- * the engine pool (lib/engine.ts) within CELL_REPLAY_BUDGET_S.
+ * One cell of a finished ensemble for the API: only from runs that succeeded, never more values
+ * than one answer may carry. The sample cells the finalize step stored (run_results.cells_gz) are
+ * served from storage; any other cell is replayed with the run's own options (its stored events
+ * per cell; lib/schemas/run-options.ts engineOptionsOfRun) on the engine pool (lib/engine.ts)
+ * within CELL_REPLAY_BUDGET_S. Both are cut by the same function (ssa/cell-selection.ts).
  */
-import { getRunCircuit, getRunImportWarnings, type RunRow } from "@/lib/data/runs";
+import { getRunCircuit, getRunImportWarnings, getRunSampleCells, type RunRow } from "@/lib/data/runs";
 import { runEngineTask } from "@/lib/engine";
 import { env } from "@/lib/env";
 import { conflict, notFound, unprocessable } from "@/lib/http";
+import { engineOptionsOfRun } from "@/lib/schemas/run-options";
 import { RUN_LIMITS, type CellQuery } from "@/lib/schemas/runs";
-import type { EnsembleOptions } from "@/ssa/ensemble";
-import type { CellSelection } from "@/ssa/node/engine-protocol";
+import { selectCellJson, type CellSelection } from "@/ssa/cell-selection";
+import type { TrajectoryResult } from "@/ssa/ensemble";
 import { ENGINE_VERSION, reproducesCellsOf } from "@/ssa/version";
 
 const fmt = (n: number) => n.toLocaleString("en-US");
@@ -67,15 +70,15 @@ export async function replayCell(run: RunRow, rawIndex: string, query: CellQuery
   }
 
   const maxEvents = maxEventsOf(run);
-  const options: EnsembleOptions = {
-    method: run.method as "ssa" | "tau", tEnd: s.t_end, dt: s.dt, seed: run.seed, maxEventsPerCell: maxEvents,
-    ...(s.burn_in !== undefined ? { burnIn: s.burn_in } : {}),
-    ...(s.tau_epsilon !== undefined ? { tauEpsilon: s.tau_epsilon } : {}),
-  };
   const select: CellSelection = { ...(species ? { species } : {}), ...(every !== 1 ? { every } : {}) };
+  // The version's import warnings first, as `cli trajectory` of the SBML file prints them.
+  const warnings = await getRunImportWarnings(run.id);
+  if (index < RUN_LIMITS.sampleCells) {
+    const stored = (await getRunSampleCells<TrajectoryResult[]>(run.id))?.[index];
+    if (stored && stored.index === index) return selectCellJson(stored, select, warnings);
+  }
   const outcome = await runEngineTask(
-    // The version's import warnings first, as `cli trajectory` of the SBML file prints them.
-    { kind: "cell", circuit, overrides: s.overrides, options, index, units: s.units, select, warnings: await getRunImportWarnings(run.id) },
+    { kind: "cell", circuit, options: engineOptionsOfRun(run), index, select, warnings },
     env.CELL_REPLAY_BUDGET_S,
     (why) => `index: replaying cell ${index} ${why}; replay it with the command line (trajectory)`,
     signal,

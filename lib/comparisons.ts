@@ -21,12 +21,12 @@ import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, typ
 import { drawSeed, launchCostJson, launchedEvent, type LaunchCost } from "@/lib/runs";
 import { checkOverrides, CircuitError } from "@/lib/schemas/circuit";
 import { COMPARISON_LIMITS, axisValues, sweepDesigns, type ComparisonCreate, type Sweep } from "@/lib/schemas/comparisons";
-import { RUN_LIMITS, type RunSettings } from "@/lib/schemas/runs";
+import { RUN_LIMITS } from "@/lib/schemas/runs";
+import { settingsOf } from "@/lib/schemas/run-options";
 import { analyze } from "@/ssa/analyze";
 import { bootstrapNoise, type DifferenceTest, type Interval } from "@/ssa/bootstrap";
 import { decodeCellStats, type CellStats } from "@/ssa/cell-stats";
 import { compileModel } from "@/ssa/model";
-import { TAU_EPSILON } from "@/ssa/types";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** Two-sided level of the difference test. */
@@ -224,12 +224,11 @@ export async function launchComparison(userId: string, rawId: string, actor?: Ac
   const { cost, costs } = await comparisonWork(s, designs.map((d) => ({ version: versions.get(d.versionId)!, overrides: d.overrides ?? {} })), budget);
   const chunksTotal = Math.ceil(s.runs / RUN_LIMITS.chunkCells);
   const inserts = designs.map((d, i) => {
-    const settings: RunSettings = {
-      t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}),
-      ...(d.overrides && Object.keys(d.overrides).length ? { overrides: d.overrides } : {}), units: "molecules",
-      ...(s.method === "tau" ? { tau_epsilon: TAU_EPSILON } : {}),
-      max_events_per_cell: RUN_LIMITS.maxEventsPerCell,
-    };
+    // A design run stores its settings as any launch does (lib/schemas/run-options.ts settingsOf).
+    const settings = settingsOf({
+      method: s.method, t_end: s.t_end, dt: s.dt, runs: s.runs, ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}),
+      ...(d.overrides ? { overrides: d.overrides } : {}), units: "molecules",
+    });
     return { designId: d.id, versionId: d.versionId, method: s.method, settings, seed: c.commonSeed ? c.seed : c.seed + d.position, chunksTotal, cost: costs[i]! };
   });
   const seen: { queued?: QueuedWork } = {}; // what the guard saw, for the answer

@@ -3,6 +3,7 @@
  * bodies (CONTRACT.md §2, §3), and small pure helpers (ETA, durations, histogram rows). Pure: no
  * I/O; the browser and tests import it.
  */
+import type { RunSettings } from "@/lib/schemas/run-options";
 import type { TrajectoryResult } from "@/ssa/ensemble";
 import type { EngineWarning } from "@/ssa/warnings";
 
@@ -16,7 +17,8 @@ export interface RunJson {
   progress: number;
   error?: string;
   seed: number;
-  settings: { t_end: number; dt: number; runs: number; burn_in?: number; overrides?: Record<string, number>; units: "molecules" | "model"; tau_epsilon?: number };
+  /** As stored (lib/schemas/run-options.ts). */
+  settings: RunSettings;
   version_id: string;
   circuit_id: string;
   circuit_name: string;

@@ -8,8 +8,8 @@ import { idParam, notFound } from "@/lib/http";
 import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
 import { checkOverrides } from "@/lib/schemas/circuit";
 import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, type RunBudget } from "@/lib/run-budget";
-import { RUN_LIMITS, type RunCreate, type RunSettings } from "@/lib/schemas/runs";
-import { TAU_EPSILON } from "@/ssa/types";
+import { settingsOf, type RunLaunch } from "@/lib/schemas/run-options";
+import { RUN_LIMITS } from "@/lib/schemas/runs";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** A fresh seed for a run that names none (printed back, so the run can be repeated). */
@@ -29,7 +29,7 @@ export function launchCostJson(cost: number, queued: QueuedWork, budget: RunBudg
  * chunk of cells.
  * @throws 404/403 (version, role), 422 (overrides; a run bigger than the budget itself), 429 (the queue is full).
  */
-export async function createRun(userId: string, body: RunCreate, actor?: { id: string; email: string }): Promise<{ id: string; seed: number; cost: LaunchCost }> {
+export async function createRun(userId: string, body: RunLaunch, actor?: { id: string; email: string }): Promise<{ id: string; seed: number; cost: LaunchCost }> {
   const version = await requireVersion(userId, body.version_id, "lab:read");
   await requireLabRole(userId, version.labId, "run:launch", "version");
   checkOverrides(version.circuit, body.overrides);
@@ -38,14 +38,7 @@ export async function createRun(userId: string, body: RunCreate, actor?: { id: s
   const budget = getRunBudget();
   const { cost, perCell } = await estimateRunWork(version.id, version.circuit, { method: body.method, tEnd: body.t_end, dt: body.dt, cells, overrides: body.overrides });
   requireFitsBudget(cost, perCell, budget, { cells: "runs", tEnd: "t_end" });
-  const settings: RunSettings = {
-    t_end: body.t_end, dt: body.dt, runs: cells,
-    ...(body.burn_in !== undefined ? { burn_in: body.burn_in } : {}),
-    ...(body.overrides && Object.keys(body.overrides).length ? { overrides: body.overrides } : {}),
-    units: body.units ?? (kind === "trace" ? "model" : "molecules"),
-    ...(body.method === "tau" ? { tau_epsilon: body.tau_epsilon ?? TAU_EPSILON } : {}),
-    ...(kind === "ensemble" ? { max_events_per_cell: RUN_LIMITS.maxEventsPerCell } : {}),
-  };
+  const settings = settingsOf(body);
   const seed = body.seed ?? drawSeed();
   const chunksTotal = Math.ceil(cells / RUN_LIMITS.chunkCells);
   // The run and its run.launched event commit together; the jobs follow (a failure to queue fails the run).

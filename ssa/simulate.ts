@@ -1,26 +1,16 @@
 /**
  * `simulate` on the calling thread, without a clock: the mean-field run (method "ode") or an
  * ensemble (method "ssa" / "tau"), as the JSON of CONTRACT.md §2 with wall_s = 0. The command
- * line and the worker use ssa/node/run.ts, which adds threads and timing. Pure: no I/O.
+ * line and the worker use ssa/node/run-engine.ts, which adds threads and timing. Pure: no I/O.
  */
 import { simulateEnsemble } from "./ensemble";
 import type { Model } from "./model-core";
 import { solveOde } from "./ode";
 import { chooseBurnIn } from "./burn-in";
+import { ensembleOptionsOf, type EngineOptions } from "./engine-options";
 import { analyzeOrNull, checkAgainstMeanField, judgeTrace } from "./oscillation-checks";
 import { BURN_IN_RELAXATION_TIMES, pathDriftWarnings, type BurnInChoice } from "./stationarity";
 import { cellPeriods, guardPeriodsByGrid, periodSummary, sparseMoments, type SimulateSummary, type SpeciesMoments } from "./stats";
-
-export interface SimulateInput {
-  method: "ode" | "ssa" | "tau";
-  tEnd: number;
-  dt: number;
-  runs?: number;
-  /** Required for ssa/tau. */
-  seed?: number;
-  burnIn?: number;
-  units?: "molecules" | "model";
-}
 
 function momentsOf(values: number[]): SpeciesMoments {
   const v = Float64Array.from(values);
@@ -35,7 +25,7 @@ function momentsOf(values: number[]): SpeciesMoments {
  * rule as for cells, and are reported only for a sustained cycle on a grid that resolves it
  * (ssa/oscillation-checks.ts: `damped-oscillation`, `grid-too-coarse`).
  */
-export function odeSummary(model: Model, o: SimulateInput, wallS = 0, choice: BurnInChoice = chooseBurnIn(model, o)): SimulateSummary {
+export function odeSummary(model: Model, o: EngineOptions, wallS = 0, choice: BurnInChoice = chooseBurnIn(model, o)): SimulateSummary {
   const units = o.units ?? "model";
   const sol = solveOde(model, { tEnd: o.tEnd, dt: o.dt, units });
   const times = Float64Array.from(sol.times);
@@ -107,11 +97,11 @@ export function odeSummary(model: Model, o: SimulateInput, wallS = 0, choice: Bu
  * One `simulate` run of a compiled model on this thread.
  * @throws RangeError for bad options (a stochastic run needs a seed); OdeError when the mean field fails.
  */
-export function simulate(model: Model, o: SimulateInput): SimulateSummary {
+export function simulate(model: Model, o: EngineOptions): SimulateSummary {
   if (o.method === "ode") return odeSummary(model, o);
-  if (o.seed === undefined) throw new RangeError("seed is required for a stochastic run");
+  ensembleOptionsOf(o); // a stochastic run needs a seed
   const choice = chooseBurnIn(model, o);
-  const summary = simulateEnsemble(model, { method: o.method, tEnd: o.tEnd, dt: o.dt, seed: o.seed, burnIn: choice.burnIn }, o.runs ?? 1, { units: o.units, burnIn: choice });
+  const summary = simulateEnsemble(model, ensembleOptionsOf(o, choice.burnIn), o.runs ?? 1, { units: o.units, burnIn: choice });
   checkAgainstMeanField(model, summary, { tEnd: o.tEnd, dt: o.dt, burnIn: choice.burnIn });
   return summary;
 }

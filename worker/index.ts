@@ -2,24 +2,20 @@
 // (restarted there when it dies) and by `npm run worker` for extra capacity; any number of
 // worker processes, on any machines, share the queues through DATABASE_URL.
 import { availableParallelism } from "node:os";
-import { fileURLToPath } from "node:url";
-
-import { Piscina } from "piscina";
 
 import { closeDb } from "../db/client";
 import { env } from "../lib/env";
 import { ComparisonFinishJob, createBoss, ensureQueues, Queues } from "../lib/jobs";
 import { finishComparison } from "./comparisons";
 import { startNotifySweep } from "./notify";
+import { createRunPool } from "../ssa/node/run-engine";
 import { handleChunk, handleFinalize } from "./runs";
-import type { ChunkResult, ChunkTask } from "./tasks/cells";
 
 const concurrency = env.WORKER_CONCURRENCY ?? availableParallelism();
-const pool = new Piscina<ChunkTask, ChunkResult>({
-  filename: fileURLToPath(new URL("./tasks/cells.ts", import.meta.url)),
-  minThreads: 1, maxThreads: concurrency, idleTimeout: 60_000,
-  execArgv: ["--import", "tsx"],
-});
+// The engine's one pool (ssa/node/engine-pool.ts): chunks and finalize steps run on its threads,
+// so this process's event loop only moves jobs and rows.
+// One thread starts at once, so the first chunk does not wait for it to load the engine.
+const pool = createRunPool(concurrency, { minThreads: 1 });
 
 const boss = createBoss();
 await boss.start();
@@ -43,7 +39,7 @@ for (let i = 0; i < concurrency; i++) {
     });
 }
 await boss.work(Queues.runFinalize, { batchSize: 1, localConcurrency: 1, pollingIntervalSeconds: 0.5, includeMetadata: true },
-  async ([job]) => handleFinalize(job!));
+  async ([job]) => handleFinalize(job!, { pool }));
 // Results a read found missing (the run-finished hook died): computed here, never on the web thread.
 await boss.work(Queues.comparisonFinish, { batchSize: 1, localConcurrency: 1, pollingIntervalSeconds: 0.5 },
   async ([job]) => finishComparison(ComparisonFinishJob.parse(job!.data).comparisonId));
@@ -58,7 +54,7 @@ async function shutdown(signal: string) {
   // Graceful: stop fetching, let running chunks finish (or, after the timeout, hand them back).
   stopSweep();
   await boss.stop({ graceful: true, timeout: 30_000 });
-  await pool.destroy();
+  await pool.close();
   await closeDb();
   process.exit(0);
 }

@@ -1,10 +1,13 @@
 /**
- * Flags shared by `simulate` and `trajectory`, parsed into the SimulateOptions schema
- * (lib/schemas/circuit.ts) so the CLI, the API and the worker accept the same values.
+ * Flags shared by `simulate` and `trajectory`, parsed into the run options schema
+ * (lib/schemas/run-options.ts CliRunOptions) so the CLI, the API and the worker accept the same
+ * values, and mapped to the engine's options by the same function (toEngineOptions).
  */
 import { randomInt } from "node:crypto";
 
-import { checkOverridesWith, CircuitError, formatPath, SimulateOptions } from "@/lib/schemas/circuit-rules";
+import { checkOverridesWith, CircuitError, formatPath } from "@/lib/schemas/circuit-rules";
+import { CliRunOptions, CliThreads, toEngineOptions } from "@/lib/schemas/run-options";
+import type { EngineOptions } from "@/ssa/engine-options";
 import type { Circuit } from "@/ssa/types";
 
 import { CliError, formulaCheckerFor, numberFlag, overridesFlag, type FlagSpec, type ParsedFlags } from "../common";
@@ -37,47 +40,57 @@ export const RUN_FLAGS_HELP = `  --method ode|ssa|tau   simulation method (defau
   --threads K            worker threads (default: all cores)
   --out FILE             write the JSON there instead of stdout`;
 
+/** The flag of each field of the schema, for messages. */
 const FLAG_OF: Record<string, string> = {
   method: "--method",
-  tEnd: "--t-end",
+  t_end: "--t-end",
   dt: "--dt",
   runs: "--runs",
   seed: "--seed",
-  burnIn: "--burn-in",
+  burn_in: "--burn-in",
   overrides: "--set",
   units: "--units",
-  tauEpsilon: "--tau-epsilon",
-  threads: "--threads",
+  tau_epsilon: "--tau-epsilon",
 };
 
-/** Validated run options from flags; draws a random seed when none is given. @throws CliError exit 2. */
-export async function runOptionsFromFlags(flags: ParsedFlags, circuit: Circuit): Promise<SimulateOptions & { seed: number }> {
+/** A zod failure as the one-line message of the flag it is about. */
+function flagError(issue: { path: readonly PropertyKey[]; message: string } | undefined): CliError {
+  const [head, ...tail] = issue?.path ?? [];
+  const flag = FLAG_OF[String(head)] ?? String(head);
+  return new CliError(`${flag}${tail.length ? " " + formatPath(tail) : ""}: ${issue?.message ?? "invalid"}`);
+}
+
+/**
+ * Validated engine options from flags, with the thread count; draws a random seed when none is
+ * given. --runs is ignored for ode (a trace is one path).
+ * @throws CliError exit 2.
+ */
+export async function runOptionsFromFlags(flags: ParsedFlags, circuit: Circuit): Promise<EngineOptions & { seed: number; threads?: number }> {
   const tEnd = numberFlag(flags, "t-end");
   if (tEnd === undefined) throw new CliError("--t-end: is required");
+  const method = (flags.values.method as string | undefined) ?? "ssa";
   const raw = {
-    method: flags.values.method as string | undefined,
-    tEnd,
+    method,
+    t_end: tEnd,
     dt: numberFlag(flags, "dt") ?? (tEnd > 0 ? tEnd / 100 : undefined),
-    runs: numberFlag(flags, "runs"),
+    runs: method === "ode" ? undefined : (numberFlag(flags, "runs") ?? 1),
     seed: numberFlag(flags, "seed"),
-    burnIn: numberFlag(flags, "burn-in"),
+    burn_in: numberFlag(flags, "burn-in"),
     overrides: overridesFlag(flags),
     units: flags.values.units as string | undefined,
-    tauEpsilon: numberFlag(flags, "tau-epsilon"),
-    threads: numberFlag(flags, "threads"),
+    tau_epsilon: numberFlag(flags, "tau-epsilon"),
   };
-  const res = SimulateOptions.safeParse(Object.fromEntries(Object.entries(raw).filter(([, v]) => v !== undefined)));
-  if (!res.success) {
-    const i = res.error.issues[0];
-    const [head, ...tail] = i?.path ?? [];
-    const flag = FLAG_OF[String(head)] ?? String(head);
-    throw new CliError(`${flag}${tail.length ? " " + formatPath(tail) : ""}: ${i?.message ?? "invalid"}`);
-  }
+  const res = CliRunOptions.safeParse(Object.fromEntries(Object.entries(raw).filter(([, v]) => v !== undefined)));
+  if (!res.success) throw flagError(res.error.issues[0]);
+  const threadsFlag = numberFlag(flags, "threads");
+  const threads = threadsFlag === undefined ? undefined : CliThreads.safeParse(threadsFlag);
+  if (threads && !threads.success) throw new CliError(`--threads: ${threads.error.issues[0]?.message ?? "invalid"}`);
   try {
     checkOverridesWith(circuit, res.data.overrides, await formulaCheckerFor(circuit));
   } catch (e) {
     if (e instanceof CircuitError) throw new CliError(e.message.replace(/^overrides\./, "--set "));
     throw e;
   }
-  return { ...res.data, seed: res.data.seed ?? randomInt(0, 2 ** 32) };
+  const seed = res.data.seed ?? randomInt(0, 2 ** 32);
+  return { ...toEngineOptions({ ...res.data, seed }), seed, ...(threads ? { threads: threads.data } : {}) };
 }

@@ -1,6 +1,5 @@
 /** `simulate <file>`: one run, as the JSON of CONTRACT.md §2. */
-import { defaultThreads } from "@/ssa/node/pool";
-import { runSimulation } from "@/ssa/node/run-lazy";
+import { defaultThreads, simulateRun } from "@/ssa/node/run-engine";
 
 import { parseFlags, readCircuitFile, writeResult, type Command } from "../common";
 import { RUN_FLAGS, RUN_FLAGS_HELP, runOptionsFromFlags } from "./options";
@@ -21,18 +20,8 @@ Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of t
     const flags = parseFlags(argv, RUN_FLAGS, "simulate");
     const { circuit, warnings } = await readCircuitFile(flags.positional[0], "simulate");
     const o = await runOptionsFromFlags(flags, circuit);
-    const summary = await runSimulation(circuit, {
-      method: o.method,
-      tEnd: o.tEnd,
-      dt: o.dt,
-      runs: o.method === "ode" ? 1 : o.runs,
-      seed: o.seed,
-      burnIn: o.burnIn,
-      overrides: o.overrides,
-      units: o.units,
-      tauEpsilon: o.tauEpsilon,
-      threads: o.threads ?? defaultThreads(),
-    });
+    // The same entry point as the background worker's steps (ssa/node/run-engine.ts).
+    const summary = await simulateRun(circuit, { ...o, threads: o.threads ?? defaultThreads() });
     writeResult(summary, warnings, flags.values.out as string | undefined);
   },
 };

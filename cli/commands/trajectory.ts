@@ -1,5 +1,5 @@
 /** `trajectory <file> --seed S --index I`: cell I of the `simulate --seed S` ensemble, replayed alone. */
-import { runTrajectoryLazily } from "@/ssa/node/run-lazy";
+import { replayCell } from "@/ssa/node/run-engine";
 
 import { CliError, numberFlag, parseFlags, readCircuitFile, writeResult, type Command } from "../common";
 import { RUN_FLAGS, RUN_FLAGS_HELP, runOptionsFromFlags } from "./options";
@@ -27,17 +27,7 @@ Exit codes: 0 success, 2 bad input (the message names the field), 1 failure of t
     if (!Number.isSafeInteger(index) || index < 0) throw new CliError("--index: must be a non-negative integer");
     const o = await runOptionsFromFlags(flags, circuit);
     if (o.method === "ode") throw new CliError(`--method: must be "ssa" or "tau" for a trajectory`);
-    const result = await runTrajectoryLazily(circuit, {
-      method: o.method,
-      tEnd: o.tEnd,
-      dt: o.dt,
-      seed: o.seed,
-      index,
-      burnIn: o.burnIn,
-      overrides: o.overrides,
-      units: o.units,
-      tauEpsilon: o.tauEpsilon,
-    });
+    const result = await replayCell(circuit, o, index);
     writeResult(result, warnings, flags.values.out as string | undefined);
   },
 };

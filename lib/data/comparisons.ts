@@ -5,7 +5,7 @@ import type { Knex } from "knex";
 import { db } from "@/db/client";
 import { audited, type AuditFor } from "@/lib/data/audit";
 import { lockQueuedWork, type QueueGuard } from "@/lib/data/runs";
-import type { RunSettings } from "@/lib/schemas/runs";
+import type { RunSettings } from "@/lib/schemas/run-options";
 import type { EngineWarning } from "@/ssa/warnings";
 
 export type ComparisonStatus = "draft" | "running" | "succeeded" | "failed" | "cancelled";

@@ -4,7 +4,7 @@ import type { Knex } from "knex";
 
 import { db } from "@/db/client";
 import { audited, type AuditFor } from "@/lib/data/audit";
-import type { RunSettings } from "@/lib/schemas/runs";
+import type { RunSettings } from "@/lib/schemas/run-options";
 import type { Circuit } from "@/ssa/types";
 import type { EngineWarning } from "@/ssa/warnings";
 

@@ -7,7 +7,7 @@ import { join } from "node:path";
 import { createCircuit, listCircuits } from "@/lib/data/circuits";
 import { createRun } from "@/lib/runs";
 import { parseCircuit } from "@/lib/schemas/circuit";
-import { RunCreate } from "@/lib/schemas/runs";
+import { RunLaunch } from "@/lib/schemas/run-options";
 import type { Circuit } from "@/ssa/types";
 
 export const DEMO_REPORTER_NAME = "Constitutive reporter (noise baseline)";
@@ -28,6 +28,6 @@ export function demoReporter(root = process.cwd()): Circuit {
 export async function ensureDemoReporter(labId: string, userId: string): Promise<{ versionId: string; runId: string }> {
   const have = (await listCircuits(labId)).find((c) => c.name === DEMO_REPORTER_NAME);
   const versionId = have ? have.latestVersionId : (await createCircuit(labId, userId, demoReporter())).versionId;
-  const run = await createRun(userId, RunCreate.parse({ version_id: versionId, method: "ssa", t_end: 1200, dt: 2, runs: 1000, burn_in: 300, seed: 20261201 }));
+  const run = await createRun(userId, RunLaunch.parse({ version_id: versionId, method: "ssa", t_end: 1200, dt: 2, runs: 1000, burn_in: 300, seed: 20261201 }));
   return { versionId, runId: run.id };
 }

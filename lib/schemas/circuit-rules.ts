@@ -9,7 +9,7 @@ import { z } from "zod";
 
 import { describeIssue as describeAnyIssue, formatPath } from "@/lib/schemas/common";
 import type { ExprScope, ParseResult } from "@/ssa/expr";
-import { CIRCUIT_FORMAT, isReservedId, MAX_TAU_EPSILON, reservedIdReason, type Circuit } from "@/ssa/types";
+import { CIRCUIT_FORMAT, isReservedId, reservedIdReason, type Circuit } from "@/ssa/types";
 
 /** Parses and checks one rate formula (ssa/expr.ts parseExpression). */
 export type FormulaChecker = (text: string, scope: ExprScope) => ParseResult;
@@ -287,54 +287,3 @@ export function checkOverridesWith(c: Circuit, overrides: Record<string, number>
   if (issues.length) throw new CircuitError(issues);
 }
 
-export const SIMULATE_LIMITS = {
-  maxRuns: 100_000,
-  maxGridPoints: 1_000_000,
-  maxThreads: 256,
-} as const;
-
-/** Options of `simulate` / `trajectory` (CLI flags, API body and job payload), in model time units. */
-export const SimulateOptions = z
-  .strictObject({
-    method: z.enum(["ode", "ssa", "tau"], { error: `must be "ode", "ssa" or "tau"` }).default("ssa"),
-    tEnd: z.number({ error: required("a positive number") }).positive("must be > 0"),
-    dt: z.number({ error: required("a positive number") }).positive("must be > 0"),
-    runs: z
-      .number({ error: "must be a positive integer" })
-      .int("must be a positive integer")
-      .min(1, "must be >= 1")
-      .max(SIMULATE_LIMITS.maxRuns, `must be at most ${SIMULATE_LIMITS.maxRuns}`)
-      .default(1),
-    seed: z
-      .number({ error: "must be an integer" })
-      .int("must be an integer")
-      .min(0, "must be >= 0")
-      .max(Number.MAX_SAFE_INTEGER, "must be at most 2^53 - 1")
-      .optional(),
-    burnIn: z.number({ error: "must be a number" }).nonnegative("must be >= 0").optional(),
-    overrides: z.record(z.string().regex(IDENTIFIER, "must be a parameter name"), finiteNumber()).optional(),
-    units: z.enum(["molecules", "model"], { error: `must be "molecules" or "model"` }).optional(),
-    tauEpsilon: z
-      .number({ error: "must be a number" })
-      .positive("must be > 0")
-      .max(MAX_TAU_EPSILON, `must be at most ${MAX_TAU_EPSILON}`)
-      .optional(),
-    threads: z
-      .number({ error: "must be a positive integer" })
-      .int("must be a positive integer")
-      .min(1, "must be >= 1")
-      .max(SIMULATE_LIMITS.maxThreads, `must be at most ${SIMULATE_LIMITS.maxThreads}`)
-      .optional(),
-  })
-  .superRefine((o, ctx) => {
-    if (o.tauEpsilon !== undefined && o.method !== "tau") ctx.addIssue({ code: "custom", path: ["tauEpsilon"], message: 'applies only to method "tau"' });
-    if (o.dt > o.tEnd) ctx.addIssue({ code: "custom", path: ["dt"], message: `must be <= tEnd (${o.tEnd})` });
-    else if (o.tEnd / o.dt > SIMULATE_LIMITS.maxGridPoints) {
-      ctx.addIssue({ code: "custom", path: ["dt"], message: `gives more than ${SIMULATE_LIMITS.maxGridPoints} grid points` });
-    }
-    if (o.burnIn !== undefined && o.burnIn > o.tEnd) {
-      ctx.addIssue({ code: "custom", path: ["burnIn"], message: `must be <= tEnd (${o.tEnd})` });
-    }
-  });
-export type SimulateOptions = z.infer<typeof SimulateOptions>;
-export type SimulateOptionsInput = z.input<typeof SimulateOptions>;

@@ -1,5 +1,5 @@
 /**
- * The circuit file `burstwise.circuit/1` (CONTRACT.md §1) and the simulation options, as zod
+ * The circuit file `burstwise.circuit/1` (CONTRACT.md §1) as zod
  * schemas. Isomorphic: used by the API, the worker, the browser form and the command line.
  * Every rejection names the field: `reactions[3].rate.K: unknown parameter "Kc"`.
  * The rules live in circuit-rules.ts; this file binds them to the formula parser (mathjs).
@@ -15,9 +15,6 @@ export {
   CircuitError,
   describeIssue,
   formatPath,
-  SIMULATE_LIMITS,
-  SimulateOptions,
-  type SimulateOptionsInput,
 } from "./circuit-rules";
 
 /**

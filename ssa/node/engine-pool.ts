@@ -1,6 +1,7 @@
 /**
- * A long-lived pool of worker threads for a server's engine work (ssa/node/engine-task.ts): a
- * version's analysis, its counts table, one replayed cell. A bounded queue in front of the threads
+ * The one pool of worker threads of the engine (ssa/node/engine-task.ts): the chunks and finalize
+ * steps of runs for the command line and the background worker (ssa/node/run-engine.ts), and a
+ * server's engine work (a version's analysis, its counts table, one replayed cell). A bounded queue in front of the threads
  * refuses work it could not start soon (EngineBusyError), and a task that runs past its time
  * budget has its thread terminated (EngineTimeoutError), so no request can hold a thread, nor the
  * server's event loop, for longer than the budget. Node only.
@@ -14,12 +15,16 @@ export interface EnginePoolOptions {
   filename: string;
   /** Threads computing at once. */
   threads: number;
-  /** Tasks that may wait for a thread; one more is refused at once. */
+  /** Tasks that may wait for a thread; one more is refused at once (Infinity: no bound, for a run's own pool). */
   maxQueue: number;
-  /** Longest a task may wait for a thread, and for the thread to start, before it is refused. */
+  /** Longest a task may wait for a free thread before it is refused (Infinity: as long as it takes). */
   maxWaitMs: number;
-  /** Heap limit of each thread (MB): a task that needs more ends its thread, not the server. */
-  maxHeapMb: number;
+  /** Heap limit of each thread (MB): a task that needs more ends its thread, not the server. Absent: Node's default. */
+  maxHeapMb?: number;
+  /** Threads started at once and kept however idle (default 0: started on demand). */
+  minThreads?: number;
+  /** How long an idle thread is kept (ms); default 5 minutes. */
+  idleTimeoutMs?: number;
 }
 
 /** The pool cannot start the task soon enough: too many are queued, or it waited too long. */
@@ -50,12 +55,12 @@ export class EnginePool {
   constructor(private readonly o: EnginePoolOptions) {
     this.pool = new Piscina({
       filename: o.filename,
-      minThreads: 0,
+      minThreads: o.minThreads ?? 0,
       maxThreads: o.threads,
       // Threads load the formula parser once (about a second); keep them for the next request.
-      idleTimeout: 5 * 60_000,
+      idleTimeout: o.idleTimeoutMs ?? 5 * 60_000,
       execArgv: ["--import", "tsx"],
-      resourceLimits: { maxOldGenerationSizeMb: o.maxHeapMb },
+      ...(o.maxHeapMb !== undefined ? { resourceLimits: { maxOldGenerationSizeMb: o.maxHeapMb } } : {}),
     });
   }
 
@@ -110,7 +115,10 @@ export class EnginePool {
         if (i >= 0) this.waiting.splice(i, 1);
         entry.fail(e);
       };
-      const timer = setTimeout(() => drop(new EngineBusyError(`waited ${Math.round(this.o.maxWaitMs / 1000)} s for a free thread`)), this.o.maxWaitMs);
+      // setTimeout would fire at once for Infinity (it clamps to 1 ms): no timer then.
+      const timer = Number.isFinite(this.o.maxWaitMs)
+        ? setTimeout(() => drop(new EngineBusyError(`waited ${Math.round(this.o.maxWaitMs / 1000)} s for a free thread`)), this.o.maxWaitMs)
+        : undefined;
       const onAbort = () => drop(signal!.reason instanceof Error ? signal!.reason : new Error("aborted"));
       signal?.addEventListener("abort", onAbort, { once: true });
       this.waiting.push(entry);

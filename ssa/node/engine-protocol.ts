@@ -3,28 +3,27 @@
  * each other. Apart from both so that a server importing the pool does not load the engine itself.
  */
 import type { CompareOptions } from "../bootstrap";
-import type { EnsembleOptions } from "../ensemble";
+import type { CellSelection } from "../cell-selection";
+import type { EngineOptions } from "../engine-options";
 import type { ExpectedEventsInput } from "../expected-events";
+import type { Partial } from "../stats";
 import type { Circuit } from "../types";
 import type { EngineWarning } from "../warnings";
 
 /** Slot of the shared started flag: the thread sets it when it begins the task (after loading). */
 export const SLOT_STARTED = 0;
 
-export interface CellSelection {
-  /** Species to return, in this order (default: all, in the circuit's order). */
-  species?: string[];
-  /** Return every `every`-th grid point, starting with the first (default 1: all). */
-  every?: number;
-}
+export type { CellSelection };
+
+/** How a chunk's partial statistics come back: as the object, or as run_chunks stores them (run-steps.ts StoredChunk). */
+export type ChunkEncoding = "partial" | "stored";
 
 export type EngineTask =
   /** `warnings`: the version's import warnings, put before the analysis's own. */
   | { kind: "analysis"; circuit: Circuit; warnings?: EngineWarning[] }
   | { kind: "counts"; circuit: Circuit }
   | {
-      kind: "cell"; circuit: Circuit; overrides?: Record<string, number>; options: EnsembleOptions;
-      index: number; units: "molecules" | "model"; select?: CellSelection;
+      kind: "cell"; circuit: Circuit; options: EngineOptions; index: number; select?: CellSelection;
       /** The version's import warnings, put before the cell's own. */
       warnings?: EngineWarning[];
     }
@@ -39,10 +38,33 @@ export type EngineTask =
       options: CompareOptions;
     }
   /** Expected reaction events of one cell of a run (ssa/expected-events.ts); answers `{ eventsPerCell, basis }`. */
-  | { kind: "run-cost"; circuit: Circuit; input: ExpectedEventsInput };
+  | { kind: "run-cost"; circuit: Circuit; input: ExpectedEventsInput }
+  /** Cells [first, last) of a run (ssa/node/run-engine.ts simulateChunk); `value` is their partial. */
+  | { kind: "chunk"; circuit: Circuit; options: EngineOptions; first: number; last: number; encoding: ChunkEncoding }
+  /**
+   * The summary, mean-field trace, sample cells and per-cell statistics of a run from its chunks
+   * (ssa/node/run-engine.ts finalizeRun): either the stored chunk encodings in chunk order, or the
+   * merged partial. `value` is a RunResult.
+   */
+  | { kind: "finalize"; circuit: Circuit; options: EngineOptions; chunks: { stored: Uint8Array[] } | { merged: Partial }; context: FinalizeContext }
+  /** The deterministic run (method "ode"); `value` is its summary. */
+  | { kind: "trace"; circuit: Circuit; options: EngineOptions };
+
+/** What a run's finalize step adds besides the summary. */
+export interface FinalizeContext {
+  /** Wall time of the run so far (s), as the summary reports it. */
+  wallS: number;
+  /** Sample cells to replay and return (the first ones; at most the run's cells). */
+  sampleCells: number;
+  /** Whether to add the mean-field trace on the same grid. */
+  trace: boolean;
+  /** Whether to encode the per-cell statistics (ssa/cell-stats.ts) for the comparisons' bootstrap. */
+  cellStats: boolean;
+}
 
 /**
- * What a task gives back: the JSON text of the answer, or the error it threw by class name and
- * message (error classes do not survive the thread boundary).
+ * What a task gives back: the JSON text of the answer (the server sends it as is), or for a run's
+ * steps (chunk, finalize, trace) the structured `value` with `json` empty; or the error it threw by
+ * class name and message (error classes do not survive the thread boundary).
  */
-export type EngineOutcome = { ok: true; json: string } | { ok: false; name: string; message: string };
+export type EngineOutcome = { ok: true; json: string; value?: unknown } | { ok: false; name: string; message: string };

@@ -1,24 +1,24 @@
 /**
- * Worker-thread entry of the engine service pool (ssa/node/engine-pool.ts): the engine's single
- * answers a server gives on request (a version's analysis, its counts table, one replayed cell,
- * the difference test of two designs of a comparison, the expected cost of a run),
- * computed here so that the server's event loop never runs them. Each returns the JSON text the
- * server sends as is, so the server neither re-encodes nor holds the objects. Node only.
+ * Worker-thread entry of the engine pool (ssa/node/engine-pool.ts), the only worker-thread pool
+ * of Burstwise: the steps of a run (a chunk of cells, the finalize step, a deterministic trace;
+ * ssa/node/run-steps.ts) for the command line and the background worker, and the single answers
+ * a server gives on request (a version's analysis, its counts table, one replayed cell, the
+ * difference test of two designs of a comparison, the expected cost of a run), computed here so
+ * that no server's event loop runs them. A request's answer is the JSON text the server sends as
+ * is. The modules each kind needs are loaded on its first use, so a thread that only simulates
+ * cells starts in a fraction of a second. Node only.
  */
 import { gunzipSync } from "node:zlib";
 
-import { analyze } from "../analyze";
-import { compareCv } from "../bootstrap";
-import { decodeCellStats } from "../cell-stats";
-import { estimateEventsPerCell } from "../expected-events";
-import { trajectory } from "../ensemble";
-import { compileModel, countsTable } from "../model";
+import { selectCellJson } from "../cell-selection";
 import type { Circuit } from "../types";
 import { SLOT_STARTED, type EngineOutcome, type EngineTask } from "./engine-protocol";
+import { computeCell, computeChunk, computeFinalize, computeTrace, decodeChunk, encodeChunk, mergeChunks } from "./run-steps";
+import { loadModule } from "./load-module";
 
 /** The counts view as the API shows it (snake_case, NaN as null). */
-function countsJson(circuit: Circuit): string {
-  const t = countsTable(circuit);
+async function countsJson(circuit: Circuit): Promise<string> {
+  const t = (await loadModule(() => import("../model"), () => require("../model") as typeof import("../model"))).countsTable(circuit);
   return JSON.stringify({
     omega: t.omega, omega_unit: t.omegaUnit, volume_fL: t.volumeFL, amount_unit: t.amountUnit, time_unit: t.timeUnit, avogadro: t.avogadro,
     species: t.species,
@@ -29,56 +29,62 @@ function countsJson(circuit: Circuit): string {
   });
 }
 
-/** One cell replayed alone, then cut down to the selected species and grid points. */
-function cellJson(task: Extract<EngineTask, { kind: "cell" }>): string {
-  const path = trajectory(compileModel(task.circuit, task.overrides), task.options, task.index, task.units);
-  const cell = task.warnings?.length ? { ...path, warnings: [...task.warnings, ...path.warnings] } : path;
-  const every = task.select?.every ?? 1;
-  const species = task.select?.species ?? cell.species;
-  if (every === 1 && species === cell.species) return JSON.stringify(cell);
-  const thin = (v: number[]) => (every === 1 ? v : v.filter((_, g) => g % every === 0));
-  const values: Record<string, number[]> = {};
-  for (const id of species) values[id] = thin(cell.values[id]);
-  return JSON.stringify({ ...cell, species, times: thin(cell.times), values });
-}
-
 /** Decodes stored per-cell statistics (gzipped Float64 encoding). */
-function unzipCellStats(gz: Uint8Array) {
+async function unzipCellStats(gz: Uint8Array) {
   const buf = gunzipSync(gz);
   // Copy into an aligned buffer: the unzipped bytes need not start at a multiple of 8.
   const data = new Float64Array(buf.length / 8);
   new Uint8Array(data.buffer).set(buf);
-  return decodeCellStats(data);
+  return (await loadModule(() => import("../cell-stats"), () => require("../cell-stats") as typeof import("../cell-stats"))).decodeCellStats(data);
 }
 
 /** The difference test as numbers (NaN and ±Infinity become null in the JSON text). */
-function differenceJson(task: Extract<EngineTask, { kind: "difference" }>): string {
-  const a = unzipCellStats(task.a.cellStatsGz);
-  const b = unzipCellStats(task.b.cellStatsGz);
+async function differenceJson(task: Extract<EngineTask, { kind: "difference" }>): Promise<string> {
+  const a = await unzipCellStats(task.a.cellStatsGz);
+  const b = await unzipCellStats(task.b.cellStatsGz);
   const paired = task.options.paired === true && a.cells === b.cells;
+  const { compareCv } = await loadModule(() => import("../bootstrap"), () => require("../bootstrap") as typeof import("../bootstrap"));
   return JSON.stringify({ paired, ...compareCv(a, task.a.species, b, task.b.species, { ...task.options, paired }) });
 }
 
-/** Piscina task: computes one answer; input errors come back as an outcome, not a thrown error. */
-export default function runEngineTask({ task, started }: { task: EngineTask; started: Int32Array }): EngineOutcome {
-  Atomics.store(started, SLOT_STARTED, 1);
+/** Computes one task on this thread (the pool's threads, or the caller when it has no pool). */
+export async function computeEngineTask(task: EngineTask): Promise<EngineOutcome> {
   try {
     switch (task.kind) {
       case "analysis": {
+        const [{ analyze }, { compileModel }] = await Promise.all([loadModule(() => import("../analyze"), () => require("../analyze") as typeof import("../analyze")), loadModule(() => import("../model"), () => require("../model") as typeof import("../model"))]);
         const result = analyze(compileModel(task.circuit));
         return { ok: true, json: JSON.stringify({ ...result, warnings: [...(task.warnings ?? []), ...result.warnings] }) };
       }
       case "counts":
-        return { ok: true, json: countsJson(task.circuit) };
+        return { ok: true, json: await countsJson(task.circuit) };
       case "cell":
-        return { ok: true, json: cellJson(task) };
+        return { ok: true, json: selectCellJson(await computeCell(task.circuit, task.options, task.index), task.select, task.warnings) };
       case "difference":
-        return { ok: true, json: differenceJson(task) };
-      case "run-cost":
+        return { ok: true, json: await differenceJson(task) };
+      case "run-cost": {
+        const { estimateEventsPerCell } = await loadModule(() => import("../expected-events"), () => require("../expected-events") as typeof import("../expected-events"));
         return { ok: true, json: JSON.stringify(estimateEventsPerCell(task.circuit, task.input)) };
+      }
+      case "chunk": {
+        const partial = await computeChunk(task.circuit, task.options, task.first, task.last);
+        return { ok: true, json: "", value: task.encoding === "stored" ? { bytes: encodeChunk(partial), events: partial.events } : partial };
+      }
+      case "finalize": {
+        const merged = "merged" in task.chunks ? task.chunks.merged : mergeChunks(task.chunks.stored.map(decodeChunk));
+        return { ok: true, json: "", value: await computeFinalize(task.circuit, task.options, merged, task.context) };
+      }
+      case "trace":
+        return { ok: true, json: "", value: await computeTrace(task.circuit, task.options) };
     }
   } catch (e) {
     if (e instanceof Error) return { ok: false, name: e.name, message: e.message };
     throw e;
   }
+}
+
+/** Piscina task: flags the start (the pool's time budget counts from here), then computes. */
+export default function runEngineTask({ task, started }: { task: EngineTask; started: Int32Array }): Promise<EngineOutcome> {
+  Atomics.store(started, SLOT_STARTED, 1);
+  return computeEngineTask(task);
 }

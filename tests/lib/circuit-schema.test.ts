@@ -4,7 +4,8 @@
  */
 import { describe, expect, it } from "vitest";
 
-import { checkOverrides, CircuitError, describeIssue, parseCircuit, SimulateOptions } from "@/lib/schemas/circuit";
+import { checkOverrides, CircuitError, describeIssue, parseCircuit } from "@/lib/schemas/circuit";
+import { CliRunOptions, RunLaunch, toEngineOptions } from "@/lib/schemas/run-options";
 
 // eslint-disable-next-line @typescript-eslint/no-explicit-any -- the tests edit raw JSON into every wrong shape
 type Json = any;
@@ -142,16 +143,21 @@ describe("overrides and options", () => {
     expect(() => checkOverrides(c, { K: 5, g: 0.1 })).not.toThrow();
   });
 
-  it("SimulateOptions applies defaults and limits, naming the option", () => {
-    expect(SimulateOptions.parse({ tEnd: 10, dt: 1 })).toMatchObject({ method: "ssa", runs: 1 });
-    const bad = (o: Record<string, unknown>) => describeIssue((SimulateOptions.safeParse(o).error?.issues ?? [])[0] as never);
-    expect(bad({ tEnd: 10, dt: 20 })).toBe("dt: must be <= tEnd (10)");
-    expect(bad({ tEnd: 10, dt: 1, runs: 0 })).toBe("runs: must be >= 1");
-    expect(bad({ tEnd: 10, dt: 1, runs: 2.5 })).toBe("runs: must be a positive integer");
-    expect(bad({ tEnd: 10, dt: 1, method: "euler" })).toBe('method: must be "ode", "ssa" or "tau"');
-    expect(bad({ tEnd: 10, dt: 1, seed: -4 })).toBe("seed: must be >= 0");
-    expect(bad({ tEnd: 10, dt: 1, burnIn: 11 })).toBe("burnIn: must be <= tEnd (10)");
-    expect(bad({ tEnd: 10, dt: 1e-6 })).toBe("dt: gives more than 1000000 grid points");
-    expect(bad({ tEnd: -1, dt: 1 })).toBe("tEnd: must be > 0");
+  it("the run options schema (CLI limits) maps to the engine's options and names the option it refuses", () => {
+    expect(toEngineOptions(CliRunOptions.parse({ method: "ssa", t_end: 10, dt: 1, runs: 3, seed: 4, burn_in: 2, tau_epsilon: undefined })))
+      .toEqual({ method: "ssa", tEnd: 10, dt: 1, runs: 3, seed: 4, burnIn: 2 });
+    const bad = (o: Record<string, unknown>) => describeIssue((CliRunOptions.safeParse({ method: "ssa", ...o }).error?.issues ?? [])[0] as never);
+    expect(bad({ t_end: 10, dt: 20 })).toBe("dt: must be <= tEnd (10)");
+    expect(bad({ t_end: 10, dt: 1, runs: 0 })).toBe("runs: must be >= 1");
+    expect(bad({ t_end: 10, dt: 1, runs: 2.5 })).toBe("runs: must be a positive integer");
+    expect(bad({ t_end: 10, dt: 1, method: "euler" })).toBe('method: must be "ode", "ssa" or "tau"');
+    expect(bad({ t_end: 10, dt: 1, seed: -4 })).toBe("seed: must be >= 0");
+    expect(bad({ t_end: 10, dt: 1, burn_in: 11 })).toBe("burn_in: must be <= tEnd (10)");
+    expect(bad({ t_end: 10, dt: 1e-6 })).toBe("dt: gives more than 1000001 grid points; use a larger dt");
+    expect(bad({ t_end: -1, dt: 1 })).toBe("t_end: must be > 0");
+    // The API's limits are tighter, and its messages name t_end.
+    const api = (o: Record<string, unknown>) => describeIssue((RunLaunch.safeParse({ version_id: "1", method: "ssa", ...o }).error?.issues ?? [])[0] as never);
+    expect(api({ t_end: 10, dt: 20 })).toBe("dt: must be <= t_end (10)");
+    expect(api({ t_end: 10, dt: 1, runs: 20_001 })).toBe("runs: at most 20000 cells per run");
   });
 });

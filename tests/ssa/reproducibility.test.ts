@@ -9,7 +9,7 @@ import { describe, expect, it } from "vitest";
 import { parseCircuit } from "@/lib/schemas/circuit";
 import { simulateCells, summarize, trajectory, type EnsembleOptions } from "@/ssa/ensemble";
 import { compileModel } from "@/ssa/model";
-import { simulateCellsPooled } from "@/ssa/node/pool";
+import { simulateRun } from "@/ssa/node/run-engine";
 import { mergePartials } from "@/ssa/stats";
 
 const ring = parseCircuit(JSON.parse(readFileSync("examples/ring-timer.circuit.json", "utf8")));
@@ -31,15 +31,18 @@ describe("reproducibility", () => {
     expect(statsOf(summarize(m, o, simulateCells(m, { ...o, blockSize: 3 }, 0, 40)))).toBe(whole);
   });
 
-  it("simulateCellsPooled gives the same bytes with 1 and 2 threads and different chunk sizes", async () => {
+  it("simulateRun gives the same bytes with 1 and 2 threads and different chunk sizes, and as one simulateCells call", async () => {
     const m = compileModel(ring);
-    const one = statsOf(summarize(m, o, await simulateCellsPooled(ring, undefined, o, 40, { threads: 1 })));
-    const two = statsOf(summarize(m, o, await simulateCellsPooled(ring, undefined, o, 40, { threads: 2, chunk: 3 })));
+    const run = { method: "ssa", tEnd: 300, dt: 1, seed: 42, runs: 40, burnIn: 60 } as const;
+    const whole = statsOf(summarize(m, { ...o, burnIn: 60 }, simulateCells(m, { ...o, burnIn: 60 }, 0, 40)));
+    const one = statsOf(await simulateRun(ring, { ...run, threads: 1 }));
+    const two = statsOf(await simulateRun(ring, { ...run, threads: 2, chunk: 3 }));
     const report = { workerCells: 0, workers: 0 };
-    const pooled = statsOf(summarize(m, o, await simulateCellsPooled(ring, undefined, o, 40, { threads: 2, chunk: 17, useCallingThread: false, report })));
+    const pooled = statsOf(await simulateRun(ring, { ...run, threads: 2, chunk: 17, report }));
+    expect(one).toBe(whole);
     expect(two).toBe(one);
     expect(pooled).toBe(one);
-    expect(report).toEqual({ workerCells: 40, workers: 2 }); // every cell ran in a worker thread
+    expect(report).toEqual({ workerCells: 40, workers: 2 }); // every cell ran in a pool thread
   });
 
   it("trajectory(seed, I) replays cell I of the ensemble exactly, for ssa and tau", () => {

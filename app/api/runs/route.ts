@@ -3,11 +3,12 @@ import { requireUser } from "@/lib/auth/session";
 import { listRuns } from "@/lib/data/runs";
 import { handle, readJson } from "@/lib/http";
 import { createRun, runToJson } from "@/lib/runs";
-import { RunCreate, RunListQuery } from "@/lib/schemas/runs";
+import { RunLaunch } from "@/lib/schemas/run-options";
+import { RunListQuery } from "@/lib/schemas/runs";
 
 export const POST = handle("POST /api/runs", async (req) => {
   const user = await requireUser(req);
-  const body = RunCreate.parse(await readJson(req, 256 * 1024));
+  const body = RunLaunch.parse(await readJson(req, 256 * 1024));
   const run = await createRun(user.id, body, user);
   return Response.json(run, { status: 202 });
 });

@@ -9,6 +9,7 @@ import { fetchJson, jsonFetcher } from "@/app/_components/run-api";
 import { RunProgressBar, RunStatusBadge, When, runKindLabel } from "@/app/_components/run-status";
 import { WarningList } from "@/app/_components/warning-list";
 import { amountUnitOf, burnInOf, etaSeconds, formatCount, formatDuration, formatNumber, isActive, METHOD_LABEL, type RunJson } from "@/lib/run-view";
+import { launchBodyOf } from "@/lib/schemas/run-options";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
 
 import { RunResults } from "./run-results";
@@ -150,14 +151,7 @@ function RunProvenance({ labId, run, contentHash, canLaunch, role, timeUnit, mod
     try {
       const r = await fetchJson<{ id: string }>("/api/runs", {
         method: "POST",
-        body: {
-          version_id: run.version_id, method: run.method, t_end: s.t_end, dt: s.dt,
-          ...(run.kind === "ensemble" ? { runs: s.runs, seed: run.seed } : {}),
-          ...(s.burn_in !== undefined ? { burn_in: s.burn_in } : {}),
-          ...(s.overrides ? { overrides: s.overrides } : {}),
-          ...(s.tau_epsilon !== undefined ? { tau_epsilon: s.tau_epsilon } : {}),
-          units: s.units,
-        },
+        body: launchBodyOf(run),
       });
       router.push(`/labs/${labId}/runs/${r.id}`);
     } catch (e) {

@@ -7,7 +7,8 @@ import { ApiError, fetchJson } from "@/app/_components/run-api";
 import { EVENTS_PER_S_PER_THREAD, costPerCell, estimateRunCost, formatCellEvents, type CostEstimate } from "@/lib/run-cost";
 import { formatDuration, formatNumber, splitApiError } from "@/lib/run-view";
 import { describeIssue } from "@/lib/schemas/common";
-import { RUN_LIMITS, RunCreate } from "@/lib/schemas/runs";
+import { RunLaunch } from "@/lib/schemas/run-options";
+import { RUN_LIMITS } from "@/lib/schemas/runs";
 import { omegaFor } from "@/ssa/model-core";
 import { MAX_TAU_EPSILON, TAU_EPSILON, type Circuit } from "@/ssa/types";
 
@@ -152,7 +153,7 @@ export function RunLauncher({ labId, version, circuit, initialSeed, budget }: Ru
   const launch = async (e: React.FormEvent) => {
     e.preventDefault();
     const b = body();
-    const local = RunCreate.safeParse(b);
+    const local = RunLaunch.safeParse(b); // the schema the route parses
     if (!local.success) {
       showErrors(local.error.issues.map((i) => describeIssue(i)));
       return;

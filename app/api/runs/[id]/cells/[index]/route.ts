@@ -5,8 +5,9 @@ import { requireRun } from "@/lib/runs";
 import { CellQuery } from "@/lib/schemas/runs";
 
 /**
- * Cell `index` of a succeeded ensemble, replayed alone from (seed, index) within the run's limits:
- * the `trajectory` JSON, optionally cut to `species=A,B` and `every=K`th grid point.
+ * Cell `index` of a succeeded ensemble: one of the sample cells stored at finalize, else replayed
+ * alone from (seed, index) within the run's limits (lib/cell-replay.ts): the `trajectory` JSON,
+ * optionally cut to `species=A,B` and `every=K`th grid point.
  */
 export const GET = handle("GET /api/runs/:id/cells/:index", async (req, ctx: { params: Promise<{ id: string; index: string }> }) => {
   const user = await requireUser(req);
