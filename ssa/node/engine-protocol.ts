@@ -12,6 +12,8 @@ import type { EngineWarning } from "../warnings";
 
 /** Slot of the shared started flag: the thread sets it when it begins the task (after loading). */
 export const SLOT_STARTED = 0;
+/** Slot of a claim-chunks counter: the index of the next chunk to claim. */
+export const SLOT_NEXT_CHUNK = 0;
 
 export type { CellSelection };
 
@@ -41,6 +43,12 @@ export type EngineTask =
   | { kind: "run-cost"; circuit: Circuit; input: ExpectedEventsInput }
   /** Cells [first, last) of a run (ssa/node/run-engine.ts simulateChunk); `value` is their partial. */
   | { kind: "chunk"; circuit: Circuit; options: EngineOptions; first: number; last: number; encoding: ChunkEncoding }
+  /**
+   * Chunks of one run claimed one at a time from a counter shared by every thread of the run
+   * (`claims[SLOT_NEXT_CHUNK]`, Atomics.add), so no thread waits for another to hand it work;
+   * `value` is the merged partial of the chunks this thread claimed, or null when it got none.
+   */
+  | { kind: "claim-chunks"; circuit: Circuit; options: EngineOptions; ranges: [number, number][]; claims: Int32Array }
   /**
    * The summary, mean-field trace, sample cells and per-cell statistics of a run from its chunks
    * (ssa/node/run-engine.ts finalizeRun): either the stored chunk encodings in chunk order, or the

@@ -13,7 +13,7 @@ import { gunzipSync } from "node:zlib";
 import { selectCellJson } from "../cell-selection";
 import type { Circuit } from "../types";
 import { SLOT_STARTED, type EngineOutcome, type EngineTask } from "./engine-protocol";
-import { computeCell, computeChunk, computeFinalize, computeTrace, decodeChunk, encodeChunk, mergeChunks } from "./run-steps";
+import { computeCell, computeChunk, computeClaimedChunks, computeFinalize, computeTrace, decodeChunk, encodeChunk, mergeChunks } from "./run-steps";
 import { loadModule } from "./load-module";
 
 /** The counts view as the API shows it (snake_case, NaN as null). */
@@ -70,6 +70,8 @@ export async function computeEngineTask(task: EngineTask): Promise<EngineOutcome
         const partial = await computeChunk(task.circuit, task.options, task.first, task.last);
         return { ok: true, json: "", value: task.encoding === "stored" ? { bytes: encodeChunk(partial), events: partial.events } : partial };
       }
+      case "claim-chunks":
+        return { ok: true, json: "", value: await computeClaimedChunks(task.circuit, task.options, task.ranges, task.claims) };
       case "finalize": {
         const merged = "merged" in task.chunks ? task.chunks.merged : mergeChunks(task.chunks.stored.map(decodeChunk));
         return { ok: true, json: "", value: await computeFinalize(task.circuit, task.options, merged, task.context) };

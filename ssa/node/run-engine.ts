@@ -18,7 +18,7 @@ import { EnginePool } from "./engine-pool";
 import type { ChunkEncoding, EngineTask, FinalizeContext } from "./engine-protocol";
 import { computeEngineTask } from "./engine-task";
 import { getBurnIn, getModel } from "./model-cache";
-import { mergeChunks, type RunResult, type StoredChunk } from "./run-steps";
+import { claimChunk, computeChunk, type RunResult, type StoredChunk } from "./run-steps";
 
 export { decodeChunk, encodeChunk, mergeChunks, type RunResult, type StoredChunk } from "./run-steps";
 export type { FinalizeContext } from "./engine-protocol";
@@ -86,17 +86,18 @@ export async function simulateTrace(pool: EnginePool | null, circuit: Circuit, o
 }
 
 export interface SimulateRunOptions {
-  /** Threads computing cells (default: all cores); 1 computes on the calling thread, with no pool. */
+  /** Threads computing cells, the calling one included (default: all cores); 1 computes on the calling thread, with no pool. */
   threads?: number;
   /** Cells per chunk; default about eight chunks per thread, between 1 and 250 cells. */
   chunk?: number;
-  /** Filled in after the run: cells computed by pool threads, and how many threads the pool had. */
+  /** Filled in after the run: cells computed by pool threads (the rest ran on the caller), and how many threads the pool had. */
   report?: { workerCells: number; workers: number };
 }
 
 /**
  * One whole `simulate` run (CONTRACT.md §2), timed on this process's clock: the trace for
- * method "ode"; else the chunks over `threads` threads, merged, then finalized here.
+ * method "ode"; else the chunks over `threads` threads (this one and threads − 1 of the pool),
+ * merged, then finalized here.
  * @throws ModelInputError / RangeError for bad input, OdeError when the mean field cannot be integrated.
  */
 export async function simulateRun(circuit: Circuit, o: EngineOptions & SimulateRunOptions): Promise<SimulateSummary> {
@@ -116,27 +117,39 @@ export async function simulateRun(circuit: Circuit, o: EngineOptions & SimulateR
   const threads = Math.max(1, Math.min(wanted ?? defaultThreads(), runs));
   const chunk = chunkSize ?? Math.max(1, Math.min(250, Math.ceil(runs / (threads * 8))));
   const ranges = chunkRanges(runs, chunk);
-  const pool = threads > 1 ? createRunPool(threads) : null;
+  // The calling thread and threads − 1 pool threads claim chunks from one shared counter: no
+  // thread waits for another to hand it work, and the merge is exact, so which thread ran which
+  // cells never shows in the result (ssa/stats.ts).
+  const workers = threads - 1;
+  const pool = workers > 0 ? createRunPool(workers) : null;
+  const claims = new Int32Array(new SharedArrayBuffer(Int32Array.BYTES_PER_ELEMENT));
   let merged: Partial | null = null;
+  let callerCells = 0;
+  const fold = (p: Partial | null) => {
+    if (p) merged = merged ? mergePartials(merged, p) : p;
+  };
   try {
-    if (pool) {
-      // Folded as they arrive: the merge is exact, so the order changes no bit (ssa/stats.ts).
-      await Promise.all(ranges.map(async ([a, b]) => {
-        const p = await simulateChunk(pool, circuit, fixed, a, b);
-        merged = merged ? mergePartials(merged, p) : p;
-      }));
-    } else {
-      merged = mergeChunks([await simulateChunk(null, circuit, fixed, ranges[0]![0], ranges[0]![1])]);
-      for (const [a, b] of ranges.slice(1)) merged = mergePartials(merged, await simulateChunk(null, circuit, fixed, a, b));
+    const lanes: Promise<void>[] = [];
+    for (let w = 0; w < workers; w++) {
+      lanes.push(runStep<Partial | null>(pool, { kind: "claim-chunks", circuit, options: fixed, ranges, claims }).then(fold));
     }
+    // The caller claims one chunk at a time, yielding between them so the pool's messages
+    // (threads starting, results arriving) are handled while it works.
+    for (let r = claimChunk(ranges, claims); r; r = claimChunk(ranges, claims)) {
+      await new Promise<void>((resolve) => setImmediate(resolve));
+      const p = await computeChunk(circuit, fixed, r[0], r[1]);
+      callerCells += p.cells;
+      fold(p);
+    }
+    await Promise.all(lanes);
   } finally {
     await pool?.close();
   }
   const all = merged as Partial | null;
   if (!all || all.cells !== runs) throw new Error(`internal: merged ${all?.cells ?? 0} of ${runs} cells`);
   if (report) {
-    report.workerCells = pool ? runs : 0;
-    report.workers = pool ? threads : 0;
+    report.workerCells = runs - callerCells;
+    report.workers = workers;
   }
   const { summary } = await finalizeRun(null, circuit, options, { merged: all }, { wallS: 0, sampleCells: 0, trace: false, cellStats: false });
   // wall_s covers the intervals and the checks too (their cost is part of a run).

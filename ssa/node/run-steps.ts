@@ -15,7 +15,7 @@ import { ensembleOptionsOf, unitsOf, type EngineOptions } from "../engine-option
 import { simulateCells, summarize, trajectory, type TrajectoryResult } from "../ensemble";
 import { mergePartials, type Partial, type SimulateSummary } from "../stats";
 import type { Circuit } from "../types";
-import type { FinalizeContext } from "./engine-protocol";
+import { SLOT_NEXT_CHUNK, type FinalizeContext } from "./engine-protocol";
 import { getBurnIn, getBurnInValue, getModel } from "./model-cache";
 import { loadModule } from "./load-module";
 
@@ -57,6 +57,21 @@ export async function computeChunk(circuit: Circuit, o: EngineOptions, first: nu
   const model = await getModel(circuit, o.overrides);
   // The burn-in is fixed before any cell runs: every chunk sums the same window.
   return simulateCells(model, ensembleOptionsOf(o, await getBurnInValue(model, o)), first, last);
+}
+
+/** The next unclaimed chunk of `ranges` (shared by every thread of the run), or null when all are taken. */
+export function claimChunk(ranges: [number, number][], claims: Int32Array): [number, number] | null {
+  return ranges[Atomics.add(claims, SLOT_NEXT_CHUNK, 1)] ?? null;
+}
+
+/** Claims and computes chunks until none are left: their merged partial, or null when it got none. */
+export async function computeClaimedChunks(circuit: Circuit, o: EngineOptions, ranges: [number, number][], claims: Int32Array): Promise<Partial | null> {
+  let acc: Partial | null = null;
+  for (let r = claimChunk(ranges, claims); r; r = claimChunk(ranges, claims)) {
+    const p = await computeChunk(circuit, o, r[0], r[1]);
+    acc = acc ? mergePartials(acc, p) : p;
+  }
+  return acc;
 }
 
 /**

