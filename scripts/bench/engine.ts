@@ -59,9 +59,9 @@ function cli(args: string[]): string {
   return execFileSync(process.execPath, ["--import", "tsx", join(ROOT, "cli/index.ts"), ...args], { cwd: ROOT, encoding: "utf8", maxBuffer: 1 << 28 });
 }
 
-/** `cli bench --repeat 1`: events/s per thread of the engine's circuits, by name. */
+/** `cli bench --repeat 3` (best of three, after its warm-up): events/s per thread of the engine's circuits, by name. */
 function engineThroughput(): Map<string, number> {
-  const out = JSON.parse(cli(["bench", "--repeat", "1"])) as { circuits: { circuit: string; events_per_s_per_thread: number }[] };
+  const out = JSON.parse(cli(["bench", "--repeat", "3"])) as { circuits: { circuit: string; events_per_s_per_thread: number }[] };
   return new Map(out.circuits.map((c) => [c.circuit, c.events_per_s_per_thread]));
 }
 
