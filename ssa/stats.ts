@@ -68,6 +68,8 @@ export interface HistogramCSR {
   histCounts: Float64Array;
 }
 
+/** Samples up to which sortSamples inserts instead of counting (counting costs O(range) too). */
+const SMALL_SORT = 24;
 /** Widest value range (max − min) that sortSamples counts instead of comparing. */
 const MAX_COUNTING_RANGE = 1 << 16;
 // Counting scratch, grown on demand and reused (one per thread; the engine is synchronous).
@@ -81,6 +83,19 @@ let countScratch = new Int32Array(1024);
  * same contiguous segment (stride 1, dOff = off): every sample is read before any is written.
  */
 export function sortSamples(src: Float64Array, off: number, stride: number, n: number, dst: Float64Array, dOff: number): void {
+  if (n <= SMALL_SORT) {
+    // A few samples (a short block's cells at one grid point): insertion sort beats both.
+    for (let k = 0, i = off; k < n; k++, i += stride) {
+      const v = src[i];
+      let j = dOff + k - 1;
+      while (j >= dOff && dst[j] > v) {
+        dst[j + 1] = dst[j];
+        j--;
+      }
+      dst[j + 1] = v;
+    }
+    return;
+  }
   let lo = Infinity;
   let hi = -Infinity;
   let integral = true;

@@ -133,7 +133,7 @@ describe("fast paths that must equal the plain computation", () => {
   // A small deterministic generator for test data (Park & Miller 1988 minimal standard).
   const lcg = (seed: number) => () => (seed = (seed * 48271) % 2147483647) / 2147483647;
 
-  it("sortSamples equals copy-and-sort for counts (strided, in place), fractions, negatives and wide ranges", () => {
+  it("sortSamples equals copy-and-sort for counts (strided, in place; few and many), fractions, negatives and wide ranges", () => {
     const rnd = lcg(7);
     const cases: number[][] = [
       Array.from({ length: 1600 }, () => Math.floor(rnd() * 300)),
@@ -141,6 +141,9 @@ describe("fast paths that must equal the plain computation", () => {
       Array.from({ length: 97 }, () => rnd() * 10),
       Array.from({ length: 50 }, () => Math.floor(rnd() * 20) - 10),
       Array.from({ length: 64 }, () => Math.floor(rnd() * 1e9)),
+      Array.from({ length: 10 }, () => Math.floor(rnd() * 300)),
+      Array.from({ length: 24 }, () => Math.floor(rnd() * 4)),
+      Array.from({ length: 25 }, () => Math.floor(rnd() * 4)),
       [5],
       [],
     ];
