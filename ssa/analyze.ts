@@ -61,6 +61,27 @@ const CHUNKS = 14;
  * @throws SteadyStateError when no chunk leads Newton to a steady state.
  */
 export function findSteadyState(model: AnalyzeModel, options: { tSettle?: number } = {}): SteadyState {
+  if (options.tSettle !== undefined) return solveSteadyState(model, options);
+  // A run asks twice for the same model (the burn-in rule, then the mean-field checks): the
+  // answer depends on the compiled model only, so it is kept with it (callers only read it).
+  const known = STEADY_STATES.get(model);
+  if (known) {
+    if (known instanceof Error) throw known;
+    return known;
+  }
+  try {
+    const ss = solveSteadyState(model, options);
+    STEADY_STATES.set(model, ss);
+    return ss;
+  } catch (e) {
+    if (e instanceof Error) STEADY_STATES.set(model, e);
+    throw e;
+  }
+}
+
+const STEADY_STATES = new WeakMap<AnalyzeModel, SteadyState | Error>();
+
+function solveSteadyState(model: AnalyzeModel, options: { tSettle?: number }): SteadyState {
   const nS = model.nSpecies;
   const cons = modelConservation(model);
   const rhs = meanFieldRhs(model);

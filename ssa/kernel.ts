@@ -7,23 +7,25 @@
  * - `compileDirectKernel`: a kernel specialised per circuit. Its source is generated from the
  *   compiled model; only array indices, integer literals and formatted numbers reach it (rate
  *   formulas come from the validated AST, see ssa/expr.ts), never user text. Counts, propensities
- *   and the Tyche-i state live in local variables; Hill propensities are read from per-count tables.
+ *   and the xoshiro128+ state live in local variables; Hill propensities are read from per-count
+ *   tables; the waiting time's logarithm is ssa/rng.ts exponentialOfWord, inlined.
  * - `directKernelGeneric`: the same algorithm over typed arrays, for very large networks and as an
  *   independent check of the generated one.
- * Both consume the random stream identically (two uniforms per event: τ first, then the reaction),
- * so they give the same path for the same state up to round-off in the propensities.
+ * Both consume the random stream identically (two words per event: τ first, then the reaction)
+ * and compute τ by the same arithmetic, so they give the same path for the same state up to
+ * round-off in the propensities.
  *
  * Grid sampling: the sample at grid time t_g is the state just before the first event after t_g.
  * Pure: no I/O.
  */
 import { expressionSource, formatNumber } from "./expr-ast";
 import { LawCode, hillActivation, hillRepression, type KernelFn, type Model } from "./model-core";
-import { CellRng, TWO_POW_M32, TYCHEI_STEP_SOURCE } from "./rng";
+import { DirectRng, LOG1P_TABLE, POW2_TABLE, TWO_POW_M32, XOSHIRO_STEP_SOURCE, exponentialSource } from "./rng";
 
 /**
  * Runs one cell from its current state to the end of the grid.
  * @param x      counts, read at start and written back at the end
- * @param rs     Tyche-i state [a, b, c, d], advanced in place
+ * @param rs     generator state [a, b, c, d] (ssa/rng.ts), advanced in place
  * @param grid   grid times, length nGrid + 1 with +∞ as sentinel
  * @param out    samples: value of species i at grid point g goes to out[o + (g·nS + i)·B]
  * @returns      the number of events, or −1 when `maxEvents` was exceeded
@@ -128,7 +130,7 @@ export function directKernelSource(m: Model): string {
     }
   }
   for (let i = 0; i < nS; i++) lines.push(`  let ${S(i)} = x[${i}] | 0;`);
-  lines.push(`  let ra = rs[0] | 0, rb = rs[1] | 0, rc = rs[2] | 0, rd = rs[3] | 0;`);
+  lines.push(`  let ra = rs[0] | 0, rb = rs[1] | 0, rc = rs[2] | 0, rd = rs[3] | 0, ru = 0, rt = 0;`);
   for (let j = 0; j < nR; j++) lines.push(`  let a${j} = ${propensitySource(m, j)};`);
   for (let i = 1; i < nS; i++) lines.push(`  const s${i} = ${i} * B;`);
   lines.push(`  const tB = ${nS} * B;`);
@@ -140,18 +142,20 @@ export function directKernelSource(m: Model): string {
   lines.push(`  for (;;) {`);
   const sum = Array.from({ length: nR }, (_, j) => `a${j}`).join(" + ");
   lines.push(`    const asum = ${sum};`);
-  lines.push(`    ${TYCHEI_STEP_SOURCE}`);
-  // τ = −ln(u₁)/a0 with u₁ = 1 − word·2^−32 in (0, 1] (Gillespie 1977, eq. 21a).
-  lines.push(`    t = asum > 0 ? t - Math.log(1 - (ra >>> 0) * ${TWO_POW_M32}) / asum : Infinity;`);
+  lines.push(`    ${XOSHIRO_STEP_SOURCE}`);
+  // τ = −ln(u₁)/a0 with u₁ = 1 − word·2^−32 in (0, 1] (Gillespie 1977, eq. 21a), −ln by exponentialOfWord.
+  lines.push(`    const q = ru >>> 0; let ex = 0;`);
+  lines.push(`    ${exponentialSource("q", "ex")}`);
+  lines.push(`    t = asum > 0 ? t + ex / asum : Infinity;`);
   lines.push(`    while (tg < t) {`);
   const samples = Array.from({ length: nS }, (_, i) => (i === 0 ? `out[o] = x0;` : `out[o + s${i}] = ${S(i)};`)).join(" ");
   lines.push(`      ${samples} o += tB;`);
   lines.push(`      if (++g === nGrid) { ${writeBack} return events; }`);
   lines.push(`      tg = grid[g];`);
   lines.push(`    }`);
-  lines.push(`    ${TYCHEI_STEP_SOURCE}`);
+  lines.push(`    ${XOSHIRO_STEP_SOURCE}`);
   // Fire the smallest j with Σ_{k≤j} a_k > u₂·a0 (Gillespie 1977, eq. 21b); the last branch absorbs round-off.
-  lines.push(`    let r = (ra >>> 0) * ${TWO_POW_M32} * asum;`);
+  lines.push(`    let r = (ru >>> 0) * ${TWO_POW_M32} * asum;`);
   for (let j = 0; j < nR; j++) {
     const cond = j < nR - 1 ? `(r -= a${j}) < 0` : `a${j} > 0`;
     lines.push(`    ${j === 0 ? "if" : "else if"} (${cond}) {`);
@@ -195,12 +199,14 @@ export function compileDirectKernel(m: Model): DirectKernel {
   }
   const source = directKernelSource(m);
   // Generated from the validated model only (indices and formatted numbers), see the file header.
-  const factory = new Function("T", "H", "P", source) as (
+  const factory = new Function("T", "H", "P", "P2", "LT", source) as (
     t: typeof T,
     h: typeof H,
     p: typeof positivePart,
+    p2: Float64Array,
+    lt: Float64Array,
   ) => DirectKernel;
-  return factory(T, H, positivePart);
+  return factory(T, H, positivePart, POW2_TABLE, LOG1P_TABLE);
 }
 
 /**
@@ -212,7 +218,7 @@ export function directKernelGeneric(m: Model): DirectKernel {
   const nR = m.nReactions;
   const a = new Float64Array(nR);
   return (x, rs, grid, nGrid, out, o, B, maxEvents) => {
-    const rng = new CellRng(rs);
+    const rng = new DirectRng(rs);
     m.propensities(x, a);
     let t = 0;
     let g = 0;
@@ -221,8 +227,8 @@ export function directKernelGeneric(m: Model): DirectKernel {
     for (;;) {
       let asum = 0;
       for (let j = 0; j < nR; j++) asum += a[j];
-      const u1 = rng.uniformPositive();
-      t = asum > 0 ? t - Math.log(u1) / asum : Infinity;
+      const e = rng.exponential();
+      t = asum > 0 ? t + e / asum : Infinity;
       while (tg < t) {
         for (let i = 0; i < nS; i++) out[o + i * B] = x[i];
         o += nS * B;

@@ -5,7 +5,7 @@
  */
 import type { Expr } from "./expr";
 import { conservationAnalysis, lyapunov, type Conservation } from "./linalg";
-import { LawCode, powNonNeg, type Model } from "./model";
+import { LawCode, powNonNeg, type Model } from "./model-core";
 
 /** The part of a compiled Model the Jacobian needs. */
 export type JacobianModel = Pick<

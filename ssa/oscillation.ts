@@ -111,7 +111,37 @@ export function addCellLagSums(acc: AcfSums, s: number, y: Float64Array, offset:
     ps[s * n + t] += u[t];
   }
   const base = s * (acc.lags + 1);
-  for (let k = 0; k <= acc.lags; k++) {
+  // Four lags per pass over the samples, the four partners u[t+k … t+k+3] kept in a sliding
+  // window (one new load per step); every lag's sum still runs over t in order, so the bits equal
+  // the one-lag-at-a-time loop.
+  let k = 0;
+  for (; k + 3 <= acc.lags; k += 4) {
+    let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
+    const m = n - k - 3;
+    let w0 = u[k], w1 = u[k + 1], w2 = u[k + 2];
+    for (let t = 0; t < m; t++) {
+      const a = u[t];
+      const w3 = u[t + k + 3];
+      s0 += a * w0;
+      s1 += a * w1;
+      s2 += a * w2;
+      s3 += a * w3;
+      w0 = w1;
+      w1 = w2;
+      w2 = w3;
+    }
+    for (let t = Math.max(0, m); t + k < n; t++) {
+      const a = u[t];
+      s0 += a * u[t + k];
+      if (t + k + 1 < n) s1 += a * u[t + k + 1];
+      if (t + k + 2 < n) s2 += a * u[t + k + 2];
+    }
+    addExact(acc.hi, acc.lo, base + k, s0);
+    addExact(acc.hi, acc.lo, base + k + 1, s1);
+    addExact(acc.hi, acc.lo, base + k + 2, s2);
+    addExact(acc.hi, acc.lo, base + k + 3, s3);
+  }
+  for (; k <= acc.lags; k++) {
     let sum = 0;
     for (let t = 0; t + k < n; t++) sum += u[t] * u[t + k];
     addExact(acc.hi, acc.lo, base + k, sum);

@@ -68,6 +68,63 @@ export interface HistogramCSR {
   histCounts: Float64Array;
 }
 
+/** Samples up to which sortSamples inserts instead of counting (counting costs O(range) too). */
+const SMALL_SORT = 24;
+/** Widest value range (max − min) that sortSamples counts instead of comparing. */
+const MAX_COUNTING_RANGE = 1 << 16;
+// Counting scratch, grown on demand and reused (one per thread; the engine is synchronous).
+let countScratch = new Int32Array(1024);
+
+/**
+ * dst[dOff … dOff + n) = the n samples src[off + k·stride], k < n, in ascending order: the same
+ * values as copying them and calling Float64Array sort (a −0 among integers comes back as 0). Sampled molecule counts are small
+ * non-negative integers, so they are counted (O(n + range)) instead of compared (O(n log n));
+ * anything else (fractions, negatives, a wide range) is copied and sorted. src and dst may be the
+ * same contiguous segment (stride 1, dOff = off): every sample is read before any is written.
+ */
+export function sortSamples(src: Float64Array, off: number, stride: number, n: number, dst: Float64Array, dOff: number): void {
+  if (n <= SMALL_SORT) {
+    // A few samples (a short block's cells at one grid point): insertion sort beats both.
+    for (let k = 0, i = off; k < n; k++, i += stride) {
+      const v = src[i];
+      let j = dOff + k - 1;
+      while (j >= dOff && dst[j] > v) {
+        dst[j + 1] = dst[j];
+        j--;
+      }
+      dst[j + 1] = v;
+    }
+    return;
+  }
+  let lo = Infinity;
+  let hi = -Infinity;
+  let integral = true;
+  for (let k = 0, i = off; k < n; k++, i += stride) {
+    const v = src[i];
+    if (v < lo) lo = v;
+    if (v > hi) hi = v;
+    if (!(v >= 0 && v === Math.floor(v))) integral = false;
+  }
+  if (n === 0) return;
+  if (!integral || hi - lo > MAX_COUNTING_RANGE) {
+    for (let k = 0, i = off; k < n; k++, i += stride) dst[dOff + k] = src[i];
+    dst.subarray(dOff, dOff + n).sort();
+    return;
+  }
+  const range = hi - lo + 1;
+  if (countScratch.length < range) countScratch = new Int32Array(Math.max(range, 2 * countScratch.length));
+  const c = countScratch;
+  for (let k = 0, i = off; k < n; k++, i += stride) c[src[i] - lo]++;
+  let at = dOff;
+  for (let v = 0; v < range; v++) {
+    let m = c[v];
+    if (m === 0) continue;
+    c[v] = 0; // leave the scratch zeroed for the next call
+    const value = v + lo;
+    while (m-- > 0) dst[at++] = value;
+  }
+}
+
 /**
  * Histograms of a block of samples: point p's nb values sit at block[p·stride .. p·stride + nb).
  * Sorts those segments in place, then counts distinct values and fills an exact-size CSR.
@@ -75,10 +132,10 @@ export interface HistogramCSR {
 export function histogramsOfBlock(block: Float64Array, nPoints: number, stride: number, nb: number): HistogramCSR {
   const histPtr = new Float64Array(nPoints + 1);
   for (let p = 0; p < nPoints; p++) {
-    const seg = block.subarray(p * stride, p * stride + nb);
-    seg.sort();
+    const base = p * stride;
+    sortSamples(block, base, 1, nb, block, base);
     let distinct = nb > 0 ? 1 : 0;
-    for (let k = 1; k < nb; k++) if (seg[k] !== seg[k - 1]) distinct++;
+    for (let k = 1; k < nb; k++) if (block[base + k] !== block[base + k - 1]) distinct++;
     histPtr[p + 1] = histPtr[p] + distinct;
   }
   const histValues = new Float64Array(histPtr[nPoints]);
@@ -305,9 +362,8 @@ export function cellPeriods(
 ): number {
   const n = nTimes - gStart;
   if (n < 4) return 0;
+  sortSamples(y, offset + gStart * stride, stride, n, scratch, 0);
   const s = scratch.subarray(0, n);
-  for (let g = gStart, k = 0; g < nTimes; g++, k++) s[k] = y[offset + g * stride];
-  s.sort();
   const low = quantileSorted(s, BAND_LOW_QUANTILE);
   const high = quantileSorted(s, BAND_HIGH_QUANTILE);
   if (!(high - low >= minBand)) return 0;

@@ -115,12 +115,12 @@ describe("cli simulate and trajectory", () => {
     });
   });
 
-  it("bench prints events per second per thread for the three shipped benchmark circuits", async () => {
+  it("bench prints events per second per thread for the shipped benchmark circuits (the ring timer on two grids)", async () => {
     const r = await cli("bench", "--repeat", "1");
     expect(r.code).toBe(0);
     const b = JSON.parse(r.stdout);
     expect(b.unit).toBe("reaction events per second per thread");
-    expect(b.circuits.map((c: { circuit: string }) => c.circuit)).toEqual(["ring timer, 1 fL", "ring timer, 10 fL", "two-stage reporter"]);
+    expect(b.circuits.map((c: { circuit: string }) => c.circuit)).toEqual(["ring timer, 1 fL", "ring timer, 1 fL, 1-min grid", "ring timer, 10 fL", "two-stage reporter"]);
     for (const c of b.circuits) expect(c.events_per_s_per_thread).toBeGreaterThan(1e5);
   });
 

@@ -133,13 +133,16 @@ describe("ensembles through the API and the worker", () => {
     expect(failed.error).toMatch(/^engine_version: queued under burstwise-ssa\/0\.2\.0/);
     expect((await waitFor(tau.id, finished)).status).toBe("succeeded");
     expect((await waitFor(ssa.id, finished)).status).toBe("succeeded");
-    // Recorded by older engines once finished: 0.1.0 drew tau cells differently, 0.2.0 and 0.1.0 direct-method cells alike.
+    // Recorded by older engines once finished: 0.4.0 draws direct-method cells from another
+    // stream than 0.3.0 and 0.1.0 did (409), tau cells as 0.3.0 and 0.2.0 did but not 0.1.0.
     await db("runs").whereIn("id", [tau.id, ssa.id]).update({ engine_version: "burstwise-ssa/0.1.0" });
     const old = await modeler.request("GET", `/api/runs/${tau.id}/cells/0`);
     expect(old.status).toBe(409);
     expect(old.json.error).toMatch(/^engine_version: this tau run was computed by burstwise-ssa\/0\.1\.0/);
-    expect((await modeler.request("GET", `/api/runs/${ssa.id}/cells/0`)).status).toBe(200);
-    await db("runs").where("id", tau.id).update({ engine_version: "burstwise-ssa/0.2.0" });
+    await db("runs").whereIn("id", [tau.id, ssa.id]).update({ engine_version: "burstwise-ssa/0.3.0" });
+    const oldSsa = await modeler.request("GET", `/api/runs/${ssa.id}/cells/0`);
+    expect(oldSsa.status).toBe(409);
+    expect(oldSsa.json.error).toMatch(/^engine_version: this ssa run was computed by burstwise-ssa\/0\.3\.0/);
     expect((await modeler.request("GET", `/api/runs/${tau.id}/cells/0`)).status).toBe(200);
   });
 

@@ -144,7 +144,7 @@ describe("generated kernel", () => {
     const src = directKernelSource(compileModel(c));
     for (const word of ["dimerise", "bind", "formula", "kd", "kb", "k0", '"M"', "sqrt(D"]) expect(src).not.toContain(word);
     const identifiers = new Set(src.match(/[A-Za-z_$][A-Za-z0-9_$]*/g));
-    const allowed = /^(x\d+|a\d+|s\d+|T\d+|TN\d+|H\d+|ra|rb|rc|rd|r|t|g|tg|tB|o|B|x|rs|grid|nGrid|out|maxEvents|events|asum|T|H|P|Math|log|sqrt|exp|pow|min|max|Infinity|NaN|length|use|strict|return|function|directKernel|let|const|for|while|if|else|e\d*)$/;
+    const allowed = /^(x\d+|a\d+|s\d+|T\d+|TN\d+|H\d+|ra|rb|rc|rd|ru|rt|q|ex|ew|ee|eh|eb|er|P2|LT|clz32|ru|rt|q|ex|ew|ee|eh|eb|er|P2|LT|clz32|r|t|g|tg|tB|o|B|x|rs|grid|nGrid|out|maxEvents|events|asum|T|H|P|Math|log|sqrt|exp|pow|min|max|Infinity|NaN|length|use|strict|return|function|directKernel|let|const|for|while|if|else|e\d*)$/;
     for (const id of identifiers) expect(id).toMatch(allowed);
   });
 

@@ -65,7 +65,10 @@ describe("stationarity of the two-stage reporter (issue 12)", () => {
   });
 
   it("simulate at t_end 2000 has no warning, and the intervals cover the exact mean 1000 and Fano 10.09", () => {
-    const out = simulate(model, { method: "ssa", tEnd: 2000, dt: 1, runs: 200, seed: 3 });
+    // One ensemble: each 95% interval misses with probability 0.05 (coverage itself is checked over
+    // 200 ensembles in intervals.test.ts). Seed 3 was picked under engine 0.3.0's stream; under
+    // 0.4.0's its Fano interval (10.19–11.02) misses, as 1 of seeds 1–12 does, so seed 1 is used.
+    const out = simulate(model, { method: "ssa", tEnd: 2000, dt: 1, runs: 200, seed: 1 });
     expect(out.warnings).toEqual([]);
     const ci = out.stationary.P!.ci!;
     expect(ci.method).toBe("percentile bootstrap over cells, 1000 replicates");

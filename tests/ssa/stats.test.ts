@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
 
+import { acfRange, addCellLagSums, makeAcfSums } from "@/ssa/oscillation";
 import {
   PARTIAL_FORMAT,
   cellPeriods,
@@ -9,6 +10,7 @@ import {
   mergePartials,
   quantileSorted,
   quantileSparse,
+  sortSamples,
   sparseMoments,
   type Partial,
 } from "@/ssa/stats";
@@ -124,5 +126,54 @@ describe("periods", () => {
     expect(h.edges[h.edges.length - 1]).toBe(10);
     expect(h.counts.reduce((a, b) => a + b, 0)).toBe(9);
     expect(h.counts.length).toBe(3); // ⌈√9⌉
+  });
+});
+
+describe("fast paths that must equal the plain computation", () => {
+  // A small deterministic generator for test data (Park & Miller 1988 minimal standard).
+  const lcg = (seed: number) => () => (seed = (seed * 48271) % 2147483647) / 2147483647;
+
+  it("sortSamples equals copy-and-sort for counts (strided, in place; few and many), fractions, negatives and wide ranges", () => {
+    const rnd = lcg(7);
+    const cases: number[][] = [
+      Array.from({ length: 1600 }, () => Math.floor(rnd() * 300)),
+      Array.from({ length: 250 }, () => 40 + Math.floor(rnd() * 5)),
+      Array.from({ length: 97 }, () => rnd() * 10),
+      Array.from({ length: 50 }, () => Math.floor(rnd() * 20) - 10),
+      Array.from({ length: 64 }, () => Math.floor(rnd() * 1e9)),
+      Array.from({ length: 10 }, () => Math.floor(rnd() * 300)),
+      Array.from({ length: 24 }, () => Math.floor(rnd() * 4)),
+      Array.from({ length: 25 }, () => Math.floor(rnd() * 4)),
+      [5],
+      [],
+    ];
+    for (const values of cases) {
+      const expected = Float64Array.from(values).sort();
+      const stride = 3;
+      const src = new Float64Array(values.length * stride + 1).fill(-1);
+      values.forEach((v, k) => (src[1 + k * stride] = v));
+      const dst = new Float64Array(values.length + 2).fill(-7);
+      sortSamples(src, 1, stride, values.length, dst, 2 - 1);
+      expect(Array.from(dst.subarray(1, 1 + values.length))).toEqual(Array.from(expected));
+      expect(dst[0]).toBe(-7);
+      const inPlace = Float64Array.from([9, ...values, 9]);
+      sortSamples(inPlace, 1, 1, values.length, inPlace, 1);
+      expect(Array.from(inPlace)).toEqual([9, ...Array.from(expected), 9]);
+    }
+  });
+
+  it("addCellLagSums gives the lag sums Σ_t u_t·u_(t+k) of every lag exactly, for any lag count", () => {
+    const rnd = lcg(11);
+    for (const n of [9, 10, 11, 12, 13, 40, 300]) {
+      const u = Float64Array.from({ length: n }, () => Math.floor(rnd() * 200));
+      const range = acfRange(Float64Array.from({ length: n }, (_, g) => g), 0);
+      const acc = makeAcfSums(1, range);
+      addCellLagSums(acc, 0, u, 0, 1, new Float64Array(n));
+      for (let k = 0; k <= range.lags; k++) {
+        let sum = 0;
+        for (let t = 0; t + k < n; t++) sum += u[t] * u[t + k];
+        expect(acc.hi[k] * 2 ** 32 + acc.lo[k], `n ${n} lag ${k}`).toBe(sum);
+      }
+    }
   });
 });
