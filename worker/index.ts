@@ -6,7 +6,7 @@ import { fileURLToPath } from "node:url";
 
 import { Piscina } from "piscina";
 
-import { closeDb } from "../db/client";
+import { closeDb } from "../lib/data/pool";
 import { env } from "../lib/env";
 import { ComparisonFinishJob, createBoss, ensureQueues, Queues } from "../lib/jobs";
 import { finishComparison } from "./comparisons";
