@@ -1,8 +1,8 @@
 import { requireLabRole, type Action } from "@/lib/access";
 import type {
   ComparisonBandsJson, ComparisonJson, ComparisonResultsJson, DesignResultJson, DifferenceTestJson, IntervalJson, LnaCurveJson, SpeciesNoiseJson,
-} from "@/lib/comparison-view";
-import { MODEL_CAVEAT, comparisonProgress } from "@/lib/comparison-view";
+} from "@/lib/view/comparison-view";
+import { MODEL_CAVEAT, comparisonProgress } from "@/lib/view/comparison-view";
 import {
   cancelComparisonRuns, cancelDesignRuns, deleteComparison, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunCellStatsGz, getRunNoise, getRunWarnings,
   insertComparison, insertDesignRuns, listDesigns, storeComparisonResults, getComparisonResults,

@@ -2,7 +2,7 @@ import { createHash } from "node:crypto";
 
 import { getDemoLab, hasDataset, insertDemoDataset } from "../lib/data/demo";
 import { withOpenPool } from "../lib/data/pool";
-import { datasetStats, parseDatasetCsv } from "../lib/datasets";
+import { datasetStats, parseDatasetCsv } from "../lib/view/datasets";
 
 // An invented measurement for the demo lab (never real data): a flow-cytometry-like snapshot
 // of the two-stage reporter's protein in 400 cells, in arbitrary fluorescence units.

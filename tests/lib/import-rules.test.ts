@@ -16,11 +16,7 @@ const ROOT = resolve(__dirname, "../..");
 const PRODUCT = ["app", "lib", "worker", "cli", "ssa", "db", "migrations", "seeds", "knexfile.ts", "proxy.ts"];
 /** Browser-safe code a client component may load, besides app/ itself (DEVELOPERS.md). */
 const BROWSER_SAFE = [
-  "lib/schemas/", "ssa/",
-  // Pure helpers that run in the browser; they move to one folder in the lib split.
-  "lib/circuit-diff.ts", "lib/circuit-form.ts", "lib/circuit-templates.ts", "lib/circuit-wiring.ts", "lib/comparison-view.ts",
-  "lib/dataset-overlay.ts", "lib/run-charts.ts", "lib/run-view.ts", "lib/safe-redirect.ts", "lib/run-export.ts",
-  "lib/datasets.ts", "lib/audit.ts", "lib/run-cost.ts",
+  "lib/schemas/", "ssa/", "lib/view/",
   // The shipped example circuits (JSON data) that the templates embed.
   "examples/",
 ];

@@ -6,7 +6,7 @@ import useSWR from "swr";
 import { jsonFetcher } from "@/app/_components/run-api";
 import { TableHead } from "@/app/_components/table-head";
 import { WarningMark, warningsAbout } from "@/app/_components/warning-list";
-import { formatInterval, formatNumber, sdOf, type AnalysisJson, type IntervalStat, type MomentsJson, type RunJson, type SummaryJson } from "@/lib/run-view";
+import { formatInterval, formatNumber, sdOf, type AnalysisJson, type IntervalStat, type MomentsJson, type RunJson, type SummaryJson } from "@/lib/view/run-view";
 import { predictLna } from "@/ssa/lna-prediction";
 import type { Circuit } from "@/ssa/types";
 
