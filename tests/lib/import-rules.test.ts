@@ -14,10 +14,9 @@ import { describe, expect, it } from "vitest";
 const ROOT = resolve(__dirname, "../..");
 /** The folders and top-level files whose modules the rules govern (scripts/ is bootstrap in plain Node). */
 const PRODUCT = ["app", "lib", "worker", "cli", "ssa", "db", "migrations", "seeds", "knexfile.ts", "proxy.ts"];
-/** Browser-safe code a client component may load, besides app/ itself (DEVELOPERS.md). */
+/** Browser-safe code a client component may load, besides app/ itself (DEVELOPERS.md); examples/ are JSON data. */
 const BROWSER_SAFE = [
   "lib/schemas/", "ssa/", "lib/view/",
-  // The shipped example circuits (JSON data) that the templates embed.
   "examples/",
 ];
 /** The pure registry packages ssa/ may use (DEVELOPERS.md). */
@@ -188,12 +187,20 @@ describe("import rules (DEVELOPERS.md, Layout and import rules)", () => {
     expect(report(directViolations((f) => under(f, "app", "proxy.ts"), (e) => under(e.target, "db", "worker"), "app/ never imports db/ or worker/"))).toEqual([]);
   });
 
-  it("client components load only lib/schemas, the browser-safe helpers and ssa/ (not ssa/node/), never server code", () => {
-    const rule = "client components load only app/, lib/schemas, browser-safe lib helpers and ssa/ (not ssa/node/)";
+  it("client components load only lib/schemas, lib/view and ssa/ (not ssa/node/), never server code, also through a helper", () => {
+    const rule = "client components load only app/, lib/schemas, lib/view and ssa/ (not ssa/node/)";
     const bad = (t: string) =>
       t.startsWith("node:") || isPackage(t, SERVER_PACKAGES) ||
       (!t.startsWith("pkg:") && !under(t, "app") && (!under(t, ...BROWSER_SAFE) || under(t, "ssa/node")));
     expect(report(loadViolations((f) => modules.get(f)!.useClient && !f.startsWith("tests/"), bad, rule))).toEqual([]);
+  });
+
+  it("lib/view/ (the browser side of lib) loads only lib/view/, lib/schemas/, ssa/ (not ssa/node/) and browser-safe packages", () => {
+    const rule = "lib/view/ loads only lib/view/, lib/schemas/, ssa/ (not ssa/node/) and browser-safe packages";
+    const bad = (t: string) =>
+      t.startsWith("node:") || isPackage(t, SERVER_PACKAGES) ||
+      (!t.startsWith("pkg:") && (!under(t, ...BROWSER_SAFE) || under(t, "ssa/node")));
+    expect(report(loadViolations((f) => under(f, "lib/view"), bad, rule))).toEqual([]);
   });
 
   it("worker/ and cli/ never load app/ or next/*", () => {

@@ -12,7 +12,7 @@ const load = (name: string) => JSON.parse(readFileSync(`examples/${name}.circuit
 describe("predictLna (the one LNA of the comparisons and the run page)", () => {
   it("gives exactly analyze()'s LNA of the circuit with the overrides", () => {
     const reporter = load("two-stage-reporter");
-    const overrides = { km: 2 * (reporter.parameters.km as number) };
+    const overrides = { km: 2 * Number(reporter.parameters?.km) };
     const p = predictLna(reporter, overrides);
     expect(p.stable).toBe(true);
     expect(p.note).toBeNull();
