@@ -1,4 +1,4 @@
-import { db } from "@/db/client";
+import { getMemberRole } from "@/lib/data/labs";
 import { forbidden, notFound } from "@/lib/http";
 import type { Role } from "@/lib/schemas/auth";
 
@@ -26,8 +26,7 @@ export function may(role: Role | null | undefined, action: Action): boolean {
 
 /** The user's role in the lab, or null when the user is not a member. */
 export async function getLabRole(userId: string, labId: string | number): Promise<Role | null> {
-  const row = await db("memberships").where({ userId, labId }).first("role");
-  return (row?.role as Role | undefined) ?? null;
+  return getMemberRole(userId, labId);
 }
 
 /**

@@ -1,8 +1,8 @@
 import { requireLabRole, type Action } from "@/lib/access";
 import type {
   ComparisonBandsJson, ComparisonJson, ComparisonResultsJson, DesignResultJson, DifferenceTestJson, IntervalJson, LnaCurveJson, SpeciesNoiseJson,
-} from "@/lib/comparison-view";
-import { MODEL_CAVEAT, comparisonProgress } from "@/lib/comparison-view";
+} from "@/lib/view/comparison-view";
+import { MODEL_CAVEAT, comparisonProgress } from "@/lib/view/comparison-view";
 import {
   cancelComparisonRuns, cancelDesignRuns, deleteComparison, endComparison, getComparison, getComparisonIdOfRun, getRunCellStats, getRunCellStatsGz, getRunNoise, getRunWarnings,
   insertComparison, insertDesignRuns, listDesigns, storeComparisonResults, getComparisonResults,
@@ -23,10 +23,9 @@ import { checkOverrides, CircuitError } from "@/lib/schemas/circuit";
 import { COMPARISON_LIMITS, axisValues, sweepDesigns, type ComparisonCreate, type Sweep } from "@/lib/schemas/comparisons";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
 import { settingsOf } from "@/lib/schemas/run-options";
-import { analyze } from "@/ssa/analyze";
 import { bootstrapNoise, type DifferenceTest, type Interval } from "@/ssa/bootstrap";
 import { decodeCellStats, type CellStats } from "@/ssa/cell-stats";
-import { compileModel } from "@/ssa/model";
+import { predictLna } from "@/ssa/lna-prediction";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** Two-sided level of the difference test. */
@@ -367,16 +366,9 @@ async function designCellStats(d: DesignRow): Promise<CellStats> {
 
 /** LNA CV and Fano per species at a design's steady state, with whether it is stable. */
 function lnaOf(circuit: VersionRow["circuit"], overrides: Record<string, number>): { stable: boolean | null; oscillatory: boolean | null; note: string; cv: Record<string, number | null> | null; fano: Record<string, number | null> | null } {
-  try {
-    const a = analyze(compileModel(circuit, overrides));
-    if (!a.lna) {
-      return { stable: a.stable, oscillatory: a.oscillatory, cv: null, fano: null,
-        note: a.oscillatory ? "unstable steady state (oscillatory: past a Hopf bifurcation); the LNA does not apply" : "unstable steady state; the LNA does not apply" };
-    }
-    return { stable: true, oscillatory: a.oscillatory, cv: a.lna.cv, fano: a.lna.fano, note: "LNA at the stable steady state" };
-  } catch (e) {
-    return { stable: null, oscillatory: null, cv: null, fano: null, note: `no LNA: ${e instanceof Error ? e.message : String(e)}` };
-  }
+  const p = predictLna(circuit, overrides);
+  if (!p.lna) return { stable: p.stable, oscillatory: p.oscillatory, cv: null, fano: null, note: p.note ?? "" };
+  return { stable: true, oscillatory: p.oscillatory, cv: p.lna.cv, fano: p.lna.fano, note: "LNA at the stable steady state" };
 }
 
 /**

@@ -4,6 +4,8 @@ import { z } from "zod";
 const EnvSchema = z.object({
   NODE_ENV: z.enum(["development", "production", "test"]).default("development"),
   DATABASE_URL: z.string().min(1).default("postgres://postgres@127.0.0.1:55432/burstwise"),
+  /** Connections each process (web app, worker, CLI, seeds) may open to the database. */
+  DB_POOL_MAX: z.coerce.number().int().min(1).max(1000).default(10),
   NEXTAUTH_SECRET: z.string().min(1).optional(),
   NEXTAUTH_URL: z.string().url().optional(),
   /** Chunks one worker process computes at once, each on its own thread (default: all cores). */

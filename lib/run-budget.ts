@@ -1,6 +1,6 @@
 /**
  * The bound on queued work (issue 11, item 8): every run is charged its expected cost in
- * cell-events, cells × (expected reaction events per cell + grid points) (lib/run-cost.ts), and
+ * cell-events, cells × (expected reaction events per cell + grid points) (lib/view/run-cost.ts), and
  * the unfinished share of a lab's runs, and of a user's runs across all labs, must stay within a
  * budget. Sign-up and labs are free, so the user bound is what stops one person multiplying labs.
  * The sums are read under per-lab and per-user locks inside the inserting transaction
@@ -10,7 +10,7 @@ import type { QueuedWork } from "@/lib/data/runs";
 import { runEngineTask } from "@/lib/engine";
 import { env } from "@/lib/env";
 import { HttpError, tooMany, unprocessable } from "@/lib/http";
-import { costPerCell, countGridPoints, formatCellEvents } from "@/lib/run-cost";
+import { costPerCell, countGridPoints, formatCellEvents } from "@/lib/view/run-cost";
 import type { Circuit } from "@/ssa/types";
 
 export interface RunBudget {

@@ -1,5 +1,5 @@
 import { badRequest, describeBadText, HttpError, unprocessable } from "@/lib/http";
-import { formatBytes } from "@/lib/datasets";
+import { formatBytes } from "@/lib/view/datasets";
 
 const FORM_OVERHEAD = 64 * 1024; // multipart boundaries, headers and the text fields
 const DRAIN_CAP = 64 * 1024 * 1024; // bytes of an oversized streamed body read and discarded at most

@@ -4,7 +4,8 @@
 //   node --import tsx scripts/mail-fake.ts [--port 2525]     (DATABASE_URL: the app's database)
 import { SMTPServer } from "smtp-server";
 
-import { closeDb, db } from "../db/client";
+import { storeFakeMail } from "../lib/data/notifications";
+import { closeDb } from "../lib/data/pool";
 import { parseRawMail } from "../lib/mail";
 
 const MAX_MESSAGE_BYTES = 10 * 1024 * 1024;
@@ -27,7 +28,7 @@ const server = new SMTPServer({
       const raw = Buffer.concat(chunks).toString("utf8");
       const parsed = parseRawMail(raw);
       try {
-        await db("mail_fake_messages").insert({
+        await storeFakeMail({
           mailFrom: session.envelope.mailFrom ? session.envelope.mailFrom.address : null,
           rcptTo: session.envelope.rcptTo.map((r) => r.address), subject: parsed.subject, textBody: parsed.text, raw,
         });

@@ -1,8 +1,8 @@
 import { createHash } from "node:crypto";
 
-import type { Knex } from "knex";
-
-import { datasetStats, parseDatasetCsv } from "../lib/datasets";
+import { getDemoLab, hasDataset, insertDemoDataset } from "../lib/data/demo";
+import { withOpenPool } from "../lib/data/pool";
+import { datasetStats, parseDatasetCsv } from "../lib/view/datasets";
 
 // An invented measurement for the demo lab (never real data): a flow-cytometry-like snapshot
 // of the two-stage reporter's protein in 400 cells, in arbitrary fluorescence units.
@@ -23,24 +23,23 @@ function invented(n: number, mean: number, cv: number): number[] {
 }
 
 /** Adds the invented snapshot to the demo lab once (the demo lab must exist). */
-export async function seed(knex: Knex): Promise<void> {
-  const lab = await knex("labs").where({ is_demo: true }).first("id", "created_by");
-  if (!lab) return;
-  if (await knex("datasets").where({ lab_id: lab.id, name: DEMO_DATASET.name }).first("id")) return;
-  // Mean 400 a.u. × 2.5 = 1,000 molecules, the two-stage reporter's stationary mean; a CV of
-  // 0.15 is a little above its intrinsic 0.105, as extrinsic noise would make it.
-  const csv = `gfp_au\n${invented(400, 400, 0.15).join("\n")}\n`;
-  const { parsed, warnings } = parseDatasetCsv(csv, "snapshot");
-  const bytes = Buffer.from(csv, "utf8");
-  await knex("datasets").insert({
-    lab_id: lab.id, name: DEMO_DATASET.name, kind: "snapshot",
-    description: "Invented demo data: reporter fluorescence of single cells at steady state, calibrated at 2.5 molecules per a.u.",
-    file_name: DEMO_DATASET.fileName, content_type: "text/csv", size_bytes: bytes.length,
-    sha256: createHash("sha256").update(bytes).digest("hex"), original: bytes,
-    units: JSON.stringify({ time_unit: null, amount_unit: "a.u.", molecules_per_unit: DEMO_DATASET.moleculesPerUnit }),
-    parsed: JSON.stringify(parsed),
-    stats: JSON.stringify({ columns: datasetStats(parsed, DEMO_DATASET.moleculesPerUnit), warnings }),
-    created_by: lab.created_by,
+export async function seed(): Promise<void> {
+  await withOpenPool(async () => {
+    const lab = await getDemoLab();
+    if (!lab) return;
+    if (await hasDataset(lab.id, DEMO_DATASET.name)) return;
+    // Mean 400 a.u. × 2.5 = 1,000 molecules, the two-stage reporter's stationary mean; a CV of
+    // 0.15 is a little above its intrinsic 0.105, as extrinsic noise would make it.
+    const csv = `gfp_au\n${invented(400, 400, 0.15).join("\n")}\n`;
+    const { parsed, warnings } = parseDatasetCsv(csv, "snapshot");
+    const bytes = Buffer.from(csv, "utf8");
+    await insertDemoDataset({
+      labId: lab.id, createdBy: lab.createdBy, name: DEMO_DATASET.name, kind: "snapshot",
+      description: "Invented demo data: reporter fluorescence of single cells at steady state, calibrated at 2.5 molecules per a.u.",
+      fileName: DEMO_DATASET.fileName, contentType: "text/csv", original: bytes, sha256: createHash("sha256").update(bytes).digest("hex"),
+      units: { time_unit: null, amount_unit: "a.u.", molecules_per_unit: DEMO_DATASET.moleculesPerUnit },
+      parsed, stats: { columns: datasetStats(parsed, DEMO_DATASET.moleculesPerUnit), warnings },
+    });
+    console.log(`[seed] demo dataset "${DEMO_DATASET.name}" loaded`);
   });
-  console.log(`[seed] demo dataset "${DEMO_DATASET.name}" loaded`);
 }

@@ -1,5 +1,5 @@
 /**
- * Expected reaction events of one cell of a run, before it is launched (lib/run-cost.ts prices a
+ * Expected reaction events of one cell of a run, before it is launched (lib/view/run-cost.ts prices a
  * run with it; the server computes it on the engine pool, ssa/node/engine-task.ts). Events of
  * one cell ≈ ∫₀ᵀ a₀(Ω·y(t)) dt, the total propensity along the mean-field path y(t) (a Gillespie
  * cell fires events at rate a₀(x), so its expected count is ∫ E[a₀(x(t))] dt; the mean field

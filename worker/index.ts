@@ -3,7 +3,7 @@
 // worker processes, on any machines, share the queues through DATABASE_URL.
 import { availableParallelism } from "node:os";
 
-import { closeDb } from "../db/client";
+import { closeDb } from "../lib/data/pool";
 import { env } from "../lib/env";
 import { ComparisonFinishJob, createBoss, ensureQueues, Queues } from "../lib/jobs";
 import { finishComparison } from "./comparisons";

@@ -1,7 +1,7 @@
 // Finished-work e-mails. Generic over what finished (a run now, a comparison later): a subject
 // has a kind, an id, a lab, the member who started it, a status and a link.
-import { db } from "../db/client";
 import { recordAudit } from "../lib/data/audit";
+import { getLab } from "../lib/data/labs";
 import {
   abandonStaleClaims, claimNotification, listRecipients, listUnnotifiedRuns, markNotification, markSubjectNotified, notificationsSettled, type SubjectKind,
 } from "../lib/data/notifications";
@@ -35,7 +35,7 @@ export async function notifyFinished(s: FinishedSubject): Promise<number> {
     await markSubjectNotified(s.kind, s.id);
     return 0;
   }
-  const [recipients, lab] = await Promise.all([listRecipients(s.labId, s.ownerId), db("labs").where({ id: s.labId }).first("name")]);
+  const [recipients, lab] = await Promise.all([listRecipients(s.labId, s.ownerId), getLab(s.labId)]);
   let sent = 0;
   for (const r of recipients) {
     const claim = await claimNotification(s.kind, s.id, s.labId, r);

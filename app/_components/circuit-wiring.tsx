@@ -2,7 +2,7 @@
 
 import { useId } from "react";
 
-import { layoutCircle, type Point, type Wiring, type WiringEdge, type WiringKind } from "@/lib/circuit-wiring";
+import { layoutCircle, type Point, type Wiring, type WiringEdge, type WiringKind } from "@/lib/view/circuit-wiring";
 
 export interface CircuitWiringProps {
   wiring: Wiring;

@@ -1,4 +1,4 @@
-import type { ComparisonStatus } from "@/lib/comparison-view";
+import type { ComparisonStatus } from "@/lib/view/comparison-view";
 
 import { StatusBadge } from "@/app/_components/status-badge";
 

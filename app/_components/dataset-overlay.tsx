@@ -1,12 +1,12 @@
 "use client";
 
 // What the run page calls to lay a measured dataset over a run: pick a dataset of the lab,
-// fetch its values, then use lib/dataset-overlay.ts (seriesOverlayPoints + seriesOverlayLayer
+// fetch its values, then use lib/view/dataset-overlay.ts (seriesOverlayPoints + seriesOverlayLayer
 // over the bands; snapshotOverlayBins + snapshotOverlayLayer over the stationary histogram;
 // measuredNoiseRows beside the noise table, or <MeasuredNoiseTable />).
 import useSWR from "swr";
 
-import { measuredNoiseRows, type DatasetJson } from "@/lib/dataset-overlay";
+import { measuredNoiseRows, type DatasetJson } from "@/lib/view/dataset-overlay";
 
 async function fetchJson<T>(url: string): Promise<T> {
   const res = await fetch(url);

@@ -1,4 +1,4 @@
-import { METHOD_LABEL, type RunJson, type RunStatus } from "@/lib/run-view";
+import { METHOD_LABEL, type RunJson, type RunStatus } from "@/lib/view/run-view";
 
 import { StatusBadge } from "@/app/_components/status-badge";
 

@@ -1,5 +1,5 @@
-import type { ComparisonStatus } from "@/lib/comparison-view";
-import type { RunStatus } from "@/lib/run-view";
+import type { ComparisonStatus } from "@/lib/view/comparison-view";
+import type { RunStatus } from "@/lib/view/run-view";
 
 /** Colours of every status a run or a comparison can have (one palette, so the two read alike). */
 const STYLE: Record<RunStatus | ComparisonStatus, string> = {

@@ -8,7 +8,7 @@ import { verifyPassword } from "@/lib/auth/password";
 import { isSessionCurrent } from "@/lib/auth/session-version";
 import { bumpSessionVersion, getUserByEmail, listLabsForUser } from "@/lib/data/users";
 import { env } from "@/lib/env";
-import { toSafeRedirect } from "@/lib/safe-redirect";
+import { toSafeRedirect } from "@/lib/view/safe-redirect";
 import { SignInInput } from "@/lib/schemas/auth";
 
 // A fixed hash to compare against when the e-mail is unknown, so both failures take as long.

@@ -1,7 +1,7 @@
 import type { Knex } from "knex";
 
 import { db } from "@/db/client";
-import type { AuditAction, AuditEventJson, AuditQuery } from "@/lib/audit";
+import type { AuditAction, AuditEventJson, AuditQuery } from "@/lib/view/audit";
 
 export interface AuditEventInput {
   labId: string;

@@ -2,8 +2,8 @@ import { createHash } from "node:crypto";
 
 import { db } from "@/db/client";
 import { recordAudit, type AuditEventInput } from "@/lib/data/audit";
-import type { DatasetJson } from "@/lib/dataset-overlay";
-import { DatasetFileError, datasetStats, decodeTextFile, parseDatasetCsv } from "@/lib/datasets";
+import type { DatasetJson } from "@/lib/view/dataset-overlay";
+import { DatasetFileError, datasetStats, decodeTextFile, parseDatasetCsv } from "@/lib/view/datasets";
 import { conflict, notFound, unprocessable } from "@/lib/http";
 import { ParsedDataset, type ColumnStats, type DatasetUnits, type DatasetUploadFields } from "@/lib/schemas/datasets";
 import type { UploadedFile } from "@/lib/upload";

@@ -5,6 +5,12 @@ import type { Role } from "@/lib/schemas/auth";
 
 export interface LabMember { userId: string; email: string; name: string; role: Role; joinedAt: Date }
 
+/** The user's role in the lab, or null when the user is not a member (lib/access.ts decides what it allows). */
+export async function getMemberRole(userId: string, labId: string | number): Promise<Role | null> {
+  const row = await db("memberships").where({ userId, labId }).first("role");
+  return (row?.role as Role | undefined) ?? null;
+}
+
 export async function getLab(labId: string): Promise<{ id: string; name: string; isDemo: boolean; createdAt: Date } | null> {
   return (await db("labs").where({ id: labId }).first("id", "name", "isDemo", "createdAt")) ?? null;
 }

@@ -112,3 +112,8 @@ export async function listFakeMailFor(email: string, limit = 100): Promise<FakeM
     .orderBy("id", "desc").limit(limit).select("id", "mailFrom", "rcptTo", "subject", "textBody", "receivedAt");
   return rows.map((r: FakeMessage) => ({ ...r, id: String(r.id), receivedAt: new Date(r.receivedAt) }));
 }
+
+/** Keeps one message the local mail fake received (scripts/mail-fake.ts); it delivers nothing. */
+export async function storeFakeMail(m: { mailFrom: string | null; rcptTo: string[]; subject: string | null; textBody: string | null; raw: string }): Promise<void> {
+  await db("mail_fake_messages").insert(m);
+}

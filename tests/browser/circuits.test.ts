@@ -3,7 +3,7 @@ import { readFile } from "node:fs/promises";
 import type { BrowserContext, Page } from "playwright-core";
 import { afterAll, beforeAll, describe, expect, it } from "vitest";
 
-import { getTemplate } from "@/lib/circuit-templates";
+import { getTemplate } from "@/lib/view/circuit-templates";
 import { analyze } from "@/ssa/analyze";
 import { compileModel } from "@/ssa/model";
 

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 
-import { describeReaction, diffCircuits } from "@/lib/circuit-diff";
-import { getTemplate } from "@/lib/circuit-templates";
+import { describeReaction, diffCircuits } from "@/lib/view/circuit-diff";
+import { getTemplate } from "@/lib/view/circuit-templates";
 import type { Circuit } from "@/ssa/types";
 
 const ring = (): Circuit => getTemplate("ring-timer")!;

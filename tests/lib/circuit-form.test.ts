@@ -5,8 +5,8 @@ import { describe, expect, it } from "vitest";
 
 import {
   circuitIssues, circuitToForm, describeField, fieldKey, formToCircuitJson, indexIssues, listIssues, parseStoichiometry, splitIssue,
-} from "@/lib/circuit-form";
-import { blankCircuit, CIRCUIT_TEMPLATES, getTemplate } from "@/lib/circuit-templates";
+} from "@/lib/view/circuit-form";
+import { blankCircuit, CIRCUIT_TEMPLATES, getTemplate } from "@/lib/view/circuit-templates";
 import { CircuitError, parseCircuit } from "@/lib/schemas/circuit";
 
 const EXAMPLES = join(process.cwd(), "examples");

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 
-import { getTemplate } from "@/lib/circuit-templates";
-import { extractWiring, layoutCircle } from "@/lib/circuit-wiring";
+import { getTemplate } from "@/lib/view/circuit-templates";
+import { extractWiring, layoutCircle } from "@/lib/view/circuit-wiring";
 import { parseCircuit } from "@/lib/schemas/circuit";
 
 const circuit = (species: string[], reactions: unknown[], parameters: Record<string, number> = { k: 1, K: 1, n: 2 }) =>

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 
-import { NOISE_CSV_HEADER, comparisonProgress, intervalSpec, noiseTableCsv, sweepSpec, type ComparisonJson, type ComparisonResultsJson } from "@/lib/comparison-view";
+import { NOISE_CSV_HEADER, comparisonProgress, intervalSpec, noiseTableCsv, sweepSpec, type ComparisonJson, type ComparisonResultsJson } from "@/lib/view/comparison-view";
 import { describeIssue } from "@/lib/schemas/common";
 import { ComparisonCreate, axisValues, formatValue, sweepDesigns } from "@/lib/schemas/comparisons";
 

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 
-import { amountFactor, measuredNoiseRows, seriesOverlayPoints, snapshotOverlayBins, type DatasetJson } from "@/lib/dataset-overlay";
-import { DatasetFileError, decodeTextFile, histogram, measuredStats, parseDatasetCsv, timeFactor } from "@/lib/datasets";
+import { amountFactor, measuredNoiseRows, seriesOverlayPoints, snapshotOverlayBins, type DatasetJson } from "@/lib/view/dataset-overlay";
+import { DatasetFileError, decodeTextFile, histogram, measuredStats, parseDatasetCsv, timeFactor } from "@/lib/view/datasets";
 import { DatasetUploadFields } from "@/lib/schemas/datasets";
 
 const enc = (s: string) => new TextEncoder().encode(s);

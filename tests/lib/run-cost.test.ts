@@ -2,7 +2,7 @@ import { readFileSync } from "node:fs";
 
 import { describe, expect, it } from "vitest";
 
-import { EVENTS_PER_S_PER_THREAD, costPerCell, countGridPoints, estimateRunCost, formatCellEvents } from "@/lib/run-cost";
+import { EVENTS_PER_S_PER_THREAD, costPerCell, countGridPoints, estimateRunCost, formatCellEvents } from "@/lib/view/run-cost";
 import type { Circuit } from "@/ssa/types";
 
 const birthDeath = JSON.parse(readFileSync("examples/birth-death.circuit.json", "utf8")) as Circuit;

@@ -1,7 +1,7 @@
 import { describe, expect, it } from "vitest";
 
-import { bandsCsv, cellCsv, csvField, exportFileName, noiseCsv, toCsv } from "@/lib/run-export";
-import type { CellJson, SummaryJson } from "@/lib/run-view";
+import { bandsCsv, cellCsv, csvField, exportFileName, noiseCsv, toCsv } from "@/lib/view/run-export";
+import type { CellJson, SummaryJson } from "@/lib/view/run-view";
 
 // A two-species, three-time summary written by hand (values are arbitrary but distinct, so a
 // transposed or shifted column shows up).

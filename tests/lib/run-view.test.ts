@@ -1,10 +1,10 @@
 import { describe, expect, it } from "vitest";
 
-import { bandsSpec, histogramSpec } from "@/lib/run-charts";
+import { bandsSpec, histogramSpec } from "@/lib/view/run-charts";
 import {
   etaSeconds, formatDuration, formatNumber, histogramOf, momentsOf, splitApiError, valuesAfterBurnIn,
   type CellJson, type SummaryJson,
-} from "@/lib/run-view";
+} from "@/lib/view/run-view";
 
 describe("etaSeconds", () => {
   const started = "2026-01-01T00:00:00.000Z";

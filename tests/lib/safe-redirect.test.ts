@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 
-import { toSafeRedirect } from "@/lib/safe-redirect";
+import { toSafeRedirect } from "@/lib/view/safe-redirect";
 
 describe("toSafeRedirect keeps redirects on the site", () => {
   // Each of these leaves the origin once a browser resolves it (WHATWG URL: "\" is "/" in http(s)

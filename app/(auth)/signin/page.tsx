@@ -1,7 +1,7 @@
 import type { Metadata } from "next";
 import Link from "next/link";
 
-import { toSafeRedirect } from "@/lib/safe-redirect";
+import { toSafeRedirect } from "@/lib/view/safe-redirect";
 
 import { SignInForm } from "./sign-in-form";
 

@@ -5,7 +5,7 @@ import { useRouter } from "next/navigation";
 import { useState } from "react";
 
 import { Field } from "@/app/_components/field";
-import { toSafeRedirect } from "@/lib/safe-redirect";
+import { toSafeRedirect } from "@/lib/view/safe-redirect";
 
 export function SignInForm({ callbackUrl, initialError }: { callbackUrl: string; initialError?: string }) {
   const router = useRouter();

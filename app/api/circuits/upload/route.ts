@@ -4,7 +4,7 @@ import { requireLabRole } from "@/lib/access";
 import { requireUser } from "@/lib/auth/session";
 import { circuitFromBody } from "@/lib/circuit-input";
 import { createCircuit } from "@/lib/data/circuits";
-import { DatasetFileError, decodeTextFile } from "@/lib/datasets";
+import { DatasetFileError, decodeTextFile } from "@/lib/view/datasets";
 import { handle, HttpError, requireCleanText, unprocessable } from "@/lib/http";
 import { IdField } from "@/lib/schemas/api";
 import { CircuitError } from "@/lib/schemas/circuit";

@@ -5,7 +5,7 @@ import { EmptyState } from "@/app/_components/empty-state";
 import { may } from "@/lib/access";
 import { requirePageLab } from "@/lib/auth/page";
 import { listDatasets } from "@/lib/data/datasets";
-import { formatBytes } from "@/lib/datasets";
+import { formatBytes } from "@/lib/view/datasets";
 import { DATASET_LIMITS } from "@/lib/schemas/datasets";
 
 import { CircuitUploadForm, DatasetUploadForm } from "./upload-forms";

@@ -3,7 +3,7 @@
 import { useRouter } from "next/navigation";
 import { useState } from "react";
 
-import { DatasetFileError, decodeTextFile, formatBytes, parseDatasetCsv } from "@/lib/datasets";
+import { DatasetFileError, decodeTextFile, formatBytes, parseDatasetCsv } from "@/lib/view/datasets";
 import { DATASET_LIMITS, type DatasetKind } from "@/lib/schemas/datasets";
 
 const input = "rounded-md border border-ink/25 bg-white px-3 py-1.5";

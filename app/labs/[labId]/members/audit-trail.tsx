@@ -3,7 +3,7 @@
 import { useEffect, useRef, useState } from "react";
 import useSWRInfinite from "swr/infinite";
 
-import { AUDIT_ACTION_NAMES, AUDIT_ACTIONS, AUDIT_SUBJECTS, describeAuditEvent, type AuditEventJson } from "@/lib/audit";
+import { AUDIT_ACTION_NAMES, AUDIT_ACTIONS, AUDIT_SUBJECTS, describeAuditEvent, type AuditEventJson } from "@/lib/view/audit";
 
 interface Page { events: AuditEventJson[]; total: number }
 const PAGE = 50;

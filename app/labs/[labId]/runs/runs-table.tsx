@@ -8,7 +8,7 @@ import { EmptyState } from "@/app/_components/empty-state";
 import { jsonFetcher } from "@/app/_components/run-api";
 import { RunProgressBar, RunStatusBadge, When, runKindLabel } from "@/app/_components/run-status";
 import { TableHead } from "@/app/_components/table-head";
-import { formatCount, formatDuration, isActive, type RunJson } from "@/lib/run-view";
+import { formatCount, formatDuration, isActive, type RunJson } from "@/lib/view/run-view";
 
 const PAGE_SIZE = 25;
 const STATUSES = ["queued", "running", "succeeded", "failed", "cancelled"] as const;

@@ -1,5 +1,5 @@
 import { requireUser } from "@/lib/auth/session";
-import { comparisonFileBase, noiseTableCsv } from "@/lib/comparison-view";
+import { comparisonFileBase, noiseTableCsv } from "@/lib/view/comparison-view";
 import { loadComparisonJson, requireComparison } from "@/lib/comparisons";
 import { handle } from "@/lib/http";
 

@@ -1,5 +1,5 @@
 import { requireLabRole } from "@/lib/access";
-import { AuditQuery } from "@/lib/audit";
+import { AuditQuery } from "@/lib/view/audit";
 import { requireUser } from "@/lib/auth/session";
 import { listAuditEvents } from "@/lib/data/audit";
 import { handle, idParam } from "@/lib/http";

@@ -7,8 +7,8 @@ import { CircuitWiring } from "@/app/_components/circuit-wiring";
 import {
   circuitIssues, circuitToForm, describeField, fieldKey, formToCircuitJson, indexIssues, listIssues, newRowKey, parseStoichiometry,
   RATE_LAWS, type CircuitForm, type ParameterRow, type RateLawName, type ReactionRow, type SpeciesRow,
-} from "@/lib/circuit-form";
-import { extractWiring } from "@/lib/circuit-wiring";
+} from "@/lib/view/circuit-form";
+import { extractWiring } from "@/lib/view/circuit-wiring";
 import { parseCircuit } from "@/lib/schemas/circuit";
 import { countsTable } from "@/ssa/model";
 import type { Circuit } from "@/ssa/types";

@@ -3,8 +3,8 @@
 import { useRouter } from "next/navigation";
 import { useId, useState } from "react";
 
-import { circuitIssues } from "@/lib/circuit-form";
-import { CIRCUIT_TEMPLATES, getTemplate } from "@/lib/circuit-templates";
+import { circuitIssues } from "@/lib/view/circuit-form";
+import { CIRCUIT_TEMPLATES, getTemplate } from "@/lib/view/circuit-templates";
 
 type Source = { kind: "template"; id: string } | { kind: "file" };
 type Upload =

@@ -20,4 +20,4 @@ export interface CountsJson {
   }[];
 }
 
-export type { AnalysisJson } from "@/lib/run-view";
+export type { AnalysisJson } from "@/lib/view/run-view";

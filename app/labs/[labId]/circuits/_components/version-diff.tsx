@@ -1,4 +1,4 @@
-import type { CircuitDiff, FieldChange, SectionDiff } from "@/lib/circuit-diff";
+import type { CircuitDiff, FieldChange, SectionDiff } from "@/lib/view/circuit-diff";
 
 const FIELD_LABEL: Record<string, string> = {
   "rate.law": "rate law", "rate.k": "k", "rate.input": "input species", "rate.vmax": "vmax", "rate.K": "K", "rate.n": "n",

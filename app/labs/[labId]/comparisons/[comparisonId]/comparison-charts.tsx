@@ -7,7 +7,7 @@ import { Chart, ChartSkeleton } from "@/app/_components/charts/chart";
 import { jsonFetcher } from "@/app/_components/run-api";
 import {
   bandsOverlaySpec, comparisonFileBase, intervalSpec, resultSpecies, sweepSpec, type ComparisonBandsJson, type ComparisonJson, type NoiseMeasure,
-} from "@/lib/comparison-view";
+} from "@/lib/view/comparison-view";
 
 const MEASURES: { value: NoiseMeasure; label: string }[] = [
   { value: "cv", label: "CV" },

@@ -11,8 +11,8 @@ import { fetchJson, jsonFetcher } from "@/app/_components/run-api";
 import { RunProgressBar, When } from "@/app/_components/run-status";
 import { TableHead } from "@/app/_components/table-head";
 import { WarningList } from "@/app/_components/warning-list";
-import { resultSpecies, type ComparisonJson } from "@/lib/comparison-view";
-import { formatNumber } from "@/lib/run-view";
+import { resultSpecies, type ComparisonJson } from "@/lib/view/comparison-view";
+import { formatNumber } from "@/lib/view/run-view";
 
 import { ComparisonCharts } from "./comparison-charts";
 import { DifferenceTest } from "./difference-test";

@@ -3,8 +3,8 @@
 import { useState } from "react";
 
 import { fetchJson } from "@/app/_components/run-api";
-import { MODEL_CAVEAT, type ComparisonJson, type DifferenceJson, type DifferenceTestJson } from "@/lib/comparison-view";
-import { formatNumber } from "@/lib/run-view";
+import { MODEL_CAVEAT, type ComparisonJson, type DifferenceJson, type DifferenceTestJson } from "@/lib/view/comparison-view";
+import { formatNumber } from "@/lib/view/run-view";
 
 const select = "rounded-md border border-ink/25 bg-white px-2 py-1.5 text-sm";
 

@@ -1,8 +1,8 @@
 "use client";
 
 import { TableHead } from "@/app/_components/table-head";
-import type { ComparisonJson, IntervalJson } from "@/lib/comparison-view";
-import { formatNumber } from "@/lib/run-view";
+import type { ComparisonJson, IntervalJson } from "@/lib/view/comparison-view";
+import { formatNumber } from "@/lib/view/run-view";
 
 /** An estimate over its interval, small: "0.2134" / "0.2101–0.2170". */
 function Cell({ iv, lowest }: { iv: IntervalJson | null | undefined; lowest?: boolean }) {

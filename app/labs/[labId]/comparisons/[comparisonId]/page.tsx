@@ -3,7 +3,7 @@ import { notFound } from "next/navigation";
 
 import { may } from "@/lib/access";
 import { requirePageLab } from "@/lib/auth/page";
-import type { ComparisonJson } from "@/lib/comparison-view";
+import type { ComparisonJson } from "@/lib/view/comparison-view";
 import { loadComparisonJson } from "@/lib/comparisons";
 import { getComparison } from "@/lib/data/comparisons";
 

@@ -5,8 +5,8 @@ import { notFound } from "next/navigation";
 import { may } from "@/lib/access";
 import { requirePageLab } from "@/lib/auth/page";
 import { getDataset } from "@/lib/data/datasets";
-import { datasetChartSpec } from "@/lib/dataset-overlay";
-import { formatBytes } from "@/lib/datasets";
+import { datasetChartSpec } from "@/lib/view/dataset-overlay";
+import { formatBytes } from "@/lib/view/datasets";
 
 import { DatasetChart } from "../dataset-chart";
 import { DeleteDatasetButton } from "../upload-forms";

@@ -6,9 +6,8 @@ import useSWR from "swr";
 import { jsonFetcher } from "@/app/_components/run-api";
 import { TableHead } from "@/app/_components/table-head";
 import { WarningMark, warningsAbout } from "@/app/_components/warning-list";
-import { formatInterval, formatNumber, sdOf, type AnalysisJson, type IntervalStat, type MomentsJson, type RunJson, type SummaryJson } from "@/lib/run-view";
-import { analyze } from "@/ssa/analyze";
-import { compileModel } from "@/ssa/model";
+import { formatInterval, formatNumber, sdOf, type AnalysisJson, type IntervalStat, type MomentsJson, type RunJson, type SummaryJson } from "@/lib/view/run-view";
+import { predictLna } from "@/ssa/lna-prediction";
 import type { Circuit } from "@/ssa/types";
 
 export interface LnaState {
@@ -30,11 +29,8 @@ export function useLna(run: RunJson, summary: SummaryJson): LnaState {
   const circuit = useSWR<Circuit>(hasOverrides ? `/api/versions/${run.version_id}` : null, jsonFetcher, { revalidateOnFocus: false });
   const local = useMemo(() => {
     if (!hasOverrides || !circuit.data) return null;
-    try {
-      return { result: analyze(compileModel(circuit.data, overrides)) as AnalysisJson };
-    } catch (e) {
-      return { error: e instanceof Error ? e.message : String(e) };
-    }
+    const p = predictLna(circuit.data, overrides);
+    return p.analysis ? { result: p.analysis as AnalysisJson } : { error: p.error ?? "no steady state" };
   }, [hasOverrides, circuit.data, overrides]);
 
   const result = hasOverrides ? local?.result : analysis.data;

@@ -2,7 +2,7 @@ import type { Metadata } from "next";
 
 import { may } from "@/lib/access";
 import { getVersion } from "@/lib/data/circuits";
-import type { RunJson } from "@/lib/run-view";
+import type { RunJson } from "@/lib/view/run-view";
 import { runToJson } from "@/lib/runs";
 
 import { loadRun } from "../_lib/load-run";

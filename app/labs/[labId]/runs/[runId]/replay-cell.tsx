@@ -5,9 +5,9 @@ import { useMemo, useState } from "react";
 import { Chart } from "@/app/_components/charts/chart";
 import { downloadText } from "@/app/_components/charts/download";
 import { fetchJson } from "@/app/_components/run-api";
-import { replaySpec } from "@/lib/run-charts";
-import { cellCsv, exportBaseName, exportFileName } from "@/lib/run-export";
-import { formatCount, type CellJson, type RunJson } from "@/lib/run-view";
+import { replaySpec } from "@/lib/view/run-charts";
+import { cellCsv, exportBaseName, exportFileName } from "@/lib/view/run-export";
+import { formatCount, type CellJson, type RunJson } from "@/lib/view/run-view";
 
 /** "Replay cell #i": fetches cell i, replayed alone from (seed, i), plots it and offers it as CSV and JSON. */
 export function ReplayCell({ run, units }: { run: RunJson; units: { time: string; amount: string } }) {

@@ -9,13 +9,13 @@ import { downloadText } from "@/app/_components/charts/download";
 import { jsonFetcher } from "@/app/_components/run-api";
 import { DatasetOverlayPicker, MeasuredNoiseTable, useDatasetValues } from "@/app/_components/dataset-overlay";
 import { TableHead } from "@/app/_components/table-head";
-import { seriesOverlayLayer, seriesOverlayPoints, snapshotOverlayBins, type DatasetJson, type OverlayTarget } from "@/lib/dataset-overlay";
-import { bandsSpec, cellsSpec, distributionVersusMeasuredSpec, histogramSpec, traceSpec } from "@/lib/run-charts";
-import { bandsCsv, exportBaseName, exportFileName, noiseCsv } from "@/lib/run-export";
+import { seriesOverlayLayer, seriesOverlayPoints, snapshotOverlayBins, type DatasetJson, type OverlayTarget } from "@/lib/view/dataset-overlay";
+import { bandsSpec, cellsSpec, distributionVersusMeasuredSpec, histogramSpec, traceSpec } from "@/lib/view/run-charts";
+import { bandsCsv, exportBaseName, exportFileName, noiseCsv } from "@/lib/view/run-export";
 import {
   amountUnitOf, burnInOf, formatInterval, formatNumber, histogramOf, momentsOf, valuesAfterBurnIn, weightedHistogramOf,
   type CellJson, type RunJson, type SummaryJson,
-} from "@/lib/run-view";
+} from "@/lib/view/run-view";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
 
 import { NoiseTable, useLna, type LnaState } from "./noise-table";

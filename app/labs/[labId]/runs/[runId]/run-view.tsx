@@ -8,7 +8,7 @@ import useSWR from "swr";
 import { fetchJson, jsonFetcher } from "@/app/_components/run-api";
 import { RunProgressBar, RunStatusBadge, When, runKindLabel } from "@/app/_components/run-status";
 import { WarningList } from "@/app/_components/warning-list";
-import { amountUnitOf, burnInOf, etaSeconds, formatCount, formatDuration, formatNumber, isActive, METHOD_LABEL, type RunJson } from "@/lib/run-view";
+import { amountUnitOf, burnInOf, etaSeconds, formatCount, formatDuration, formatNumber, isActive, METHOD_LABEL, type RunJson } from "@/lib/view/run-view";
 import { launchBodyOf } from "@/lib/schemas/run-options";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
 

@@ -4,8 +4,8 @@ import { useRouter } from "next/navigation";
 import { useEffect, useMemo, useRef, useState } from "react";
 
 import { ApiError, fetchJson } from "@/app/_components/run-api";
-import { EVENTS_PER_S_PER_THREAD, costPerCell, estimateRunCost, formatCellEvents, type CostEstimate } from "@/lib/run-cost";
-import { formatDuration, formatNumber, splitApiError } from "@/lib/run-view";
+import { EVENTS_PER_S_PER_THREAD, costPerCell, estimateRunCost, formatCellEvents, type CostEstimate } from "@/lib/view/run-cost";
+import { formatDuration, formatNumber, splitApiError } from "@/lib/view/run-view";
 import { describeIssue } from "@/lib/schemas/common";
 import { RunLaunch } from "@/lib/schemas/run-options";
 import { RUN_LIMITS } from "@/lib/schemas/runs";

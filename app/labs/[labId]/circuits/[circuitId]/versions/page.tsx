@@ -3,7 +3,7 @@ import Link from "next/link";
 import { notFound } from "next/navigation";
 
 import { TableHead } from "@/app/_components/table-head";
-import { diffCircuits } from "@/lib/circuit-diff";
+import { diffCircuits } from "@/lib/view/circuit-diff";
 import { getVersion } from "@/lib/data/circuits";
 
 import { formatWhen } from "../../_components/format";

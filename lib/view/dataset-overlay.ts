@@ -2,7 +2,7 @@
 // run page fetches GET /api/datasets/:id?values=1 (a DatasetJson) and calls these.
 import type { VisualizationSpec } from "vega-embed";
 
-import { histogram, thinIndices, timeFactor, type HistogramBin } from "@/lib/datasets";
+import { histogram, thinIndices, timeFactor, type HistogramBin } from "@/lib/view/datasets";
 import type { ColumnStats, DatasetUnits, ParsedDataset, TimeUnit } from "@/lib/schemas/datasets";
 
 /** A dataset as GET /api/datasets/:id returns it (`values` only with ?values=1). */

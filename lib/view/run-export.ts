@@ -4,7 +4,7 @@
  * comma separated, CRLF line ends, fields quoted only when they hold a comma, quote or line break;
  * numbers in full precision; undefined values (NaN, null) as empty fields. Pure: no I/O.
  */
-import { QUANTILE_KEYS, sdOf, type AnalysisJson, type CellJson, type MomentsJson, type SummaryJson } from "@/lib/run-view";
+import { QUANTILE_KEYS, sdOf, type AnalysisJson, type CellJson, type MomentsJson, type SummaryJson } from "@/lib/view/run-view";
 
 const EOL = "\r\n";
 

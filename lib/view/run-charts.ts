@@ -5,7 +5,7 @@
  */
 import type { VisualizationSpec } from "vega-embed";
 
-import type { CellJson, SummaryJson } from "@/lib/run-view";
+import type { CellJson, SummaryJson } from "@/lib/view/run-view";
 
 /** Layer names of the bands chart, in legend order. */
 export const BAND_LAYERS = ["5–95% of cells", "25–75% of cells", "Median", "Mean", "Mean-field trace"] as const;

@@ -6,7 +6,7 @@
  */
 import type { VisualizationSpec } from "vega-embed";
 
-import { toCsv } from "@/lib/run-export";
+import { toCsv } from "@/lib/view/run-export";
 import type { EngineWarning } from "@/ssa/warnings";
 
 export type ComparisonStatus = "draft" | "running" | "succeeded" | "failed" | "cancelled";
