@@ -166,23 +166,24 @@ describe("cell replay within the run's limits", () => {
 
   it("a replay stops at the run's own max_events_per_cell and says so (422 naming it); the normal replay equals `cli trajectory`", async () => {
     await workers.start();
-    const id = await launch({});
+    // Cells 0-4 are served as finalize stored them; cell 6 is replayed, under the run's limits.
+    const id = await launch({ runs: 8 });
     const run = await waitForRun(modeler, id, isFinished);
     expect(run.status).toBe("succeeded");
     expect(run.settings.max_events_per_cell).toBe(1e8); // the limit the worker used is stored with the run
 
-    const cell = await modeler.request("GET", `/api/runs/${id}/cells/2`);
+    const cell = await modeler.request("GET", `/api/runs/${id}/cells/6`);
     expect(cell.status, cell.text).toBe(200);
-    const cli = runCli(["trajectory", "examples/ring-timer.circuit.json", "--seed", "11", "--index", "2", "--t-end", "200", "--dt", "1"]);
+    const cli = runCli(["trajectory", "examples/ring-timer.circuit.json", "--seed", "11", "--index", "6", "--t-end", "200", "--dt", "1"]);
     expect(cli.status, cli.stderr).toBe(0);
     expect(cell.text).toBe(JSON.stringify(cli.json));
     expect(cell.json.events).toBeGreaterThan(100);
 
     // The same run had it been stored with a limit of 100 events per cell.
     await db("runs").where({ id }).update({ settings: db.raw(`settings || '{"max_events_per_cell": 100}'::jsonb`) });
-    const capped = await modeler.request("GET", `/api/runs/${id}/cells/2`);
+    const capped = await modeler.request("GET", `/api/runs/${id}/cells/6`);
     expect(capped.status, capped.text).toBe(422);
-    expect(capped.json.error).toMatch(/^max_events_per_cell: cell 2 exceeded this run's limit of 100 events per cell/);
+    expect(capped.json.error).toMatch(/^max_events_per_cell: cell 6 exceeded this run's limit of 100 events per cell/);
   });
 
   it("a cell with more than 1,000,000 values is replayed only in part: species= or every= (422 naming them otherwise)", async () => {

@@ -27,7 +27,7 @@ function staticImports(entry: string): Set<string> {
 
 describe("the ensemble run path", () => {
   it("never loads the formula parser (ssa/expr.ts, mathjs) for a circuit without formulas: not from the kernels, the burn-in rule or the mean-field checks", () => {
-    for (const entry of ["ssa/ensemble.ts", "ssa/burn-in.ts", "ssa/oscillation-checks.ts", "ssa/node/worker.ts"]) {
+    for (const entry of ["ssa/ensemble.ts", "ssa/burn-in.ts", "ssa/oscillation-checks.ts", "ssa/node/engine-task.ts", "ssa/node/run-steps.ts", "ssa/node/model-cache.ts"]) {
       const files = staticImports(entry);
       expect([...files].filter((f) => f === "ssa/expr.ts" || f === "ssa/model.ts"), entry).toEqual([]);
       for (const f of files) expect(readFileSync(f, "utf8"), f).not.toMatch(/from "mathjs/);
