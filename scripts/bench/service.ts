@@ -26,7 +26,11 @@ async function main() {
     const warm = await call("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 100, dt: 1, runs: 100, seed: 1 });
     while (!["succeeded", "failed"].includes((await call("GET", `/api/runs/${warm.json.id}`)).json.status)) await new Promise((r) => setTimeout(r, 50));
     // The demo seed queues its own ensembles in this database: let them finish so the bench run has the worker alone.
-    while (Number(q(`select count(*) from runs where status in ('queued', 'running')`)) > 0) await new Promise((r) => setTimeout(r, 200));
+    const quietBy = Date.now() + 10 * 60_000;
+    while (Number(q(`select count(*) from runs where status in ('queued', 'running')`)) > 0) {
+      if (Date.now() > quietBy) throw new Error("the demo seed's ensembles did not finish within 10 min; nothing was timed");
+      await new Promise((r) => setTimeout(r, 200));
+    }
 
     const t0 = performance.now();
     const run = await call("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: T_END, dt: DT, runs: CELLS, seed: SEED });
