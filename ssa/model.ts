@@ -102,7 +102,7 @@ export function countsTable(c: Circuit, overrides?: Record<string, number>): Cou
         parameter: paramOf(rate.k),
         molecules: m.c[j],
         moleculesUnit: molUnit,
-        note: `c = k·Πν!/Ω^(${order}−1); order ${order}`,
+        note: `order ${order}`,
       });
     } else if (rate.law === "expression") {
       constants.push({
@@ -113,7 +113,7 @@ export function countsTable(c: Circuit, overrides?: Record<string, number>): Cou
         unit: `${amount}/${time}`,
         molecules: NaN,
         moleculesUnit: `${mol}/${time}`,
-        note: `a(x) = Ω · f(x/Ω) with f = ${rate.expression}`,
+        note: `f = ${rate.expression}`,
       });
     } else {
       const fields: [string, NumberOrParam | undefined, number, string, number, string][] = [

@@ -170,6 +170,13 @@ describe("circuits as the demo modeler", () => {
       expect(warned, `low-copy warning for ${id}`).toBe(expected.lowCopy.includes(id) ? 1 : 0);
     }
     expect(await page.getByRole("note").count()).toBe(1);
+    // the conversion rules are stated once above the constants table, not on every row
+    expect(await page.getByTestId("constants-formulas").textContent()).toContain("c = k·Πν!/Ω^(m−1)");
+    const constants = page.getByRole("table", { name: "Rate constants in molecules" });
+    expect(await constants.getByText("Πν!").count()).toBe(0);
+    expect(await page.getByRole("table", { name: "Species in molecules" }).getByRole("columnheader").allTextContents()).toEqual(
+      ["Species", "Initial (nM)", "Initial (molecules)", "Initial count", "Steady state (molecules)", "Note"],
+    );
     await shot(page, "circuits-06-counts");
   });
 
@@ -184,6 +191,11 @@ describe("circuits as the demo modeler", () => {
     expect(chartText).toContain("Re λ (1/min)");
     expect(chartText).toContain("Im λ (1/min)");
     if (expected.stable) await page.getByRole("table", { name: "LNA CV and Fano factor per species" }).waitFor();
+    // the explanations sit folded in one help text
+    const help = page.getByTestId("stability-help");
+    expect(await help.getAttribute("open")).toBeNull();
+    await help.getByText("How to read this").click();
+    await help.getByText("dashed imaginary axis", { exact: false }).waitFor();
     await page.getByRole("note").waitFor();
     await shot(page, "circuits-07-stability");
   });
@@ -292,6 +304,10 @@ describe("circuits as the demo modeler", () => {
     // X starts at 0 molecules, below the ~10-molecule threshold
     expect(await page.getByTestId("counts-row-X").getByTestId("low-copy").count()).toBe(1);
     expect(await page.getByTestId("omega").textContent()).toBe("Ω = 1 (amounts are already molecules)");
+    // amounts already in molecules: one "Initial (molecules)" column, not two
+    expect(await page.getByRole("table", { name: "Species in molecules" }).getByRole("columnheader").allTextContents()).toEqual(
+      ["Species", "Initial (molecules)", "Initial count", "Steady state (molecules)", "Note"],
+    );
   });
 
   it("the modeler's pages logged no script errors or hydration warnings", () => {

@@ -353,6 +353,11 @@ describe("lists and roles", () => {
     const table = page.getByRole("table", { name: "Runs of this lab" });
     await table.waitFor();
     await table.getByRole("link", { name: `#${runId}` }).waitFor();
+    // a count such as "1 000" stays on one line in the Cells column
+    const cellsIndex = (await table.getByRole("columnheader").allTextContents()).indexOf("Cells");
+    expect(cellsIndex).toBeGreaterThan(0);
+    const cellsColumn = table.locator(`tbody tr td:nth-child(${cellsIndex + 1})`);
+    expect(await cellsColumn.first().evaluate((el) => getComputedStyle(el).whiteSpace)).toBe("nowrap");
     await page.getByLabel("Status").selectOption("cancelled");
     await page.waitForURL(/status=cancelled/);
     await expect.poll(async () => (await table.getByTestId("run-status").allTextContents()).join(",")).toMatch(/^cancelled(,cancelled)*$/);

@@ -95,14 +95,14 @@ export function RunsTable({ labId, canLaunch, status, circuit, page }: RunsTable
           <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
             <table className="w-full min-w-[44rem] text-sm">
               <caption className="sr-only">Runs of this lab</caption>
-              <TableHead columns={["Run", "Circuit", "Kind", { label: "Cells", numeric: true }, "Status", "Launched by", "Launched", { label: "Wall time", numeric: true, className: "whitespace-nowrap" }]} />
+              <TableHead columns={["Run", "Circuit", "Kind", { label: "Cells", numeric: true, className: "whitespace-nowrap" }, "Status", "Launched by", "Launched", { label: "Wall time", numeric: true, className: "whitespace-nowrap" }]} />
               <tbody>
                 {data.runs.map((r) => (
                   <tr key={r.id} className="border-t border-ink/10 align-top">
                     <td className="px-3 py-2 font-medium"><Link href={`/labs/${labId}/runs/${r.id}`}>#{r.id}</Link></td>
                     <td className="px-3 py-2">{r.circuit_name} <span className="text-ink-soft">v{r.version_number}</span></td>
                     <td className="px-3 py-2 text-ink-soft">{runKindLabel(r)}</td>
-                    <td className="px-3 py-2 text-right tabular-nums">{r.kind === "trace" ? "—" : formatCount(r.settings.runs)}</td>
+                    <td className="whitespace-nowrap px-3 py-2 text-right tabular-nums">{r.kind === "trace" ? "—" : formatCount(r.settings.runs)}</td>
                     <td className="px-3 py-2">
                       <div className="flex min-w-[7rem] flex-col items-start gap-1">
                         <RunStatusBadge status={r.status} />

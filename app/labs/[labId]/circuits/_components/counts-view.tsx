@@ -28,6 +28,8 @@ export function CountsView({ versionId }: { versionId: string }) {
   if (!counts.data) return <CountsSkeleton />;
   const c = counts.data;
   const amount = showAmount(c.amount_unit);
+  // A circuit written in molecules has nothing to convert: one "Initial (molecules)" column, not two.
+  const inMolecules = c.amount_unit === "molecules";
   const steadyFrom: "analysis" | "initial" | "pending" = analysis.data ? "analysis" : analysis.error ? "initial" : "pending";
   const steadyMolecules = (id: string, initialMolecules: number): number | null => {
     if (analysis.data) {
@@ -63,7 +65,7 @@ export function CountsView({ versionId }: { versionId: string }) {
         <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
           <table className="w-full min-w-[640px] text-sm">
             <caption className="sr-only">Species in molecules</caption>
-            <TableHead columns={["Species", { label: `Initial (${amount})`, numeric: true }, { label: "Initial (molecules)", numeric: true }, { label: "Initial count", numeric: true }, { label: "Steady state (molecules)", numeric: true }, "Note"]} />
+            <TableHead columns={["Species", ...(inMolecules ? [] : [{ label: `Initial (${amount})`, numeric: true }]), { label: "Initial (molecules)", numeric: true }, { label: "Initial count", numeric: true }, { label: "Steady state (molecules)", numeric: true }, "Note"]} />
             <tbody>
               {c.species.map((s) => {
                 const ss = steadyMolecules(s.id, s.count);
@@ -71,7 +73,7 @@ export function CountsView({ versionId }: { versionId: string }) {
                 return (
                   <tr key={s.id} className="border-t border-ink/10" data-testid={`counts-row-${s.id}`}>
                     <th scope="row" className="px-3 py-2 text-left font-medium">{s.id}</th>
-                    <td className="px-3 py-2 text-right tabular-nums">{formatNumber(s.initial)}</td>
+                    {!inMolecules && <td className="px-3 py-2 text-right tabular-nums">{formatNumber(s.initial)}</td>}
                     <td className="px-3 py-2 text-right tabular-nums">{formatNumber(s.molecules)}</td>
                     <td className="px-3 py-2 text-right tabular-nums">{s.count}</td>
                     <td className="px-3 py-2 text-right tabular-nums">{steadyFrom === "pending" ? <span className="inline-block h-3 w-12 animate-pulse rounded bg-ink/10" /> : formatNumber(ss)}</td>
@@ -92,7 +94,10 @@ export function CountsView({ versionId }: { versionId: string }) {
 
       <section aria-labelledby="constants-h" className="flex flex-col gap-2">
         <h2 id="constants-h" className="font-semibold">Rate constants</h2>
-        <p className="text-sm text-ink-soft">Each constant as written and as the stochastic engine uses it, in molecules.</p>
+        <p className="text-sm text-ink-soft" data-testid="constants-formulas">
+          Each constant as written and as the stochastic engine uses it, in molecules. Mass action of order m: c = k·Πν!/Ω^(m−1)
+          (Gillespie 1977); Hill laws: vmax, K and basal times Ω, n as written; a free-form rate f: a(x) = Ω·f(x/Ω).
+        </p>
         <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
           <table className="w-full min-w-[720px] text-sm">
             <caption className="sr-only">Rate constants in molecules</caption>

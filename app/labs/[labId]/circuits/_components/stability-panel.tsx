@@ -30,15 +30,15 @@ function verdict(a: AnalysisJson): { title: string; text: string; tone: "good" |
   if (a.oscillatory) {
     return {
       title: "Oscillatory",
-      text: "A complex pair of eigenvalues has positive real part: expect sustained oscillations (Hopf). The steady state is unstable and cells circle around it.",
+      text: "A complex pair of eigenvalues has positive real part: expect sustained oscillations (Hopf).",
       tone: "warn",
     };
   }
   const tol = tolerance(a.eigenvalues);
   if (a.eigenvalues.some((l) => l.re > tol)) {
-    return { title: "Unstable", text: "A real eigenvalue is positive: the circuit moves away from this steady state without turning (toward another state, as in a switch).", tone: "warn" };
+    return { title: "Unstable", text: "A real eigenvalue is positive: the circuit leaves this steady state without turning.", tone: "warn" };
   }
-  return { title: "Marginal", text: "An eigenvalue sits on the imaginary axis: linear analysis cannot say whether the circuit returns; run a trace to see.", tone: "warn" };
+  return { title: "Marginal", text: "An eigenvalue sits on the imaginary axis: linear analysis cannot decide; run a trace.", tone: "warn" };
 }
 
 /** Steady state, eigenvalues (table and complex plane), the verdict, and the LNA's CV and Fano per species. */
@@ -68,6 +68,7 @@ export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omeg
         <h2 id="verdict-h" className="text-lg font-semibold">{v.title}</h2>
         <p className="mt-1 text-sm">{v.text}</p>
       </section>
+      <StabilityHelp timeUnit={timeUnit} />
       <WarningList warnings={data.warnings} title="Warnings on this analysis" testId="analysis-warnings" />
 
       <div className="grid gap-5 lg:grid-cols-2">
@@ -107,8 +108,8 @@ export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omeg
                     <td className="px-3 py-2 text-right tabular-nums">{formatNumber(l.im)}</td>
                     <td className="px-3 py-2 text-xs text-ink-soft">
                       {Math.abs(l.im) > tol
-                        ? `${l.re > tol ? "grows" : l.re < -tol ? "decays" : "neither grows nor decays"} while turning; period 2π/|Im λ| ≈ ${formatNumber((2 * Math.PI) / Math.abs(l.im), 3)} ${timeUnit}`
-                        : Math.abs(l.re) <= tol ? "zero (a conserved total, or marginal)" : l.re > 0 ? "grows" : `decays in about ${formatNumber(1 / -l.re, 3)} ${timeUnit}`}
+                        ? `${l.re > tol ? "grows" : l.re < -tol ? "decays" : "neutral"}, turning; period ≈ ${formatNumber((2 * Math.PI) / Math.abs(l.im), 3)} ${timeUnit}`
+                        : Math.abs(l.re) <= tol ? "zero" : l.re > 0 ? "grows" : `decays in ≈ ${formatNumber(1 / -l.re, 3)} ${timeUnit}`}
                     </td>
                   </tr>
                 ))}
@@ -121,7 +122,6 @@ export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omeg
           <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white p-3" data-testid="eigen-chart">
             <Chart spec={eigenSpec(data.eigenvalues, timeUnit)} fileBase={`${fileBase}-eigenvalues`} label="Eigenvalues of the Jacobian in the complex plane" />
           </div>
-          <p className="text-xs text-ink-soft">The dashed line is the imaginary axis: the steady state is stable when every point lies to its left.</p>
         </section>
       </div>
 
@@ -134,7 +134,6 @@ export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omeg
           </p>
         ) : (
           <>
-            <p className="text-sm text-ink-soft">CV = SD/mean and Fano factor = variance/mean per species, in molecules, from the LNA covariance at the steady state (Fano 1 is Poisson).</p>
             <div className="overflow-x-auto rounded-lg border border-ink/10 bg-white">
               <table className="w-full min-w-[480px] text-sm">
                 <caption className="sr-only">LNA CV and Fano factor per species</caption>
@@ -157,6 +156,20 @@ export function StabilityPanel({ versionId, fileBase, timeUnit, amountUnit, omeg
       </section>
       <Caution />
     </div>
+  );
+}
+
+/** How to read the panel, folded: the explanations live here once instead of beside every figure. */
+function StabilityHelp({ timeUnit }: { timeUnit: string }) {
+  return (
+    <details className="rounded-lg border border-ink/10 bg-white px-4 py-2 text-sm" data-testid="stability-help">
+      <summary className="cursor-pointer font-medium">How to read this</summary>
+      <ul className="mt-2 list-disc space-y-1 pl-5 text-ink-soft">
+        <li>The eigenvalues λ are those of the Jacobian at the deterministic steady state. The steady state is stable when every point lies left of the dashed imaginary axis of the chart.</li>
+        <li>A real λ &lt; 0 decays in about 1/|λ| {timeUnit}; a complex pair turns with period 2π/|Im λ|. A pair with positive real part means sustained oscillations (a Hopf bifurcation): cells circle the unstable steady state. A positive real λ pushes the circuit to another state, as in a switch. A zero λ is a conserved total, or a marginal case.</li>
+        <li>The linear noise approximation gives CV = SD/mean and Fano factor = variance/mean per species, in molecules, from the covariance at a stable steady state (Fano 1 is Poisson; van Kampen 1992). It does not apply to an oscillating circuit: run an ensemble instead.</li>
+      </ul>
+    </details>
   );
 }
 
