@@ -6,7 +6,8 @@
  * - the same −ln u (ssa/rng.ts exponentialOfWord): the same powers of two and ln(1 + k/256)
  *   tables, copied into linear memory, the same Taylor polynomial in the same order, Math.log
  *   imported for the few words the table does not cover;
- * - counts held as f64 (as JS numbers are), propensities computed by the same f64 operations in
+ * - counts held as int32 and kept in [0, 2^30] (else the JS kernel replays the cell), converted
+ *   exactly to f64 where a propensity reads them; propensities computed by the same f64 operations in
  *   the same order (mass action: (c/Πν!)·x·(x−1)…, left to right; Hill: the same per-count table
  *   from hillTable, the formula, imported, beyond it), the sum a₀ + a₁ + … left to right, the
  *   same cascade r −= a_j for the reaction;
@@ -16,7 +17,7 @@
  * Circuits with formula rates keep the JS kernel (canCompileWasmKernel). Pure: no I/O; the global
  * WebAssembly (Node, browsers) is the only host object used.
  */
-import { canGenerateKernel, hillPropensity, hillTable, type DirectKernel } from "./kernel";
+import { MAX_KERNEL_COUNT, canGenerateKernel, compileDirectKernel, hillPropensity, hillTable, type DirectKernel } from "./kernel";
 import { LawCode, type Model } from "./model-core";
 import { LOG1P_TABLE, POW2_TABLE, TWO_POW_M32 } from "./rng";
 import { Code, F64, I32, Op, encodeModule, type ValType } from "./wasm-encoder";
@@ -33,6 +34,9 @@ export interface WasmKernel extends DirectKernel {
 
 const LN2 = 0.6931471805599453;
 
+/** Return value of the wasm function when a count left [0, 2^30]: the cell is replayed by the JS kernel. */
+const OUT_OF_RANGE = -2;
+
 /** The part of the host's WebAssembly API used here (ssa/ compiles without DOM or Node types). */
 interface WasmMemory {
   readonly buffer: ArrayBuffer;
@@ -44,6 +48,9 @@ interface WasmApi {
 }
 const wasmApi = (): WasmApi | undefined => (globalThis as { WebAssembly?: WasmApi }).WebAssembly;
 
+// Counts are int32 locals (as in the JS kernel, whose counts V8 keeps as small integers); a change
+// that takes a count out of [0, 2^30] returns OUT_OF_RANGE and the JS kernel, whose numbers do not
+// wrap, replays the cell from its start, so no wrapped count ever reaches a sample.
 // Layout of linear memory (bytes): powers of two, ln(1 + k/256) at 2048 so that LT[eh − 256] is at
 // eh·8, then the state (counts, generator, grid index reached), then the Hill tables; grid and
 // sample regions are allocated above, on demand.
@@ -55,6 +62,9 @@ const STATE_BASE = 4096;
 export function wasmKernelRefusal(m: Model): string | null {
   if (!wasmApi()) return "WebAssembly is not available";
   if (!canGenerateKernel(m)) return "the circuit is too large, or its counts too near the int32 limit, for a compiled kernel";
+  for (let p = 0; p < m.changeDelta.length; p++) {
+    if (Math.abs(m.changeDelta[p]) >= MAX_KERNEL_COUNT) return "a stoichiometry is too large for int32 counts";
+  }
   for (let j = 0; j < m.nReactions; j++) {
     if (m.law[j] !== LawCode.MassAction && m.law[j] !== LawCode.HillActivation && m.law[j] !== LawCode.HillRepression) {
       return `reaction ${j} has a formula rate, which the wasm kernel does not express`;
@@ -126,7 +136,7 @@ export function wasmKernelModule(m: Model, tables: (Float64Array | null)[]): { b
   for (let i = 1; i < nS; i++) s.push(i32Local());
   const t = f64Local(), tg = f64Local(), events = f64Local(), asum = f64Local(), ex = f64Local(), r = f64Local(), eb = f64Local(), er = f64Local();
   const x: number[] = [];
-  for (let i = 0; i < nS; i++) x.push(f64Local());
+  for (let i = 0; i < nS; i++) x.push(i32Local());
   const a: number[] = [];
   for (let j = 0; j < nR; j++) a.push(f64Local());
 
@@ -149,7 +159,7 @@ export function wasmKernelModule(m: Model, tables: (Float64Array | null)[]): { b
       }
       c.f64(coef);
       for (const [i, k] of factors) {
-        c.get(x[i]);
+        c.get(x[i]).op(Op.f64ConvertI32S);
         if (k > 0) c.f64(k).op(Op.f64Sub);
         c.op(Op.f64Mul);
       }
@@ -158,15 +168,15 @@ export function wasmKernelModule(m: Model, tables: (Float64Array | null)[]): { b
     const guarded = m.reactantPtr[j + 1] > m.reactantPtr[j];
     if (guarded) {
       for (let p = m.reactantPtr[j]; p < m.reactantPtr[j + 1]; p++) {
-        c.get(x[m.reactantIdx[p]]).f64(m.reactantNu[p]).op(Op.f64Ge);
+        c.get(x[m.reactantIdx[p]]).i32(m.reactantNu[p]).op(Op.i32GeS);
         if (p > m.reactantPtr[j]) c.op(Op.i32And);
       }
       c.begin(Op.if, F64);
     }
     const xi = x[m.hillInput[j]];
-    c.get(xi).f64(layout.tableLength[j]).op(Op.f64Lt).begin(Op.if, F64);
-    c.get(xi).op(Op.i32TruncF64S).i32(3).op(Op.i32Shl).mem(Op.f64Load, 3, layout.tables[j]);
-    c.op(Op.else).get(xi).call(hillFn[j]).op(Op.end);
+    c.get(xi).i32(layout.tableLength[j]).op(Op.i32LtU).begin(Op.if, F64);
+    c.get(xi).i32(3).op(Op.i32Shl).mem(Op.f64Load, 3, layout.tables[j]);
+    c.op(Op.else).get(xi).op(Op.f64ConvertI32S).call(hillFn[j]).op(Op.end);
     if (guarded) c.op(Op.else).f64(0).op(Op.end);
   };
 
@@ -182,13 +192,13 @@ export function wasmKernelModule(m: Model, tables: (Float64Array | null)[]): { b
   };
 
   const writeBack = (): void => {
-    for (let i = 0; i < nS; i++) c.i32(0).get(x[i]).mem(Op.f64Store, 3, layout.x + 8 * i);
+    for (let i = 0; i < nS; i++) c.i32(0).get(x[i]).op(Op.f64ConvertI32S).mem(Op.f64Store, 3, layout.x + 8 * i);
     [ra, rb, rc, rd].forEach((v, k) => c.i32(0).get(v).mem(Op.i32Store, 2, layout.rs + 4 * k));
     c.i32(0).get(g).mem(Op.i32Store, 2, layout.gOut);
   };
 
   // Entry: counts and generator state from memory, initial propensities, strides.
-  for (let i = 0; i < nS; i++) c.i32(0).mem(Op.f64Load, 3, layout.x + 8 * i).set(x[i]);
+  for (let i = 0; i < nS; i++) c.i32(0).mem(Op.f64Load, 3, layout.x + 8 * i).op(Op.i32TruncF64S).set(x[i]);
   [ra, rb, rc, rd].forEach((v, k) => c.i32(0).mem(Op.i32Load, 2, layout.rs + 4 * k).set(v));
   for (let j = 0; j < nR; j++) {
     propensity(j);
@@ -230,7 +240,7 @@ export function wasmKernelModule(m: Model, tables: (Float64Array | null)[]): { b
   for (let i = 0; i < nS; i++) {
     c.get(O);
     if (i > 0) c.get(s[i]).op(Op.i32Add);
-    c.get(x[i]).mem(Op.f64Store, 3, 0);
+    c.get(x[i]).op(Op.f64ConvertI32S).mem(Op.f64Store, 3, 0);
   }
   c.get(O).get(tB).op(Op.i32Add).set(O);
   c.get(g).i32(1).op(Op.i32Add).tee(g).get(NGRID).op(Op.i32Eq).begin(Op.if);
@@ -245,11 +255,11 @@ export function wasmKernelModule(m: Model, tables: (Float64Array | null)[]): { b
     for (let p = m.changePtr[j]; p < m.changePtr[j + 1]; p++) {
       const i = m.changeIdx[p];
       const d = m.changeDelta[p];
-      c.get(x[i]);
-      if (d === 1) c.f64(1).op(Op.f64Add);
-      else if (d === -1) c.f64(1).op(Op.f64Sub);
-      else c.f64(d).op(Op.f64Add);
-      c.set(x[i]);
+      c.get(x[i]).i32(d).op(Op.i32Add).tee(x[i]);
+      // A count leaving [0, 2^30] ends the call with −2: the JS kernel replays the cell (see compileWasmKernel).
+      if (d > 0) c.i32(MAX_KERNEL_COUNT).op(Op.i32GtS);
+      else c.i32(0).op(Op.i32LtS);
+      c.begin(Op.if).f64(OUT_OF_RANGE).op(Op.return).op(Op.end);
     }
     for (let p = m.depPtr[j]; p < m.depPtr[j + 1]; p++) {
       propensity(m.depIdx[p]);
@@ -341,7 +351,15 @@ export function compileWasmKernel(m: Model): WasmKernel {
     lastGrid = grid;
   };
 
+  // The JS kernel, for cells whose counts leave [0, 2^30] (int32 counts here; JS numbers there).
+  let js: DirectKernel | null = null;
+  const replay: DirectKernel = (x, rs, grid, nGrid, out, o, B, maxEvents) => (js ??= compileDirectKernel(m))(x, rs, grid, nGrid, out, o, B, maxEvents);
+
   const kernel = ((x, rs, grid, nGrid, out, o, B, maxEvents) => {
+    for (let i = 0; i < nS; i++) {
+      const v = x[i];
+      if (!(v >= 0 && v <= MAX_KERNEL_COUNT && v === Math.floor(v))) return replay(x, rs, grid, nGrid, out, o, B, maxEvents);
+    }
     loadGrid(grid);
     const xAt = layout.x / 8;
     for (let i = 0; i < nS; i++) f64[xAt + i] = x[i];
@@ -357,6 +375,8 @@ export function compileWasmKernel(m: Model): WasmKernel {
       reserve(copyR, nGrid * nS);
       events = run(gridR.ptr, nGrid, copyR.ptr, 8, maxEvents);
     }
+    // x and rs are untouched until here, so the replay starts from the cell's own state.
+    if (events === OUT_OF_RANGE) return replay(x, rs, grid, nGrid, out, o, B, maxEvents);
     for (let i = 0; i < nS; i++) x[i] = f64[xAt + i];
     for (let k = 0; k < 4; k++) rs[k] = i32[rsAt + k];
     if (!direct) {
