@@ -34,6 +34,9 @@ export interface WasmKernel extends DirectKernel {
 
 const LN2 = 0.6931471805599453;
 
+/** Samples a call into a caller's own array may stage in wasm memory (8 MB); beyond, the JS kernel runs. */
+const MAX_COPY_VALUES = 1 << 20;
+
 /** Return value of the wasm function when a count left [0, 2^30]: the cell is replayed by the JS kernel. */
 const OUT_OF_RANGE = -2;
 
@@ -372,6 +375,9 @@ export function compileWasmKernel(m: Model): WasmKernel {
     if (direct) {
       events = run(gridR.ptr, nGrid, out.byteOffset + 8 * o, 8 * B, maxEvents);
     } else {
+      // A large replay into the caller's own array would leave its copy in this kernel's memory
+      // for the model's lifetime: the JS kernel writes it in place instead (same samples).
+      if (nGrid * nS > MAX_COPY_VALUES) return replay(x, rs, grid, nGrid, out, o, B, maxEvents);
       reserve(copyR, nGrid * nS);
       events = run(gridR.ptr, nGrid, copyR.ptr, 8, maxEvents);
     }

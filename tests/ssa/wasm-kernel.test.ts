@@ -141,6 +141,18 @@ describe("wasm direct-method kernel", () => {
     expect(sameBits(b.out, a.out)).toBe(true);
   });
 
+  it("refuses a sample array too small for the grid, or one detached by memory growth, instead of writing nowhere", () => {
+    const m = compileModel(example("birth-death"));
+    const k = compileWasmKernel(m);
+    const small = sentinelGrid(100, 10);
+    const block = k.block(small.length - 1, small.length);
+    expect(k(Float64Array.from(m.initialCounts), cellRngState(1, 0), small, small.length - 1, block, 0, 1, 2e9)).toBeGreaterThan(0);
+    // A grid far larger than the room reserved makes the memory grow: the old view is detached.
+    const big = sentinelGrid(1e6, 1);
+    expect(() => k(Float64Array.from(m.initialCounts), cellRngState(1, 0), big, big.length - 1, block, 0, 1, 2e9)).toThrow(/too small/);
+    expect(() => k(Float64Array.from(m.initialCounts), cellRngState(1, 0), small, small.length - 1, new Float64Array(3), 0, 1, 2e9)).toThrow(/too small/);
+  });
+
   it("stops at maxEvents with −1, the same samples so far, final counts and generator state", () => {
     const m = compileModel(example("ring-timer"));
     const grid = sentinelGrid(2000, 1);
