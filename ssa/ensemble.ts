@@ -128,7 +128,7 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
   // The sample block is reused across calls on the same model (simulateCells is synchronous).
   const need = nPoints * B;
   // A wasm kernel lends a block in its own memory, which it writes without a copy.
-  const out = kernel.block ? kernel.block(need, gridS.length) : m.scratch.block && m.scratch.block.length >= need ? m.scratch.block : (m.scratch.block = new Float64Array(need));
+  const out = kernel.block?.(need, gridS.length) ?? (m.scratch.block && m.scratch.block.length >= need ? m.scratch.block : (m.scratch.block = new Float64Array(need)));
   let hist: HistogramCSR | null = null;
   const scratch = new Float64Array(nT);
   const x = new Float64Array(nS);

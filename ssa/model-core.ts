@@ -117,7 +117,7 @@ export type KernelFn = (
 ) => number;
 
 /** A kernel that can also lend its own sample block (ssa/wasm-kernel.ts: a view over its memory, written without a copy). */
-export type BlockKernelFn = KernelFn & { block?: (values: number, gridLength: number) => Float64Array };
+export type BlockKernelFn = KernelFn & { block?: (values: number, gridLength: number) => Float64Array | null };
 
 /** x^n for a non-negative base; repeated squaring for integer n (SCIENCE.md: integer powers). */
 export function powNonNeg(x: number, n: number): number {

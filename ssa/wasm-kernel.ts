@@ -27,9 +27,10 @@ export interface WasmKernel extends DirectKernel {
   /**
    * A Float64Array of `values` elements inside the kernel's memory, with room for a grid of
    * `gridLength` times reserved first, so that kernel calls on that grid write samples into it
-   * without a copy. Valid until the next call of `block` (memory may grow then).
+   * without a copy. Valid until the next call of `block` (memory may grow then); null when the
+   * memory cannot grow that far.
    */
-  block(values: number, gridLength: number): Float64Array;
+  block(values: number, gridLength: number): Float64Array | null;
 }
 
 const LN2 = 0.6931471805599453;
@@ -392,9 +393,13 @@ export function compileWasmKernel(m: Model): WasmKernel {
     }
     return events;
   }) as WasmKernel;
-  kernel.block = (values: number, gridLength: number): Float64Array => {
-    reserve(gridR, gridLength);
-    reserve(blockR, values);
+  kernel.block = (values: number, gridLength: number): Float64Array | null => {
+    try {
+      reserve(gridR, gridLength);
+      reserve(blockR, values);
+    } catch {
+      return null; // the memory cannot grow that far (wasm32: at most 4 GB): the caller uses its own array
+    }
     return new Float64Array(memory.buffer, blockR.ptr, values);
   };
   return kernel;

@@ -145,7 +145,8 @@ describe("wasm direct-method kernel", () => {
     const m = compileModel(example("birth-death"));
     const k = compileWasmKernel(m);
     const small = sentinelGrid(100, 10);
-    const block = k.block(small.length - 1, small.length);
+    const block = k.block(small.length - 1, small.length) as Float64Array;
+    expect(block).not.toBeNull();
     expect(k(Float64Array.from(m.initialCounts), cellRngState(1, 0), small, small.length - 1, block, 0, 1, 2e9)).toBeGreaterThan(0);
     // A grid far larger than the room reserved makes the memory grow: the old view is detached.
     const big = sentinelGrid(1e6, 1);
