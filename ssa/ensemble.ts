@@ -7,7 +7,7 @@
  */
 import { makeGrid } from "./grid";
 import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type DirectKernel } from "./kernel";
-import type { Model } from "./model-core";
+import type { BlockKernelFn, Model } from "./model-core";
 import { ACF_MAX_CELLS, acfRange, addCellLagSums, countAcfCell, makeAcfSums } from "./oscillation";
 import { cellRngState } from "./rng";
 import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
@@ -16,9 +16,14 @@ import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
+import { canCompileWasmKernel, compileWasmKernel } from "./wasm-kernel";
 import { makeWarning, type EngineWarning } from "./warnings";
 
 export type StochasticMethod = "ssa" | "tau";
+
+/** Kernel choices of EnsembleOptions.kernel. */
+export const ENGINE_KERNELS = ["wasm", "generated", "generic"] as const;
+export type EngineKernel = (typeof ENGINE_KERNELS)[number];
 
 export interface EnsembleOptions {
   method: StochasticMethod;
@@ -30,8 +35,12 @@ export interface EnsembleOptions {
   burnIn?: number;
   /** Events allowed per cell before the run is stopped as runaway; default 2e9. */
   maxEventsPerCell?: number;
-  /** "generated" (default when possible) or "generic" kernel, for either method. */
-  kernel?: "generated" | "generic";
+  /**
+   * Direct method: "wasm" (default when canCompileWasmKernel, ssa/wasm-kernel.ts), "generated"
+   * (JS source per circuit) or "generic"; all give the same samples. Tau-leaping: "generic" or
+   * the generated kernel (for "wasm" too).
+   */
+  kernel?: EngineKernel;
   /** ε of the tau-leaping step selection (ssa/tau.ts); default TAU_EPSILON. Ignored by ssa. */
   tauEpsilon?: number;
   /** Minimum width of a cell's hysteresis band, in molecules, for its periods to count; default 2. */
@@ -57,7 +66,7 @@ function withSentinel(grid: Float64Array): Float64Array {
 }
 
 /** The kernel for a model and method, compiled once per model object. */
-export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel" | "tauEpsilon">): DirectKernel {
+export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel" | "tauEpsilon">): BlockKernelFn {
   if (o.method === "tau") {
     const epsilon = o.tauEpsilon ?? TAU_EPSILON;
     const generic = o.kernel === "generic" || !canGenerateKernel(m);
@@ -68,7 +77,20 @@ export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel"
     return fn;
   }
   if (o.kernel === "generic" || !canGenerateKernel(m)) return (m.kernels.generic ??= directKernelGeneric(m));
+  if (o.kernel !== "generated") {
+    if (m.kernels.wasm === undefined) m.kernels.wasm = canCompileWasmKernel(m) ? wasmOrNull(m) : null;
+    if (m.kernels.wasm) return m.kernels.wasm;
+  }
   return (m.kernels.direct ??= compileDirectKernel(m));
+}
+
+/** The wasm kernel, or null when the host refuses the module (e.g. a browser's limit on synchronous compilation): the JS kernel then runs, with the same samples. */
+function wasmOrNull(m: Model): DirectKernel | null {
+  try {
+    return compileWasmKernel(m);
+  } catch {
+    return null;
+  }
 }
 
 function checkOptions(m: Model, o: EnsembleOptions): void {
@@ -105,7 +127,8 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
 
   // The sample block is reused across calls on the same model (simulateCells is synchronous).
   const need = nPoints * B;
-  const out = m.scratch.block && m.scratch.block.length >= need ? m.scratch.block : (m.scratch.block = new Float64Array(need));
+  // A wasm kernel lends a block in its own memory, which it writes without a copy.
+  const out = kernel.block?.(need, gridS.length) ?? (m.scratch.block && m.scratch.block.length >= need ? m.scratch.block : (m.scratch.block = new Float64Array(need)));
   let hist: HistogramCSR | null = null;
   const scratch = new Float64Array(nT);
   const x = new Float64Array(nS);

@@ -11,6 +11,8 @@
  *   tables; the waiting time's logarithm is ssa/rng.ts exponentialOfWord, inlined.
  * - `directKernelGeneric`: the same algorithm over typed arrays, for very large networks and as an
  *   independent check of the generated one.
+ * ssa/wasm-kernel.ts emits the generated kernel's algorithm as WebAssembly, operation for
+ * operation; a change here goes there too (tests/ssa/wasm-kernel.test.ts compares them bitwise).
  * Both consume the random stream identically (two words per event: τ first, then the reaction)
  * and compute τ by the same arithmetic, so they give the same path for the same state up to
  * round-off in the propensities.

@@ -99,7 +99,7 @@ export interface Model {
   /** Propensity of reaction j alone (molecules per model time) at counts x. */
   propensity(j: number, x: Float64Array): number;
   /** Kernels compiled on first use for this model (see ssa/ensemble.ts kernelFor). */
-  kernels: { direct?: KernelFn; generic?: KernelFn; tau?: { epsilon: number; generic: boolean; fn: KernelFn } };
+  kernels: { direct?: KernelFn; generic?: KernelFn; wasm?: KernelFn | null; tau?: { epsilon: number; generic: boolean; fn: KernelFn } };
   /** Scratch buffers reused by successive synchronous calls on this model (ssa/ensemble.ts). */
   scratch: { block?: Float64Array };
 }
@@ -115,6 +115,9 @@ export type KernelFn = (
   B: number,
   maxEvents: number,
 ) => number;
+
+/** A kernel that can also lend its own sample block (ssa/wasm-kernel.ts: a view over its memory, written without a copy). */
+export type BlockKernelFn = KernelFn & { block?: (values: number, gridLength: number) => Float64Array | null };
 
 /** x^n for a non-negative base; repeated squaring for integer n (SCIENCE.md: integer powers). */
 export function powNonNeg(x: number, n: number): number {

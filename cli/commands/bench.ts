@@ -8,7 +8,7 @@ import { performance } from "node:perf_hooks";
 import { Worker } from "node:worker_threads";
 
 import { noFormulas, parseCircuitWith } from "@/lib/schemas/circuit-rules";
-import { simulateCells, summarize } from "@/ssa/ensemble";
+import { ENGINE_KERNELS, simulateCells, summarize, type EngineKernel } from "@/ssa/ensemble";
 import type { Partial } from "@/ssa/stats";
 import { compileParsedModel } from "@/ssa/model-core";
 import { runSimulation } from "@/ssa/node/run-lazy";
@@ -40,11 +40,11 @@ interface Timing {
   cpuS: number;
 }
 
-function timeCells(circuit: Circuit, method: "ssa" | "tau", tEnd: number, dt: number, cells: number, seed: number): Timing {
+function timeCells(circuit: Circuit, method: "ssa" | "tau", tEnd: number, dt: number, cells: number, seed: number, kernel?: EngineKernel): Timing {
   const model = compileModel(circuit);
   const c0 = process.cpuUsage();
   const t0 = performance.now();
-  const p = simulateCells(model, { method, tEnd, dt, seed }, 0, cells);
+  const p = simulateCells(model, { method, tEnd, dt, seed, kernel }, 0, cells);
   const wallS = (performance.now() - t0) / 1000;
   const c = process.cpuUsage(c0);
   return { events: p.events, wallS, cpuS: (c.user + c.system) / 1e6 };
@@ -56,15 +56,15 @@ function median(xs: number[]): number {
   return s.length % 2 ? (s[m] as number) : ((s[m - 1] as number) + (s[m] as number)) / 2;
 }
 
-function throughput(repeat: number) {
+function throughput(repeat: number, kernel?: EngineKernel) {
   return BENCH_CIRCUITS.map((b) => {
     const circuit = loadExample(b.file);
-    timeCells(circuit, "ssa", b.tEnd / 10, b.dt, 1, 999); // warm-up: compile and optimise the kernel
+    timeCells(circuit, "ssa", b.tEnd / 10, b.dt, 1, 999, kernel); // warm-up: compile and optimise the kernel
     const rates: number[] = [];
     const cpuRates: number[] = [];
     let events = 0;
     for (let r = 0; r < repeat; r++) {
-      const t = timeCells(circuit, "ssa", b.tEnd, b.dt, b.cells, 1 + r);
+      const t = timeCells(circuit, "ssa", b.tEnd, b.dt, b.cells, 1 + r, kernel);
       rates.push(t.events / t.wallS);
       cpuRates.push(t.events / t.cpuS);
       events = t.events;
@@ -73,6 +73,7 @@ function throughput(repeat: number) {
       circuit: b.name,
       file: `examples/${b.file}`,
       method: "ssa",
+      kernel: kernel ?? "default",
       cells: b.cells,
       t_end: b.tEnd,
       dt: b.dt,
@@ -247,6 +248,8 @@ per thread as JSON (best and median of --repeat runs).
 
 Options:
   --repeat N     runs per circuit (default 5; each is 5-6 million events)
+  --kernel K     direct-method kernel of the circuits: wasm, generated or generic (default: wasm
+                 where the circuit allows it, else generated; all give the same samples)
   --ensemble     also time 1,000 cells of the ring timer for 2,000 min at dt 1 (wall time, peak RSS)
   --threads K    threads for --ensemble (default 2)
   --tau          also compare tau-leaping (ε = 0.03, 0.05, 0.07, 0.1) with the direct method on
@@ -256,13 +259,16 @@ Options:
   --all          all of the above
   --out FILE     write the JSON there instead of stdout`,
   async run(argv) {
-    const flags = parseFlags(argv, { repeat: "string", ensemble: "boolean", tau: "boolean", rng: "boolean", all: "boolean", threads: "string", out: "string" }, "bench");
+    const flags = parseFlags(argv, { repeat: "string", ensemble: "boolean", tau: "boolean", rng: "boolean", all: "boolean", threads: "string", out: "string", kernel: "string" }, "bench");
+    const kernelFlag = flags.values.kernel as string | undefined;
+    if (kernelFlag !== undefined && !(ENGINE_KERNELS as readonly string[]).includes(kernelFlag)) throw new CliError(`--kernel: must be one of ${ENGINE_KERNELS.join(", ")}, got ${kernelFlag}`);
+    const kernel = kernelFlag as EngineKernel | undefined;
     const repeat = numberFlag(flags, "repeat") ?? 5;
     if (!Number.isInteger(repeat) || repeat < 1 || repeat > 100) throw new CliError("--repeat: must be an integer from 1 to 100");
     const threads = numberFlag(flags, "threads") ?? 2;
     if (!Number.isInteger(threads) || threads < 1 || threads > 256) throw new CliError("--threads: must be an integer from 1 to 256");
     const all = flags.values.all === true;
-    const result: Record<string, unknown> = { unit: "reaction events per second per thread", node: process.version, circuits: throughput(repeat) };
+    const result: Record<string, unknown> = { unit: "reaction events per second per thread", node: process.version, circuits: throughput(repeat, kernel) };
     if (all || flags.values.tau) result.tau = tauVersusDirect(100, 64, 600, [0.03, 0.05, 0.07, 0.1], Math.min(repeat, 3));
     if (all || flags.values.rng) result.generators = await generators(5e7);
     if (all || flags.values.ensemble) result.ensemble = await ensemble(threads);

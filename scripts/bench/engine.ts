@@ -8,8 +8,10 @@
 // `gcc -O3 -march=native` into a temporary folder. Without the file or gcc the figures of the
 // engine are still printed, with "ratio not measured" and the reason.
 //
-// Usage: node --import tsx scripts/bench/engine.ts [--repeat N] [--ref FILE] [--cells N] [--out FILE]
+// Usage: node --import tsx scripts/bench/engine.ts [--repeat N] [--ref FILE] [--cells N] [--kernel K] [--out FILE]
 //   --cells N   cells of the ensemble (default 1000, the issue's figure; the tests use fewer)
+//   --kernel K  direct-method kernel of the events/s figures: wasm, generated or generic (default:
+//               the engine's choice, wasm where the circuit allows it); the ensemble uses the default
 // Prints JSON.
 import { execFileSync, spawnSync } from "node:child_process";
 import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from "node:fs";
@@ -60,8 +62,8 @@ function cli(args: string[]): string {
 }
 
 /** `cli bench --repeat 3` (best of three, after its warm-up): events/s per thread of the engine's circuits, by name. */
-function engineThroughput(): Map<string, number> {
-  const out = JSON.parse(cli(["bench", "--repeat", "3"])) as { circuits: { circuit: string; events_per_s_per_thread: number }[] };
+function engineThroughput(kernel: string | undefined): Map<string, number> {
+  const out = JSON.parse(cli(["bench", "--repeat", "3", ...(kernel ? ["--kernel", kernel] : [])])) as { circuits: { circuit: string; events_per_s_per_thread: number }[] };
   return new Map(out.circuits.map((c) => [c.circuit, c.events_per_s_per_thread]));
 }
 
@@ -86,6 +88,8 @@ function main(): void {
   const repeat = Number(argValue("--repeat") ?? 3);
   if (!Number.isInteger(repeat) || repeat < 1 || repeat > 20) throw new Error("--repeat: must be an integer from 1 to 20");
   const cells = Number(argValue("--cells") ?? 1000);
+  const kernel = argValue("--kernel");
+  if (kernel !== undefined && !["wasm", "generated", "generic"].includes(kernel)) throw new Error("--kernel: must be wasm, generated or generic");
   if (!Number.isInteger(cells) || cells < 1) throw new Error("--cells: must be a positive integer");
   const dir = mkdtempSync(join(tmpdir(), "burstwise-bench-"));
   try {
@@ -95,7 +99,7 @@ function main(): void {
     let ensemble: ReturnType<typeof engineEnsemble> | null = null;
     let cEnsembleRun: CResult | null = null;
     for (let r = 0; r < repeat; r++) {
-      const js = engineThroughput();
+      const js = engineThroughput(kernel);
       best.js10 = Math.max(best.js10, js.get("ring timer, 1 fL") ?? 0);
       best.js1 = Math.max(best.js1, js.get("ring timer, 1 fL, 1-min grid") ?? 0);
       if (c) {
@@ -119,6 +123,7 @@ function main(): void {
     const result = {
       reference: c ? { source: findReference(), build: "gcc -O3 -march=native" } : { note: (ref as { reason: string }).reason },
       repeats: repeat,
+      kernel: kernel ?? "default",
       direct_method_events_per_s_per_thread: {
         grid_10_min: { engine: best.js10, c: c ? best.c10 : null, ratio: ratio(best.js10, best.c10), target: `>= ${TARGETS.grid10}` },
         grid_1_min: { engine: best.js1, c: c ? best.c1 : null, ratio: ratio(best.js1, best.c1), target: `>= ${TARGETS.grid1}` },

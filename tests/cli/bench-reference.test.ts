@@ -32,6 +32,15 @@ describe("engine benchmark against ssa_ref.c", () => {
     expect(j.ensemble.ratio_to_c_half).toBeNull();
   });
 
+  it("--kernel takes wasm, generated or generic and refuses anything else, naming the flag", async () => {
+    const r = await bench("--kernel", "fastest");
+    expect(r.code).not.toBe(0);
+    expect(r.stderr).toContain("--kernel: must be wasm, generated or generic");
+    const c = spawnSync(process.execPath, ["--import", "tsx", "cli/index.ts", "bench", "--repeat", "1", "--kernel", "fastest"], { encoding: "utf8" });
+    expect(c.status).not.toBe(0);
+    expect(c.stderr).toContain("--kernel: must be one of wasm, generated, generic");
+  });
+
   it.skipIf(!existsSync(SHARED_REF) || !hasGcc)("with ../shared/bench/ssa_ref.c and gcc it prints the ratios of the same run", async () => {
     const r = await bench();
     expect(r.code, r.stderr).toBe(0);
