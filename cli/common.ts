@@ -158,18 +158,9 @@ export const SBML_IMPORT_BUDGET_MS = 10_000;
 
 /** SBML import lives in ssa/sbml.ts (deterministic side); loaded only for SBML input. */
 async function readSbml(text: string, path: string): Promise<ReadCircuit> {
-  let mod: Record<string, unknown>;
+  const { sbmlToCircuit } = await import("../ssa/sbml");
   try {
-    mod = (await import(new URL("../ssa/sbml.ts", import.meta.url).href)) as Record<string, unknown>;
-  } catch {
-    throw new CliError(`${path}: SBML input is not available in this build`, 1);
-  }
-  const fn = (mod.sbmlToCircuit ?? mod.importSbml ?? mod.parseSbml) as ((xml: string, options?: unknown) => unknown) | undefined;
-  if (typeof fn !== "function") throw new CliError(`${path}: SBML input is not available in this build`, 1);
-  try {
-    const c = fn(text, { timeBudget: { ms: SBML_IMPORT_BUDGET_MS, now: () => performance.now() } });
-    const json = (c as { circuit?: unknown }).circuit ?? c;
-    const warnings = (c as { warnings?: EngineWarning[] }).warnings ?? [];
+    const { circuit: json, warnings } = sbmlToCircuit(text, { timeBudget: { ms: SBML_IMPORT_BUDGET_MS, now: () => performance.now() } });
     return { circuit: parseCircuitWith(json, await formulaCheckerFor(json)), warnings };
   } catch (e) {
     if (e instanceof CircuitError) throw new CliError(e.message);

@@ -13,9 +13,8 @@ const COMMANDS: Record<string, () => Promise<{ command: Command }>> = {
   simulate: () => import("./commands/simulate"),
   trajectory: () => import("./commands/trajectory"),
   bench: () => import("./commands/bench"),
-  // Deterministic side (steady state, LNA, SBML): cli/commands/analyze.ts and convert.ts.
-  analyze: () => import(new URL("./commands/analyze.ts", import.meta.url).href) as Promise<{ command: Command }>,
-  convert: () => import(new URL("./commands/convert.ts", import.meta.url).href) as Promise<{ command: Command }>,
+  analyze: () => import("./commands/analyze"),
+  convert: () => import("./commands/convert"),
 };
 
 async function loadCommand(name: string): Promise<Command> {

@@ -31,6 +31,8 @@ try {
   // Next's generated route types are current; a type error fails `npm test`.
   typecheckFailed = extraArgs.length === 0 && !typecheck(["tsconfig.json", "ssa/tsconfig.json", "cli/tsconfig.json", "tests/tsconfig.json"]);
   const baseUrl = `http://127.0.0.1:${port}`;
+  // The command line's bundle, built once here rather than by the first of many CLI tests at once.
+  await (await import("./lib/engine-bundle.mjs")).engineBundle();
   // The mail fake on a spare port (side-by-side test runs must not share an inbox).
   mail = await startMailFake(databaseUrl, Number(process.env.MAIL_FAKE_PORT ?? (await freePort())));
   const env = {

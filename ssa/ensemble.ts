@@ -10,7 +10,8 @@ import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type Direc
 import type { BlockKernelFn, Model } from "./model-core";
 import { ACF_MAX_CELLS, acfRange, addCellLagSums, countAcfCell, makeAcfSums } from "./oscillation";
 import { cellRngState } from "./rng";
-import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, histogramsOfBlock, mergeHistograms, mergePartials, type HistogramCSR, type Partial, type SimulateSummary } from "./stats";
+import { HistogramAccumulator } from "./histogram-accumulator";
+import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, mergeCellPartsAll, withHistograms, type CellsPart, type Partial, type SimulateSummary } from "./stats";
 import { computeFinalIntervals, computeStationaryIntervals } from "./intervals";
 import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type BurnInChoice } from "./stationarity";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
@@ -45,7 +46,10 @@ export interface EnsembleOptions {
   tauEpsilon?: number;
   /** Minimum width of a cell's hysteresis band, in molecules, for its periods to count; default 2. */
   minPeriodBand?: number;
-  /** Cells simulated between histogram folds (memory ∝ block · grid points · species); default 256. */
+  /**
+   * Cells sampled into one block before it is added to the histograms (memory ∝ block · grid
+   * points · species); default 32, which keeps a 1,000-point, 3-species block within a core's cache.
+   */
   blockSize?: number;
 }
 
@@ -108,7 +112,50 @@ function checkOptions(m: Model, o: EnsembleOptions): void {
  * @throws RangeError for bad options; ModelInputError when a cell exceeds maxEventsPerCell.
  */
 export function simulateCells(m: Model, o: EnsembleOptions, first: number, last: number): Partial {
-  checkOptions(m, o);
+  const folder = new CellsFolder(m, o);
+  folder.add(first, last);
+  return folder.result() as Partial;
+}
+
+/**
+ * Folds chunks of cells of one run, in any order, into one Partial: every chunk's samples go into
+ * one histogram accumulator (no per-chunk histograms to merge), the per-cell parts are joined at
+ * the end. result() equals mergePartials over simulateCells of the same chunks.
+ */
+export class CellsFolder {
+  private readonly acc: HistogramAccumulator;
+  private parts: CellsPart[] = [];
+
+  constructor(
+    private readonly m: Model,
+    private readonly o: EnsembleOptions,
+  ) {
+    checkOptions(m, o);
+    this.acc = new HistogramAccumulator(makeGrid(o.tEnd, o.dt).length * m.nSpecies);
+  }
+
+  /** Cells folded so far. */
+  get cells(): number {
+    return this.parts.reduce((n, p) => n + p.cells, 0);
+  }
+
+  /**
+   * Simulates cells [first, last) into the fold.
+   * @throws RangeError for a bad range; ModelInputError when a cell exceeds maxEventsPerCell.
+   */
+  add(first: number, last: number): void {
+    this.parts.push(simulateCellsInto(this.m, this.o, first, last, this.acc));
+  }
+
+  /** The partial of every chunk added, or null when none was. */
+  result(): Partial | null {
+    if (this.parts.length === 0) return null;
+    return withHistograms(mergeCellPartsAll(this.parts), this.acc.toCSR());
+  }
+}
+
+/** Cells [first, last): their samples added to `acc`, everything else of their partial returned. */
+function simulateCellsInto(m: Model, o: EnsembleOptions, first: number, last: number, acc: HistogramAccumulator): CellsPart {
   if (!(Number.isSafeInteger(first) && Number.isSafeInteger(last) && 0 <= first && first < last)) {
     throw new RangeError(`cell range must satisfy 0 <= first < last, got [${first}, ${last})`);
   }
@@ -117,7 +164,7 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
   const nT = grid.length;
   const nS = m.nSpecies;
   const nPoints = nT * nS;
-  const B = Math.max(1, Math.min(o.blockSize ?? 256, last - first));
+  const B = Math.max(1, Math.min(o.blockSize ?? 32, last - first));
   const kernel = kernelFor(m, o);
   const maxEvents = o.maxEventsPerCell ?? DEFAULT_MAX_EVENTS;
   const burnIn = burnInOf(o);
@@ -129,7 +176,6 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
   const need = nPoints * B;
   // A wasm kernel lends a block in its own memory, which it writes without a copy.
   const out = kernel.block?.(need, gridS.length) ?? (m.scratch.block && m.scratch.block.length >= need ? m.scratch.block : (m.scratch.block = new Float64Array(need)));
-  let hist: HistogramCSR | null = null;
   const scratch = new Float64Array(nT);
   const x = new Float64Array(nS);
   const periods: number[][] = Array.from({ length: nS }, () => []);
@@ -169,17 +215,14 @@ export function simulateCells(m: Model, o: EnsembleOptions, first: number, last:
       }
       if (cell < ACF_MAX_CELLS) countAcfCell(acf);
     }
-    const h = histogramsOfBlock(out, nPoints, B, nb);
-    hist = hist ? mergeHistograms(hist, h, nPoints) : h;
+    acc.addBlock(out, B, nb);
   }
-  const csr = hist as HistogramCSR;
   return {
     format: PARTIAL_FORMAT,
     nSpecies: nS,
     nTimes: nT,
     cells: last - first,
     events,
-    ...csr,
     segments: [
       {
         first,
@@ -266,12 +309,9 @@ function finalizeSummaryOf(m: Model, o: EnsembleOptions, partial: Partial, ctx: 
  */
 export function simulateEnsemble(m: Model, o: EnsembleOptions, runs: number, ctx: SummaryContext & { chunk?: number } = {}): SimulateSummary {
   if (!(Number.isSafeInteger(runs) && runs >= 1)) throw new RangeError(`runs must be a positive integer, got ${runs}`);
-  let acc: Partial | null = null;
-  for (const [a, b] of chunkRanges(runs, ctx.chunk ?? 1000)) {
-    const p = simulateCells(m, o, a, b);
-    acc = acc ? mergePartials(acc, p) : p;
-  }
-  return summarize(m, o, acc as Partial, ctx);
+  const folder = new CellsFolder(m, o);
+  for (const [a, b] of chunkRanges(runs, ctx.chunk ?? 1000)) folder.add(a, b);
+  return summarize(m, o, folder.result() as Partial, ctx);
 }
 
 export interface TrajectoryResult {

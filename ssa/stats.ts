@@ -61,6 +61,9 @@ export interface Partial {
   acf?: AcfSums;
 }
 
+/** A Partial without its histograms: what a chunk gives when its samples went into a shared accumulator (ssa/histogram-accumulator.ts). */
+export type CellsPart = Omit<Partial, keyof HistogramCSR>;
+
 /** Sparse histograms of every grid point in CSR form (see Partial). */
 export interface HistogramCSR {
   histPtr: Float64Array;
@@ -219,25 +222,53 @@ function concatF64(a: Float64Array, b: Float64Array): Float64Array {
   return out;
 }
 
-function joinSegments(a: PeriodSegment, b: PeriodSegment): PeriodSegment {
+/** Concatenation of the arrays `pick` gives for each list, or undefined when any list lacks one. */
+function concatAll(lists: CellSeriesList[], pick: (l: CellSeriesList) => Float64Array | undefined): Float64Array | undefined {
+  let n = 0;
+  for (const l of lists) {
+    const a = pick(l);
+    if (!a) return undefined;
+    n += a.length;
+  }
+  const out = new Float64Array(n);
+  let at = 0;
+  for (const l of lists) {
+    const a = pick(l) as Float64Array;
+    out.set(a, at);
+    at += a.length;
+  }
+  return out;
+}
+
+/** One segment of contiguous segments in cell order, each array copied once (joining pairwise would copy the growing front again for every segment). */
+export function joinRun(run: PeriodSegment[]): PeriodSegment {
   return {
-    first: a.first,
-    last: b.last,
-    species: a.species.map((sa, i) => {
-      const sb = b.species[i];
-      const base = sa.cellPtr[sa.cellPtr.length - 1];
-      const ptr = new Float64Array(sa.cellPtr.length + sb.cellPtr.length - 1);
-      ptr.set(sa.cellPtr, 0);
-      for (let k = 1; k < sb.cellPtr.length; k++) ptr[sa.cellPtr.length - 1 + k] = base + sb.cellPtr[k];
-      const joined: CellSeriesList = { cellPtr: ptr, periods: concatF64(sa.periods, sb.periods), amplitudes: concatF64(sa.amplitudes, sb.amplitudes) };
-      // Per-cell sums survive a join only when both sides carry them (cell order is kept).
-      if (sa.sum && sb.sum && sa.sumSq && sb.sumSq) {
-        joined.sum = concatF64(sa.sum, sb.sum);
-        joined.sumSq = concatF64(sa.sumSq, sb.sumSq);
+    first: run[0].first,
+    last: run[run.length - 1].last,
+    species: run[0].species.map((_, i) => {
+      const lists = run.map((sg) => sg.species[i]);
+      const cells = lists.reduce((n, l) => n + l.cellPtr.length - 1, 0);
+      const ptr = new Float64Array(cells + 1);
+      let at = 0;
+      let base = 0;
+      for (const l of lists) {
+        for (let k = 1; k < l.cellPtr.length; k++) ptr[at + k] = base + l.cellPtr[k];
+        at += l.cellPtr.length - 1;
+        base += l.cellPtr[l.cellPtr.length - 1];
       }
-      if (sa.sumHead && sb.sumHead && sa.sumTail && sb.sumTail) {
-        joined.sumHead = concatF64(sa.sumHead, sb.sumHead);
-        joined.sumTail = concatF64(sa.sumTail, sb.sumTail);
+      const joined: CellSeriesList = { cellPtr: ptr, periods: concatAll(lists, (l) => l.periods) as Float64Array, amplitudes: concatAll(lists, (l) => l.amplitudes) as Float64Array };
+      // Per-cell sums survive a join only when every side carries them (cell order is kept).
+      const sum = concatAll(lists, (l) => l.sum);
+      const sumSq = concatAll(lists, (l) => l.sumSq);
+      if (sum && sumSq) {
+        joined.sum = sum;
+        joined.sumSq = sumSq;
+      }
+      const sumHead = concatAll(lists, (l) => l.sumHead);
+      const sumTail = concatAll(lists, (l) => l.sumTail);
+      if (sumHead && sumTail) {
+        joined.sumHead = sumHead;
+        joined.sumTail = sumTail;
       }
       return joined;
     }),
@@ -250,28 +281,77 @@ function joinSegments(a: PeriodSegment, b: PeriodSegment): PeriodSegment {
  * @throws RangeError when shapes differ or cell ranges overlap.
  */
 export function mergePartials(a: Partial, b: Partial): Partial {
+  const part = mergeCellParts(a, b);
+  return withHistograms(part, mergeHistograms(a, b, a.nSpecies * a.nTimes));
+}
+
+/** mergePartials of everything but the histograms (the same checks, the same order-independence). */
+export function mergeCellParts(a: CellsPart, b: CellsPart): CellsPart {
   if (a.nSpecies !== b.nSpecies || a.nTimes !== b.nTimes) throw new RangeError("mergePartials: partials of different shapes");
-  const hist = mergeHistograms(a, b, a.nSpecies * a.nTimes);
-  const all = [...a.segments, ...b.segments].sort((x, y) => x.first - y.first);
-  const segments: PeriodSegment[] = [];
-  for (const s of all) {
-    const prev = segments[segments.length - 1];
-    if (prev && s.first < prev.last) throw new RangeError(`mergePartials: cell ranges overlap at cell ${s.first}`);
-    if (prev && prev.last === s.first) segments[segments.length - 1] = joinSegments(prev, s);
-    else segments.push(s);
-  }
-  const merged: Partial = {
+  const segments = joinContiguous([...a.segments, ...b.segments]);
+  const merged: CellsPart = {
     format: PARTIAL_FORMAT,
     nSpecies: a.nSpecies,
     nTimes: a.nTimes,
     cells: a.cells + b.cells,
     events: a.events + b.events,
-    ...hist,
     segments,
   };
   if (a.cellSamples !== undefined && a.cellSamples === b.cellSamples) merged.cellSamples = a.cellSamples;
   if (a.acf && b.acf) merged.acf = mergeAcfSums(a.acf, b.acf);
   return merged;
+}
+
+/** Segments sorted by first cell, each contiguous run joined into one. @throws RangeError when two overlap. */
+function joinContiguous(segments: PeriodSegment[]): PeriodSegment[] {
+  const all = [...segments].sort((x, y) => x.first - y.first);
+  const out: PeriodSegment[] = [];
+  let run: PeriodSegment[] = [];
+  for (const s of all) {
+    const prev = run[run.length - 1];
+    if (prev && s.first < prev.last) throw new RangeError(`mergePartials: cell ranges overlap at cell ${s.first}`);
+    if (prev && prev.last !== s.first) {
+      out.push(run.length === 1 ? run[0] : joinRun(run));
+      run = [];
+    }
+    run.push(s);
+  }
+  if (run.length) out.push(run.length === 1 ? run[0] : joinRun(run));
+  return out;
+}
+
+/** mergeCellParts of many parts at once: each contiguous run of cells is copied once. @throws RangeError as mergeCellParts. */
+export function mergeCellPartsAll(parts: CellsPart[]): CellsPart {
+  const first = parts[0];
+  for (const b of parts) {
+    if (first.nSpecies !== b.nSpecies || first.nTimes !== b.nTimes) throw new RangeError("mergePartials: partials of different shapes");
+  }
+  const segments = joinContiguous(parts.flatMap((p) => p.segments));
+  const merged: CellsPart = {
+    format: PARTIAL_FORMAT,
+    nSpecies: first.nSpecies,
+    nTimes: first.nTimes,
+    cells: parts.reduce((n, p) => n + p.cells, 0),
+    events: parts.reduce((n, p) => n + p.events, 0),
+    segments,
+  };
+  const samples = parts[0].cellSamples;
+  if (samples !== undefined && parts.every((p) => p.cellSamples === samples)) merged.cellSamples = samples;
+  if (parts.every((p) => p.acf)) {
+    let acf = parts[0].acf as AcfSums;
+    for (let k = 1; k < parts.length; k++) acf = mergeAcfSums(acf, parts[k].acf as AcfSums);
+    merged.acf = acf;
+  }
+  return merged;
+}
+
+/** The Partial of `part` and its histograms, fields in the order a Partial always has them (its serialized bytes do not depend on how it was made). */
+export function withHistograms(part: CellsPart, hist: HistogramCSR): Partial {
+  const { format, nSpecies, nTimes, cells, events, segments, cellSamples, acf } = part;
+  const p: Partial = { format, nSpecies, nTimes, cells, events, histPtr: hist.histPtr, histValues: hist.histValues, histCounts: hist.histCounts, segments };
+  if (cellSamples !== undefined) p.cellSamples = cellSamples;
+  if (acf !== undefined) p.acf = acf;
+  return p;
 }
 
 /** Sample quantile, linear interpolation between order statistics (Hyndman & Fan 1996, type 7; R's default). */

@@ -2,7 +2,7 @@
  * `bench`: throughput of the stochastic engine on the shipped benchmark circuits, in reaction events
  * per second per thread (CONTRACT.md §2), plus optional ensemble, tau-leaping and generator figures.
  */
-import { readFileSync } from "node:fs";
+import { existsSync, readFileSync } from "node:fs";
 import { createRequire } from "node:module";
 import { performance } from "node:perf_hooks";
 import { Worker } from "node:worker_threads";
@@ -24,9 +24,17 @@ const BENCH_CIRCUITS = [
   { name: "two-stage reporter", file: "two-stage-reporter.circuit.json", tEnd: 2000, dt: 10, cells: 60 },
 ];
 
+/** The project's examples/ folder: up from this file (cli/commands/, or the engine bundle in .cache/) to the folder that holds it. */
+function examplesDir(): URL {
+  for (let dir = new URL("./", import.meta.url); dir.pathname !== "/"; dir = new URL("../", dir)) {
+    if (existsSync(new URL("examples/ring-timer.circuit.json", dir))) return new URL("examples/", dir);
+  }
+  throw new CliError("bench: cannot find the examples folder", 1);
+}
+
 function loadExample(file: string): Circuit {
   // The benchmark circuits have no formulas, so the formula parser is never loaded.
-  return parseCircuitWith(JSON.parse(readFileSync(new URL(`../../examples/${file}`, import.meta.url), "utf8")), noFormulas);
+  return parseCircuitWith(JSON.parse(readFileSync(new URL(file, examplesDir()), "utf8")), noFormulas);
 }
 
 function compileModel(c: Circuit) {

@@ -55,7 +55,7 @@ async function main() {
       let identical = true;
       for (const d of cmp.designs) {
         const c0 = performance.now();
-        const cli = spawnSync(process.execPath, ["--import", "tsx", "cli/index.ts", "simulate", "examples/ring-timer.circuit.json",
+        const cli = spawnSync(process.execPath, ["scripts/cli.mjs", "simulate", "examples/ring-timer.circuit.json",
           "--set", `g=${d.values.g}`, "--runs", String(CELLS), "--t-end", String(T_END), "--dt", String(DT), "--seed", String(d.run.seed), "--threads", "2"],
         { encoding: "utf8", maxBuffer: 1 << 30 });
         cliS.push((performance.now() - c0) / 1000);

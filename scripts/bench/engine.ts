@@ -58,7 +58,7 @@ function runC(binary: string, args: string[]): CResult {
 }
 
 function cli(args: string[]): string {
-  return execFileSync(process.execPath, ["--import", "tsx", join(ROOT, "cli/index.ts"), ...args], { cwd: ROOT, encoding: "utf8", maxBuffer: 1 << 28 });
+  return execFileSync(process.execPath, [join(ROOT, "scripts/cli.mjs"), ...args], { cwd: ROOT, encoding: "utf8", maxBuffer: 1 << 28 });
 }
 
 /** `cli bench --repeat 3` (best of three, after its warm-up): events/s per thread of the engine's circuits, by name. */
@@ -70,7 +70,7 @@ function engineThroughput(kernel: string | undefined): Map<string, number> {
 /** Elapsed time and peak RSS of one `cli simulate` process (start-up included). */
 function engineEnsemble(dir: string, cells: number): { elapsed_s: number; peak_rss_mb: number | null; wall_s: number; events: number } {
   const out = join(dir, "ensemble.json");
-  const args = ["--import", "tsx", join(ROOT, "cli/index.ts"), "simulate", join(ROOT, "examples/ring-timer.circuit.json"), "--runs", String(cells), "--t-end", "2000", "--dt", "1", "--threads", "2", "--seed", "7", "--out", out];
+  const args = [join(ROOT, "scripts/cli.mjs"), "simulate", join(ROOT, "examples/ring-timer.circuit.json"), "--runs", String(cells), "--t-end", "2000", "--dt", "1", "--threads", "2", "--seed", "7", "--out", out];
   // GNU time reports the child's peak RSS; without it only the elapsed time is measured.
   const useTime = existsSync("/usr/bin/time");
   const t0 = performance.now();

@@ -51,7 +51,7 @@ async function main() {
     }
 
     const c0 = performance.now();
-    const cli = spawnSync(process.execPath, ["--import", "tsx", "cli/index.ts", "simulate", "examples/ring-timer.circuit.json",
+    const cli = spawnSync(process.execPath, ["scripts/cli.mjs", "simulate", "examples/ring-timer.circuit.json",
       "--runs", String(CELLS), "--t-end", String(T_END), "--dt", String(DT), "--seed", String(SEED), "--threads", "2"], { encoding: "utf8", maxBuffer: 1 << 30 });
     const cliWallS = (performance.now() - c0) / 1000;
     const cliJson = JSON.parse(cli.stdout);

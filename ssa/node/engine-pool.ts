@@ -11,7 +11,7 @@ import { Piscina } from "piscina";
 import { SLOT_STARTED, type EngineOutcome, type EngineTask } from "./engine-protocol";
 
 export interface EnginePoolOptions {
-  /** Absolute path of ssa/node/engine-task.ts (a bundled server cannot find it from import.meta.url). */
+  /** Absolute path of ssa/node/engine-task.ts, or of its bundled engine-task.mjs (a bundled server cannot find it from import.meta.url). */
   filename: string;
   /** Threads computing at once. */
   threads: number;
@@ -59,7 +59,8 @@ export class EnginePool {
       maxThreads: o.threads,
       // Threads load the formula parser once (about a second); keep them for the next request.
       idleTimeout: o.idleTimeoutMs ?? 5 * 60_000,
-      execArgv: ["--import", "tsx"],
+      // TypeScript sources need the loader in the thread; the engine bundle is plain JavaScript.
+      execArgv: o.filename.endsWith(".ts") ? ["--import", "tsx"] : [],
       ...(o.maxHeapMb !== undefined ? { resourceLimits: { maxOldGenerationSizeMb: o.maxHeapMb } } : {}),
     });
   }

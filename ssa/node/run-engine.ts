@@ -18,10 +18,13 @@ import { EnginePool } from "./engine-pool";
 import type { ChunkEncoding, EngineTask, FinalizeContext } from "./engine-protocol";
 import { computeEngineTask } from "./engine-task";
 import { getBurnIn, getModel } from "./model-cache";
-import { claimChunk, computeChunk, type RunResult, type StoredChunk } from "./run-steps";
+import { chunkFolder, claimChunk, type RunResult, type StoredChunk } from "./run-steps";
 
 export { decodeChunk, encodeChunk, mergeChunks, type RunResult, type StoredChunk } from "./run-steps";
 export type { FinalizeContext } from "./engine-protocol";
+
+/** The pool threads' module: the TypeScript source, or its bundled sibling when this file runs from the engine bundle (scripts/lib/engine-bundle.mjs). */
+const ENGINE_TASK = import.meta.url.endsWith(".ts") ? "./engine-task.ts" : "./engine-task.mjs";
 
 /** Default thread count: all cores (CONTRACT.md `--threads`). */
 export const defaultThreads = (): number => Math.max(1, availableParallelism());
@@ -32,7 +35,7 @@ export const defaultThreads = (): number => Math.max(1, availableParallelism());
  */
 export function createRunPool(threads: number, o: { minThreads?: number } = {}): EnginePool {
   return new EnginePool({
-    filename: fileURLToPath(new URL("./engine-task.ts", import.meta.url)),
+    filename: fileURLToPath(new URL(ENGINE_TASK, import.meta.url)),
     threads, maxQueue: Infinity, maxWaitMs: Infinity, idleTimeoutMs: 60_000, minThreads: o.minThreads ?? 0,
   });
 }
@@ -111,17 +114,25 @@ export async function simulateRun(circuit: Circuit, o: EngineOptions & SimulateR
   ensembleOptionsOf(options); // a stochastic run needs a seed
   makeGrid(options.tEnd, options.dt); // validates before any thread starts
   const model = await getModel(circuit, options.overrides); // bad input fails here, before any thread starts
-  // Chosen once here and handed to the chunks, so no thread looks for the steady state again.
-  const fixed: EngineOptions = { ...options, burnIn: (await getBurnIn(model, options)).burnIn };
   const runs = options.runs ?? 1;
   const threads = Math.max(1, Math.min(wanted ?? defaultThreads(), runs));
+  const workers = threads - 1;
+  // The pool's threads start now (minThreads), loading the engine while this thread looks for
+  // the steady state behind the burn-in.
+  const pool = workers > 0 ? createRunPool(workers, { minThreads: workers }) : null;
+  let fixed: EngineOptions;
+  try {
+    // Chosen once here and handed to the chunks, so no thread looks for the steady state again.
+    fixed = { ...options, burnIn: (await getBurnIn(model, options)).burnIn };
+  } catch (e) {
+    await pool?.close();
+    throw e;
+  }
   const chunk = chunkSize ?? Math.max(1, Math.min(250, Math.ceil(runs / (threads * 8))));
   const ranges = chunkRanges(runs, chunk);
   // The calling thread and threads − 1 pool threads claim chunks from one shared counter: no
   // thread waits for another to hand it work, and the merge is exact, so which thread ran which
   // cells never shows in the result (ssa/stats.ts).
-  const workers = threads - 1;
-  const pool = workers > 0 ? createRunPool(workers) : null;
   const claims = new Int32Array(new SharedArrayBuffer(Int32Array.BYTES_PER_ELEMENT));
   let merged: Partial | null = null;
   let callerCells = 0;
@@ -133,14 +144,15 @@ export async function simulateRun(circuit: Circuit, o: EngineOptions & SimulateR
     for (let w = 0; w < workers; w++) {
       lanes.push(runStep<Partial | null>(pool, { kind: "claim-chunks", circuit, options: fixed, ranges, claims }).then(fold));
     }
-    // The caller claims one chunk at a time, yielding between them so the pool's messages
-    // (threads starting, results arriving) are handled while it works.
+    // The calling thread claims one chunk at a time into its own fold, yielding between them so
+    // the pool's messages (threads starting, results arriving) are handled while it works.
+    const own = await chunkFolder(circuit, fixed);
     for (let r = claimChunk(ranges, claims); r; r = claimChunk(ranges, claims)) {
       await new Promise<void>((resolve) => setImmediate(resolve));
-      const p = await computeChunk(circuit, fixed, r[0], r[1]);
-      callerCells += p.cells;
-      fold(p);
+      own.add(r[0], r[1]);
     }
+    callerCells = own.cells;
+    fold(own.result());
     await Promise.all(lanes);
   } finally {
     await pool?.close();

@@ -12,7 +12,7 @@ import { gunzipSync, gzipSync } from "node:zlib";
 
 import { cellStatsOf, encodeCellStats } from "../cell-stats";
 import { ensembleOptionsOf, unitsOf, type EngineOptions } from "../engine-options";
-import { simulateCells, summarize, trajectory, type TrajectoryResult } from "../ensemble";
+import { CellsFolder, simulateCells, summarize, trajectory, type TrajectoryResult } from "../ensemble";
 import { mergePartials, type Partial, type SimulateSummary } from "../stats";
 import type { Circuit } from "../types";
 import { SLOT_NEXT_CHUNK, type FinalizeContext } from "./engine-protocol";
@@ -64,14 +64,17 @@ export function claimChunk(ranges: [number, number][], claims: Int32Array): [num
   return ranges[Atomics.add(claims, SLOT_NEXT_CHUNK, 1)] ?? null;
 }
 
+/** A fold of this run's chunks on this thread (ssa/ensemble.ts CellsFolder), with the model from the thread's cache and the run's burn-in. */
+export async function chunkFolder(circuit: Circuit, o: EngineOptions): Promise<CellsFolder> {
+  const model = await getModel(circuit, o.overrides);
+  return new CellsFolder(model, ensembleOptionsOf(o, await getBurnInValue(model, o)));
+}
+
 /** Claims and computes chunks until none are left: their merged partial, or null when it got none. */
 export async function computeClaimedChunks(circuit: Circuit, o: EngineOptions, ranges: [number, number][], claims: Int32Array): Promise<Partial | null> {
-  let acc: Partial | null = null;
-  for (let r = claimChunk(ranges, claims); r; r = claimChunk(ranges, claims)) {
-    const p = await computeChunk(circuit, o, r[0], r[1]);
-    acc = acc ? mergePartials(acc, p) : p;
-  }
-  return acc;
+  const folder = await chunkFolder(circuit, o);
+  for (let r = claimChunk(ranges, claims); r; r = claimChunk(ranges, claims)) folder.add(r[0], r[1]);
+  return folder.result();
 }
 
 /**

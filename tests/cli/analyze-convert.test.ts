@@ -11,7 +11,7 @@ import { CliError } from "@/cli/common";
 
 /** Runs `npm run cli -- …` the way CONTRACT.md §2 does (node + tsx), returning exit code and output. */
 function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, ["--import", "tsx", "cli/index.ts", ...args], { encoding: "utf8", timeout: 60_000 });
+  const r = spawnSync(process.execPath, ["scripts/cli.mjs", ...args], { encoding: "utf8", timeout: 60_000 });
   return { code: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 

@@ -36,7 +36,7 @@ describe("engine benchmark against ssa_ref.c", () => {
     const r = await bench("--kernel", "fastest");
     expect(r.code).not.toBe(0);
     expect(r.stderr).toContain("--kernel: must be wasm, generated or generic");
-    const c = spawnSync(process.execPath, ["--import", "tsx", "cli/index.ts", "bench", "--repeat", "1", "--kernel", "fastest"], { encoding: "utf8" });
+    const c = spawnSync(process.execPath, ["scripts/cli.mjs", "bench", "--repeat", "1", "--kernel", "fastest"], { encoding: "utf8" });
     expect(c.status).not.toBe(0);
     expect(c.stderr).toContain("--kernel: must be one of wasm, generated, generic");
   });

@@ -19,7 +19,7 @@ const file = (name: string, text: string) => {
 
 /** Runs `npm run cli -- …` as a user would (node + tsx). */
 function cli(...args: string[]) {
-  const r = spawnSync(process.execPath, ["--import", "tsx", "cli/index.ts", ...args], { encoding: "utf8", timeout: 60_000 });
+  const r = spawnSync(process.execPath, ["scripts/cli.mjs", ...args], { encoding: "utf8", timeout: 60_000 });
   return { code: r.status, stdout: r.stdout, stderr: r.stderr };
 }
 

@@ -15,10 +15,10 @@ interface Run {
   stderr: string;
 }
 
-/** `node --import tsx cli/index.ts …`, what `npm run --silent cli --` runs. */
+/** `node scripts/cli.mjs …`, what `npm run --silent cli --` runs. */
 function cli(...args: string[]): Promise<Run> {
   return new Promise((resolve) => {
-    const p = spawn(process.execPath, ["--import", "tsx", "cli/index.ts", ...args], { stdio: ["ignore", "pipe", "pipe"] });
+    const p = spawn(process.execPath, ["scripts/cli.mjs", ...args], { stdio: ["ignore", "pipe", "pipe"] });
     let stdout = "";
     let stderr = "";
     p.stdout.on("data", (d) => (stdout += d));

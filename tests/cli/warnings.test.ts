@@ -7,10 +7,10 @@ import { spawn } from "node:child_process";
 
 import { describe, expect, it } from "vitest";
 
-/** `node --import tsx cli/index.ts …`, what `npm run --silent cli --` runs. */
+/** `node scripts/cli.mjs …`, what `npm run --silent cli --` runs. */
 function cli(...args: string[]): Promise<{ code: number | null; stdout: string; stderr: string }> {
   return new Promise((resolve) => {
-    const p = spawn(process.execPath, ["--import", "tsx", "cli/index.ts", ...args], { stdio: ["ignore", "pipe", "pipe"] });
+    const p = spawn(process.execPath, ["scripts/cli.mjs", ...args], { stdio: ["ignore", "pipe", "pipe"] });
     let stdout = "";
     let stderr = "";
     p.stdout.on("data", (d) => (stdout += d));

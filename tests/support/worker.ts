@@ -36,7 +36,7 @@ export function stopWorker(child: ChildProcess, signal: NodeJS.Signals = "SIGTER
 
 /** Runs the command line as a user would (`npm run --silent cli -- …`), returning parsed JSON. */
 export function runCli(args: string[]): { status: number; stdout: string; stderr: string; json: any } {
-  const r = spawnSync(process.execPath, ["--import", "tsx", "cli/index.ts", ...args], { encoding: "utf8", maxBuffer: 512 * 1024 * 1024 });
+  const r = spawnSync(process.execPath, ["scripts/cli.mjs", ...args], { encoding: "utf8", maxBuffer: 512 * 1024 * 1024 });
   let json: any = null;
   try { json = JSON.parse(r.stdout); } catch { /* not JSON */ }
   return { status: r.status ?? 1, stdout: r.stdout, stderr: r.stderr, json };
