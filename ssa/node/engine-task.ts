@@ -10,6 +10,8 @@
  */
 import { gunzipSync } from "node:zlib";
 
+import { Piscina, transferableSymbol, valueSymbol } from "piscina";
+
 import { selectCellJson } from "../cell-selection";
 import type { Circuit } from "../types";
 import { SLOT_STARTED, type EngineOutcome, type EngineTask } from "./engine-protocol";
@@ -85,8 +87,33 @@ export async function computeEngineTask(task: EngineTask): Promise<EngineOutcome
   }
 }
 
-/** Piscina task: flags the start (the pool's time budget counts from here), then computes. */
-export default function runEngineTask({ task, started }: { task: EngineTask; started: Int32Array }): Promise<EngineOutcome> {
+/**
+ * Piscina task: flags the start (the pool's time budget counts from here), then computes. A
+ * result's typed arrays (a chunk's partial: megabytes of histograms) are moved to the caller, not
+ * copied.
+ */
+export default async function runEngineTask({ task, started }: { task: EngineTask; started: Int32Array }): Promise<EngineOutcome> {
   Atomics.store(started, SLOT_STARTED, 1);
-  return computeEngineTask(task);
+  const outcome = await computeEngineTask(task);
+  const buffers = outcome.ok ? ownBuffers(outcome.value, new Set(), 0) : [];
+  return buffers.length > 0 ? (Piscina.move({ [transferableSymbol]: buffers, [valueSymbol]: outcome }) as unknown as EngineOutcome) : outcome;
+}
+
+/**
+ * The buffers of the typed arrays in `value` that own their whole buffer (fresh results; never a
+ * view into wasm memory or a shared buffer, which must stay where they are).
+ */
+function ownBuffers(value: unknown, seen: Set<ArrayBuffer>, depth: number): ArrayBuffer[] {
+  if (value === null || typeof value !== "object" || depth > 8) return [];
+  if (ArrayBuffer.isView(value)) {
+    const b = value.buffer;
+    if (b instanceof ArrayBuffer && value.byteOffset === 0 && value.byteLength === b.byteLength && b.byteLength > 0 && !seen.has(b)) {
+      seen.add(b);
+      return [b];
+    }
+    return [];
+  }
+  const out: ArrayBuffer[] = [];
+  for (const v of Array.isArray(value) ? value : Object.values(value)) out.push(...ownBuffers(v, seen, depth + 1));
+  return out;
 }
