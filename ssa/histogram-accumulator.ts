@@ -21,6 +21,8 @@ export class HistogramAccumulator {
   private entries = 0;
   /** Set once the values stop fitting the dense form; from then on every block is sorted and merged into it. */
   private sparse: HistogramCSR | null = null;
+  /** The first block's histograms, sorted, until a second block arrives. */
+  private first: HistogramCSR | null = null;
   private empty = true;
 
   constructor(readonly nPoints: number) {
@@ -34,12 +36,48 @@ export class HistogramAccumulator {
    */
   addBlock(block: Float64Array, stride: number, nb: number): void {
     if (nb <= 0) return;
-    this.empty = false;
+    if (this.empty) {
+      // One block is cheapest sorted (a few cells over many grid points would leave dense
+      // counts mostly empty); the dense form pays from the second block on.
+      this.empty = false;
+      this.first = histogramsOfBlock(block, this.nPoints, stride, nb);
+      return;
+    }
+    if (this.first !== null) {
+      const first = this.first;
+      this.first = null;
+      if (!this.addSparseDense(first)) this.sparse = first;
+    }
     if (this.sparse === null && !this.addDense(block, stride, nb)) this.goSparse();
     if (this.sparse !== null) {
       const h = histogramsOfBlock(block, this.nPoints, stride, nb);
       this.sparse = mergeHistograms(this.sparse, h, this.nPoints);
     }
+  }
+
+  /** Adds sparse histograms (to an empty dense form), or returns false (having added nothing) when they do not fit. */
+  private addSparseDense(h: HistogramCSR): boolean {
+    const { histPtr, histValues, histCounts } = h;
+    let need = 0;
+    for (let p = 0; p < this.nPoints; p++) {
+      const a = histPtr[p];
+      const b = histPtr[p + 1];
+      if (a === b) continue;
+      for (let k = a; k < b; k++) if (!(histValues[k] >= 0 && histValues[k] === Math.floor(histValues[k]))) return false;
+      const range = histValues[b - 1] - histValues[a] + 1; // values ascend
+      if (range > MAX_POINT_RANGE) return false;
+      need += range;
+    }
+    if (this.entries + need > MAX_DENSE_ENTRIES) return false;
+    for (let p = 0; p < this.nPoints; p++) {
+      const a = histPtr[p];
+      const b = histPtr[p + 1];
+      if (a === b) continue;
+      const c = this.widen(p, histValues[a], histValues[b - 1]);
+      const off = this.lo[p];
+      for (let k = a; k < b; k++) c[histValues[k] - off] += histCounts[k];
+    }
+    return true;
   }
 
   /** Adds the block densely, or returns false (having added nothing) when it does not fit. */
@@ -140,6 +178,6 @@ export class HistogramAccumulator {
   /** The histograms of every block added, exactly as sorting and merging them would give. @throws RangeError when nothing was added. */
   toCSR(): HistogramCSR {
     if (this.empty) throw new RangeError("HistogramAccumulator: no samples added");
-    return this.sparse ?? this.denseCSR();
+    return this.first ?? this.sparse ?? this.denseCSR();
   }
 }

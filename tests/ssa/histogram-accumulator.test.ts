@@ -54,6 +54,11 @@ describe("HistogramAccumulator", () => {
     expect(plain(acc)).toEqual(plain(merged));
     // The counts add to the samples given: nothing lost or doubled.
     expect(Array.from(acc.histCounts).reduce((a, b) => a + b, 0)).toBe(40 * 9 * 12);
+    // One block alone, and two (the first is kept sorted until the second arrives).
+    for (const n of [1, 2]) {
+      const [a, m] = bothWays(list.slice(0, n), 40, 9);
+      expect(plain(a)).toEqual(plain(m));
+    }
   });
 
   it("equals sort-and-merge when fractions or negatives arrive after dense blocks (it turns sparse part-way)", () => {
