@@ -5,7 +5,7 @@ import { requireUser } from "@/lib/auth/session";
 import { circuitFromBody } from "@/lib/circuit-input";
 import { createCircuit } from "@/lib/data/circuits";
 import { DatasetFileError, decodeTextFile } from "@/lib/view/datasets";
-import { handle, HttpError, requireCleanText, unprocessable } from "@/lib/http";
+import { handle, HttpError, parseJsonText, requireCleanText, unprocessable } from "@/lib/http";
 import { IdField } from "@/lib/schemas/api";
 import { CircuitError } from "@/lib/schemas/circuit";
 import { DATASET_LIMITS } from "@/lib/schemas/datasets";
@@ -36,9 +36,10 @@ export const POST = handle("POST /api/circuits/upload", async (req) => {
   if (isSbml) body = { sbml: text };
   else {
     try {
-      body = { circuit: JSON.parse(text) };
+      body = { circuit: parseJsonText(text, "file", 422) };
     } catch (e) {
-      throw unprocessable(`file: not valid JSON (${e instanceof Error ? e.message : "parse error"}); expected SBML or a circuit JSON file`);
+      if (e instanceof HttpError && e.message.startsWith("file: not valid JSON")) throw unprocessable(`${e.message}; expected SBML or a circuit JSON file`);
+      throw e;
     }
     requireCleanText(body.circuit, "file");
   }

@@ -1,6 +1,6 @@
 import { getCurrentUser } from "@/lib/auth/session";
 import { acceptInvitation } from "@/lib/data/invitations";
-import { badRequest, handle, notFound, requireCleanText, requireJsonType } from "@/lib/http";
+import { badRequest, handle, notFound, parseJsonText, requireCleanText, requireJsonType } from "@/lib/http";
 import { InvitationAccept, InvitationToken } from "@/lib/schemas/invitations";
 
 /**
@@ -26,12 +26,7 @@ async function readJsonOrEmpty(req: Request): Promise<unknown> {
   if (text.length > 16 * 1024) throw badRequest("body: larger than 16 KB");
   if (!text.trim()) return {};
   requireJsonType(req);
-  let value: unknown;
-  try {
-    value = JSON.parse(text);
-  } catch {
-    throw badRequest("body: not valid JSON");
-  }
+  const value = parseJsonText(text, "body");
   requireCleanText(value);
   return value;
 }
