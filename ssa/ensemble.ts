@@ -15,6 +15,7 @@ import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, mergeCell
 import { computeFinalIntervals, computeStationaryIntervals } from "./intervals";
 import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type BurnInChoice } from "./stationarity";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
+import { scheduledDirectKernel } from "./schedule-kernel";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
 import { canCompileWasmKernel, compileWasmKernel } from "./wasm-kernel";
@@ -71,6 +72,11 @@ function withSentinel(grid: Float64Array): Float64Array {
 
 /** The kernel for a model and method, compiled once per model object. */
 export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel" | "tauEpsilon">): BlockKernelFn {
+  if (m.schedule) {
+    // A schedule runs on its own kernel (ssa/schedule-kernel.ts); the others never see one.
+    if (o.method === "tau") throw new ModelInputError(`method: tau-leaping does not run a circuit with a schedule yet; use "ssa" or "ode"`);
+    return (m.kernels.scheduled ??= scheduledDirectKernel(m));
+  }
   if (o.method === "tau") {
     const epsilon = o.tauEpsilon ?? TAU_EPSILON;
     const generic = o.kernel === "generic" || !canGenerateKernel(m);
