@@ -15,6 +15,7 @@ import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, mergeCell
 import { computeFinalIntervals, computeStationaryIntervals } from "./intervals";
 import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type BurnInChoice } from "./stationarity";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
+import { scheduleReport } from "./schedule";
 import { scheduledDirectKernel } from "./schedule-kernel";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
@@ -284,6 +285,11 @@ export function summarize(m: Model, o: EnsembleOptions, partial: Partial, ctx: S
   if (choice) summary.burn_in_rule = { source: choice.source, relaxation_time: choice.relaxationTime, relaxation_times: BURN_IN_RELAXATION_TIMES };
   summary.warnings.push(...(choice?.warnings ?? []), ...windowWarnings(partial, summary.burn_in, m.timeUnit));
   summary.warnings.push(...driftWarnings(m.species, checkDrift(partial, scale), summary.burn_in, m.timeUnit, choice?.relaxationTime ?? null));
+  if (m.schedule) {
+    const { fired, warnings } = scheduleReport(m, { tEnd: o.tEnd, burnIn: summary.burn_in });
+    summary.schedule = fired;
+    summary.warnings.push(...warnings);
+  }
   return summary;
 }
 

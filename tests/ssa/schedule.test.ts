@@ -102,6 +102,21 @@ describe("schedule: induction step on the two-stage reporter", () => {
     expect(replay.values.M).toEqual(alone.mean.M);
   });
 
+  it("the result lists the changes that fired and warns about one after burn-in and one after t_end", async () => {
+    const c = parseCircuit({ ...json(), schedule: [{ at: 100, set: { km: 2 } }, { at: 150, set: { P: 10 } }, { at: 900, set: { km: 0 } }] });
+    const s = await simulateRun(c, { method: "ssa", tEnd: 400, dt: 10, seed: 2, runs: 10, burnIn: 120, threads: 1 });
+    expect(s.schedule).toEqual([{ at: 100, set: { km: 2 } }, { at: 150, set: { P: 10 } }]);
+    expect(s.warnings.filter((w) => w.code.startsWith("schedule")).map((w) => [w.code, w.field])).toEqual([
+      ["schedule-after-end", "schedule[2].at"],
+      ["schedule-after-burn-in", "schedule"],
+    ]);
+    const ode = await simulateRun(c, { method: "ode", tEnd: 400, dt: 10, burnIn: 120 });
+    expect(ode.schedule).toEqual(s.schedule);
+    // A circuit without a schedule has no such key: its output bytes are as before.
+    const plain = await simulateRun(parseCircuit({ ...json(), format: "burstwise.circuit/1", schedule: undefined }), { method: "ode", tEnd: 40, dt: 10 });
+    expect("schedule" in plain).toBe(false);
+  });
+
   it("tau-leaping refuses a circuit with a schedule, naming the method", () => {
     const m = compileModel(induced);
     expect(() => simulateCells(m, { method: "tau", tEnd: 100, dt: 10, seed: 1 }, 0, 2)).toThrow(/^method: tau-leaping does not run a circuit with a schedule/);
