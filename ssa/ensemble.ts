@@ -15,7 +15,7 @@ import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, mergeCell
 import { computeFinalIntervals, computeStationaryIntervals } from "./intervals";
 import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type BurnInChoice } from "./stationarity";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
-import { scheduleReport } from "./schedule";
+import { scheduleReport, TAU_SCHEDULE_REFUSAL } from "./schedule";
 import { scheduledDirectKernel } from "./schedule-kernel";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
@@ -75,7 +75,7 @@ function withSentinel(grid: Float64Array): Float64Array {
 export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel" | "tauEpsilon">): BlockKernelFn {
   if (m.schedule) {
     // A schedule runs on its own kernel (ssa/schedule-kernel.ts); the others never see one.
-    if (o.method === "tau") throw new ModelInputError(`method: tau-leaping does not run a circuit with a schedule yet; use "ssa" or "ode"`);
+    if (o.method === "tau") throw new ModelInputError(TAU_SCHEDULE_REFUSAL);
     return (m.kernels.scheduled ??= scheduledDirectKernel(m));
   }
   if (o.method === "tau") {

@@ -7,6 +7,9 @@
 import type { Model } from "./model-core";
 import { makeWarning, type EngineWarning } from "./warnings";
 
+/** Why tau-leaping refuses a circuit with a schedule (the kernel, the run route and the CLI say the same). */
+export const TAU_SCHEDULE_REFUSAL = `method: tau-leaping does not run a circuit with a schedule yet; use "ssa" or "ode"`;
+
 /** One change as a result reports it: its time and what it set (species amounts and parameter values, model units). */
 export interface FiredChange {
   at: number;

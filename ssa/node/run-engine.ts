@@ -114,7 +114,7 @@ export async function simulateRun(circuit: Circuit, o: EngineOptions & SimulateR
   ensembleOptionsOf(options); // a stochastic run needs a seed
   makeGrid(options.tEnd, options.dt); // validates before any thread starts
   const model = await getModel(circuit, options.overrides); // bad input fails here, before any thread starts
-  kernelFor(model, options); // and so does a method the circuit cannot run (e.g. tau-leaping with a schedule)
+  kernelFor(model, ensembleOptionsOf(options)); // and so does a method the circuit cannot run (e.g. tau-leaping with a schedule)
   const runs = options.runs ?? 1;
   const threads = Math.max(1, Math.min(wanted ?? defaultThreads(), runs));
   const workers = threads - 1;
