@@ -216,6 +216,16 @@ describe("ensembles through the API and the worker", () => {
     expect(tau.status, tau.text).toBe(422);
     expect(tau.json.error).toMatch(/^method: tau-leaping does not run a circuit with a schedule/);
     expect(Number((await db("runs").count({ n: "*" }))[0]?.n)).toBe(before);
+    // A comparison of scheduled designs by tau-leaping is refused the same way, and stores nothing.
+    const comparisons = Number((await db("comparisons").count({ n: "*" }))[0]?.n);
+    const cmp = await modeler.request("POST", "/api/comparisons", {
+      lab_id: labId, name: `Induction by tau ${Date.now()}`,
+      designs: [{ version_id: c.json.version_id }, { version_id: c.json.version_id, overrides: { kp: 3 } }],
+      settings: { method: "tau", t_end: 300, dt: 5, runs: 10 },
+    });
+    expect(cmp.status, cmp.text).toBe(422);
+    expect(cmp.json.error).toMatch(/^settings\.method: tau-leaping does not run a circuit with a schedule/);
+    expect(Number((await db("comparisons").count({ n: "*" }))[0]?.n)).toBe(comparisons);
   });
 
   it("a deterministic trace run stores the mean-field path", async () => {
