@@ -4,12 +4,13 @@ import { requireLabRole, type Action } from "@/lib/access";
 import type { AuditEventInput } from "@/lib/data/audit";
 import { failRun, getRun, insertRun, type QueuedWork, type RunRow } from "@/lib/data/runs";
 import { requireVersion } from "@/lib/data/version-access";
-import { idParam, notFound } from "@/lib/http";
+import { idParam, notFound, unprocessable } from "@/lib/http";
 import { getSender, Queues, type RunChunkJob } from "@/lib/jobs";
 import { checkOverrides } from "@/lib/schemas/circuit";
 import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, type RunBudget } from "@/lib/run-budget";
 import { settingsOf, type RunLaunch } from "@/lib/schemas/run-options";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
+import { TAU_SCHEDULE_REFUSAL } from "@/ssa/schedule";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** A fresh seed for a run that names none (printed back, so the run can be repeated). */
@@ -33,6 +34,7 @@ export async function createRun(userId: string, body: RunLaunch, actor?: { id: s
   const version = await requireVersion(userId, body.version_id, "lab:read");
   await requireLabRole(userId, version.labId, "run:launch", "version");
   checkOverrides(version.circuit, body.overrides);
+  if (body.method === "tau" && (version.circuit.schedule?.length ?? 0) > 0) throw unprocessable(TAU_SCHEDULE_REFUSAL);
   const kind = body.method === "ode" ? "trace" : "ensemble";
   const cells = kind === "trace" ? 1 : (body.runs ?? 1);
   const budget = getRunBudget();

@@ -15,6 +15,8 @@ import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, mergeCell
 import { computeFinalIntervals, computeStationaryIntervals } from "./intervals";
 import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type BurnInChoice } from "./stationarity";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
+import { scheduleReport, TAU_SCHEDULE_REFUSAL } from "./schedule";
+import { scheduledDirectKernel } from "./schedule-kernel";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
 import { canCompileWasmKernel, compileWasmKernel } from "./wasm-kernel";
@@ -71,6 +73,11 @@ function withSentinel(grid: Float64Array): Float64Array {
 
 /** The kernel for a model and method, compiled once per model object. */
 export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel" | "tauEpsilon">): BlockKernelFn {
+  if (m.schedule) {
+    // A schedule runs on its own kernel (ssa/schedule-kernel.ts); the others never see one.
+    if (o.method === "tau") throw new ModelInputError(TAU_SCHEDULE_REFUSAL);
+    return (m.kernels.scheduled ??= scheduledDirectKernel(m));
+  }
   if (o.method === "tau") {
     const epsilon = o.tauEpsilon ?? TAU_EPSILON;
     const generic = o.kernel === "generic" || !canGenerateKernel(m);
@@ -278,6 +285,11 @@ export function summarize(m: Model, o: EnsembleOptions, partial: Partial, ctx: S
   if (choice) summary.burn_in_rule = { source: choice.source, relaxation_time: choice.relaxationTime, relaxation_times: BURN_IN_RELAXATION_TIMES };
   summary.warnings.push(...(choice?.warnings ?? []), ...windowWarnings(partial, summary.burn_in, m.timeUnit));
   summary.warnings.push(...driftWarnings(m.species, checkDrift(partial, scale), summary.burn_in, m.timeUnit, choice?.relaxationTime ?? null));
+  if (m.schedule) {
+    const { fired, warnings } = scheduleReport(m, { tEnd: o.tEnd, burnIn: summary.burn_in });
+    summary.schedule = fired;
+    summary.warnings.push(...warnings);
+  }
   return summary;
 }
 

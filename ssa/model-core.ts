@@ -6,7 +6,7 @@
  * calls compileParsedModel, and worker threads receive formulas already parsed.
  */
 import { compileExpression, expressionParameters, expressionSpecies, type Expr, type ExprEvaluator } from "./expr-ast";
-import { ModelInputError, type AmountUnit, type Circuit, type NumberOrParam, type TimeUnit } from "./types";
+import { ModelInputError, type AmountUnit, type Circuit, type NumberOrParam, type ScheduledChange, type TimeUnit } from "./types";
 
 /** Avogadro's number, mol⁻¹, exact in the 2019 SI. */
 export const AVOGADRO = 6.02214076e23;
@@ -98,10 +98,32 @@ export interface Model {
   propensities(x: Float64Array, out: Float64Array): void;
   /** Propensity of reaction j alone (molecules per model time) at counts x. */
   propensity(j: number, x: Float64Array): number;
+  /** The circuit's schedule of timed changes, compiled; null when it has none. */
+  schedule: CompiledSchedule | null;
   /** Kernels compiled on first use for this model (see ssa/ensemble.ts kernelFor). */
-  kernels: { direct?: KernelFn; generic?: KernelFn; wasm?: KernelFn | null; tau?: { epsilon: number; generic: boolean; fn: KernelFn } };
+  kernels: { direct?: KernelFn; generic?: KernelFn; wasm?: KernelFn | null; tau?: { epsilon: number; generic: boolean; fn: KernelFn }; scheduled?: KernelFn };
   /** Scratch buffers reused by successive synchronous calls on this model (ssa/ensemble.ts). */
   scratch: { block?: Float64Array };
+}
+
+/** One time of a schedule: the species set then (index, count in molecules, amount in model units), and the rates from then on. */
+export interface CompiledChange {
+  at: number;
+  species: Int32Array;
+  counts: Float64Array;
+  amounts: Float64Array;
+  /** Parameters set at this time (cumulative values are in the next phase's `parameters`). */
+  parameters: Record<string, number>;
+}
+
+/**
+ * A schedule compiled: its changes in time order, and phases[k], the model whose rates hold after
+ * changes[0..k−1] (phases[0] is the model itself; a change that sets no parameter keeps the
+ * phase before it). Every phase has the same species, reactions and dependency graph.
+ */
+export interface CompiledSchedule {
+  changes: CompiledChange[];
+  phases: Model[];
 }
 
 /** Signature of a one-cell kernel (ssa/kernel.ts DirectKernel), repeated here to avoid an import cycle. */
@@ -201,6 +223,55 @@ function checkBound(value: number, field: string, min: number, strict: boolean):
  * @throws ModelInputError naming the field when an override is unknown or breaks a bound.
  */
 export function compileParsedModel(c: Circuit, overrides: Record<string, number> | undefined, parsed: (Expr | null)[]): Model {
+  const model = compileRates(c, overrides, parsed);
+  if (c.schedule && c.schedule.length > 0) model.schedule = compileSchedule(c, overrides, parsed, model);
+  return model;
+}
+
+/**
+ * The schedule's phases: each change's species as counts, and a model compiled with the
+ * parameters in force after it (the overrides, then every change up to it).
+ * @throws ModelInputError naming `schedule[k].set.<name>` when a name is unknown or a value breaks a bound.
+ */
+function compileSchedule(c: Circuit, overrides: Record<string, number> | undefined, parsed: (Expr | null)[], base: Model): CompiledSchedule {
+  const plain: Circuit = { ...c, schedule: undefined };
+  const params = c.parameters ?? {};
+  const changes: CompiledChange[] = [];
+  const phases: Model[] = [base];
+  let inForce: Record<string, number> = { ...(overrides ?? {}) };
+  (c.schedule ?? []).forEach((change, k) => {
+    if (k > 0 && change.at < (c.schedule as ScheduledChange[])[k - 1].at) throw new ModelInputError(`schedule[${k}].at: must not be earlier than schedule[${k - 1}].at`);
+    const species: number[] = [];
+    const counts: number[] = [];
+    const amounts: number[] = [];
+    const set: Record<string, number> = {};
+    for (const [name, value] of Object.entries(change.set)) {
+      const i = base.speciesIndex.get(name);
+      if (!(Number.isFinite(value) && value >= 0)) throw new ModelInputError(`schedule[${k}].set.${name}: must be a number >= 0`);
+      if (i !== undefined) {
+        species.push(i);
+        amounts.push(value);
+        counts.push(roundToCount(value * base.omega));
+      } else if (Object.prototype.hasOwnProperty.call(params, name)) set[name] = value;
+      else throw new ModelInputError(`schedule[${k}].set.${name}: unknown species or parameter "${name}"`);
+    }
+    let phase = phases[phases.length - 1];
+    if (Object.keys(set).length > 0) {
+      inForce = { ...inForce, ...set };
+      try {
+        phase = compileRates(plain, inForce, parsed);
+      } catch (e) {
+        if (e instanceof ModelInputError) throw new ModelInputError(`schedule[${k}].set: ${e.message.replace(/^overrides\./, "")}`);
+        throw e;
+      }
+    }
+    changes.push({ at: change.at, species: Int32Array.from(species), counts: Float64Array.from(counts), amounts: Float64Array.from(amounts), parameters: set });
+    phases.push(phase);
+  });
+  return { changes, phases };
+}
+
+function compileRates(c: Circuit, overrides: Record<string, number> | undefined, parsed: (Expr | null)[]): Model {
   const params = resolveParameters(c, overrides);
   const omega = omegaFor(c.units.amount, c.volume_fL);
   const species = c.species.map((s) => s.id);
@@ -452,6 +523,7 @@ export function compileParsedModel(c: Circuit, overrides: Record<string, number>
     rates,
     propensity,
     propensities,
+    schedule: null,
     kernels: {},
     scratch: {},
   };

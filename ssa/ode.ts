@@ -9,8 +9,8 @@ import { integrate, type IntegrateStats, type OdeMethod, type OdeRhs } from "./o
 
 export { OdeError, integrate, type OdeMethod, type OdeRhs, type IntegrateOptions, type IntegrateStats } from "./ode-solvers";
 
-/** The part of a compiled Model the deterministic code needs. */
-export type MeanFieldModel = Pick<Model, "species" | "nSpecies" | "nReactions" | "omega" | "initialAmounts" | "netStoich" | "rates">;
+/** The part of a compiled Model the deterministic code needs (and its schedule, when it has one). */
+export type MeanFieldModel = Pick<Model, "species" | "nSpecies" | "nReactions" | "omega" | "initialAmounts" | "netStoich" | "rates"> & { schedule?: Model["schedule"] };
 
 export interface SolveOdeOptions {
   /** End of the grid, in the model's time unit. */
@@ -83,15 +83,10 @@ export function solveOde(model: MeanFieldModel, options: SolveOdeOptions): OdeSo
   const grid = outputGrid(options.tEnd, options.dt);
   const y0 = options.y0 ?? model.initialAmounts;
   if (y0.length !== model.nSpecies) throw new RangeError(`y0 must have ${model.nSpecies} entries, got ${y0.length}`);
-  // A compiled Model knows its rate laws, so the stiff method gets the exact Jacobian.
-  const exact = "law" in model && "expressions" in model ? meanFieldJacobianEvaluator(model as MeanFieldModel & JacobianModel) : undefined;
-  const { values, stats } = integrate(meanFieldRhs(model), y0, grid, {
-    method: options.method,
-    rtol: options.rtol,
-    atol: options.atol,
-    maxSteps: options.maxSteps,
-    jacobian: exact,
-  });
+  const integrateOptions = { method: options.method, rtol: options.rtol, atol: options.atol, maxSteps: options.maxSteps };
+  const { values, stats } = model.schedule
+    ? integrateScheduled(model as Model, y0, grid, integrateOptions)
+    : integrate(meanFieldRhs(model), y0, grid, { ...integrateOptions, jacobian: exactJacobian(model) });
   const nS = model.nSpecies;
   const scale = units === "molecules" ? model.omega : 1;
   const trace: Record<string, number[]> = {};
@@ -102,4 +97,62 @@ export function solveOde(model: MeanFieldModel, options: SolveOdeOptions): OdeSo
   });
   const final = values.slice((grid.length - 1) * nS);
   return { units, species: model.species.slice(), times: Array.from(grid), trace, final, stats };
+}
+
+/** A compiled Model knows its rate laws, so the stiff method gets the exact Jacobian. */
+function exactJacobian(model: MeanFieldModel) {
+  return "law" in model && "expressions" in model ? meanFieldJacobianEvaluator(model as MeanFieldModel & JacobianModel) : undefined;
+}
+
+/**
+ * The mean field of a model with a schedule, on `grid`: integrated phase by phase, each change a
+ * hard stop where the species it sets jump to their new amounts and the next phase's rates take
+ * over (right-continuous, as the stochastic kernels sample). The step counts add over phases.
+ */
+function integrateScheduled(model: Model, y0: ArrayLike<number>, grid: Float64Array, o: { method?: OdeMethod; rtol?: number; atol?: number; maxSteps?: number }): { values: Float64Array; stats: IntegrateStats } {
+  const sch = model.schedule as NonNullable<Model["schedule"]>;
+  const nS = model.nSpecies;
+  const values = new Float64Array(grid.length * nS);
+  const y = Float64Array.from(y0);
+  let stats: IntegrateStats | null = null;
+  let k = 0; // changes applied
+  let t = grid[0];
+  const applyUpTo = (time: number) => {
+    while (k < sch.changes.length && sch.changes[k].at <= time) {
+      const ch = sch.changes[k++];
+      for (let p = 0; p < ch.species.length; p++) y[ch.species[p]] = ch.amounts[p];
+    }
+  };
+  applyUpTo(t);
+  let g = 0;
+  while (g < grid.length) {
+    // Grid points at the current time show the state now (after the changes at it).
+    while (g < grid.length && grid[g] <= t) values.set(y, nS * g++);
+    if (g === grid.length) break;
+    const stop = k < sch.changes.length ? Math.min(sch.changes[k].at, grid[grid.length - 1]) : grid[grid.length - 1];
+    const sub: number[] = [t];
+    let h = g;
+    while (h < grid.length && grid[h] < stop) sub.push(grid[h++]);
+    sub.push(stop);
+    const phase = sch.phases[k];
+    const r = integrate(meanFieldRhs(phase), y, Float64Array.from(sub), { ...o, jacobian: exactJacobian(phase) });
+    for (let q = 1; q < sub.length - 1; q++) values.set(r.values.subarray(q * nS, (q + 1) * nS), nS * g++);
+    y.set(r.values.subarray((sub.length - 1) * nS));
+    stats = stats ? addStats(stats, r.stats) : r.stats;
+    t = stop;
+    applyUpTo(t);
+  }
+  return { values, stats: stats ?? { method: "dopri5", switchedAt: null, steps: 0, rejected: 0, rhsEvaluations: 0, jacobians: 0 } };
+}
+
+/** Step counts of two pieces of one integration; method and switch time of the later piece that has them. */
+function addStats(a: IntegrateStats, b: IntegrateStats): IntegrateStats {
+  return {
+    method: b.method,
+    switchedAt: a.switchedAt ?? b.switchedAt,
+    steps: a.steps + b.steps,
+    rejected: a.rejected + b.rejected,
+    rhsEvaluations: a.rhsEvaluations + b.rhsEvaluations,
+    jacobians: a.jacobians + b.jacobians,
+  };
 }

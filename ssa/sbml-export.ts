@@ -14,7 +14,7 @@
 import { parseExpression } from "./expr";
 import { apply, ci, cn, exprToMathML, mathElement } from "./sbml-math";
 import { PARAMETER_ANNOTATION, PARAMETER_ANNOTATION_NS, RATE_ANNOTATION, RATE_ANNOTATION_NS } from "./sbml";
-import type { Circuit, NumberOrParam, ParameterInfo, RateLaw } from "./types";
+import { ModelInputError, type Circuit, type NumberOrParam, type ParameterInfo, type RateLaw } from "./types";
 
 const SBML_NS = "http://www.sbml.org/sbml/level3/version2/core";
 const XHTML_NS = "http://www.w3.org/1999/xhtml";
@@ -35,9 +35,14 @@ const TIME_SECONDS = { s: 1, min: 60, h: 3600 } as const;
 
 /**
  * Writes a circuit as an SBML Level 3 Version 2 document.
- * @throws RangeError when an expression does not parse (the circuit should be validated first).
+ * @throws RangeError when an expression does not parse (the circuit should be validated first);
+ *   ModelInputError for a circuit with a schedule (SBML events are not written yet, and a file
+ *   without them would silently lose the schedule).
  */
 export function circuitToSbml(c: Circuit): string {
+  if (c.schedule && c.schedule.length > 0) {
+    throw new ModelInputError(`schedule: SBML export of a schedule is not available yet; export the circuit file (format "burstwise.circuit/2") instead`);
+  }
   const speciesIds = new Set(c.species.map((s) => s.id));
   const params = c.parameters ?? {};
   const taken = new Set<string>([...speciesIds, ...Object.keys(params), ...c.reactions.map((r) => r.id)]);

@@ -3,6 +3,7 @@
  * ensemble (method "ssa" / "tau"), as the JSON of CONTRACT.md §2 with wall_s = 0. The command
  * line and the worker use ssa/node/run-engine.ts, which adds threads and timing. Pure: no I/O.
  */
+import { scheduleReport } from "./schedule";
 import { simulateEnsemble } from "./ensemble";
 import type { Model } from "./model-core";
 import { solveOde } from "./ode";
@@ -89,6 +90,11 @@ export function odeSummary(model: Model, o: EngineOptions, wallS = 0, choice: Bu
     omega: model.omega,
     trace: sol.trace,
   };
+  if (model.schedule) {
+    const report = scheduleReport(model, { tEnd: o.tEnd, burnIn });
+    summary.schedule = report.fired;
+    summary.warnings.push(...report.warnings);
+  }
   checkAgainstMeanField(model, summary, { tEnd: o.tEnd, dt: o.dt, burnIn }, an);
   return summary;
 }

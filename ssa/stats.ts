@@ -635,6 +635,8 @@ export interface SimulateSummary {
   amount_unit: string;
   omega: number;
   trace?: Record<string, number[]>;
+  /** The circuit's scheduled changes that fired within [0, t_end] (ssa/schedule.ts); absent without a schedule. */
+  schedule?: { at: number; set: Record<string, number> }[];
   /** Caveats on these numbers (ssa/warnings.ts), e.g. `grid-too-coarse`, `damped-oscillation`, `quasi-cycles`,
    * `not-stationary`, `window-too-short`. */
   warnings: EngineWarning[];

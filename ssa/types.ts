@@ -5,6 +5,20 @@
  */
 
 export const CIRCUIT_FORMAT = "burstwise.circuit/1" as const;
+/** The circuit file with a `schedule` of timed changes (README "Schedules of inputs"); /1 files read unchanged. */
+export const CIRCUIT_FORMAT_2 = "burstwise.circuit/2" as const;
+export const CIRCUIT_FORMATS = [CIRCUIT_FORMAT, CIRCUIT_FORMAT_2] as const;
+export type CircuitFormat = (typeof CIRCUIT_FORMATS)[number];
+
+/**
+ * One timed change of a schedule: at time `at` (model time unit), each species named in `set` is
+ * set to that amount (model amount unit; molecules are added or removed to reach it, rounded to
+ * a count) and each parameter to that value, for the rest of the run.
+ */
+export interface ScheduledChange {
+  at: number;
+  set: Record<string, number>;
+}
 
 export type TimeUnit = "s" | "min" | "h";
 export type AmountUnit = "nM" | "uM" | "molecules";
@@ -55,7 +69,7 @@ export interface Reaction {
 }
 
 export interface Circuit {
-  format: typeof CIRCUIT_FORMAT;
+  format: CircuitFormat;
   name?: string;
   description?: string;
   units: { time: TimeUnit; amount: AmountUnit };
@@ -69,6 +83,8 @@ export interface Circuit {
    */
   parameter_info?: Record<string, ParameterInfo>;
   reactions: Reaction[];
+  /** Timed changes of species and parameters, in time order (format /2 only). */
+  schedule?: ScheduledChange[];
 }
 
 /** What the modeler wrote about one parameter: its unit as text and a note. */

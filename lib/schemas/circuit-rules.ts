@@ -9,7 +9,7 @@ import { z } from "zod";
 
 import { describeIssue as describeAnyIssue, formatPath } from "@/lib/schemas/common";
 import type { ExprScope, ParseResult } from "@/ssa/expr";
-import { CIRCUIT_FORMAT, isReservedId, reservedIdReason, type Circuit } from "@/ssa/types";
+import { CIRCUIT_FORMAT_2, CIRCUIT_FORMATS, isReservedId, reservedIdReason, type Circuit } from "@/ssa/types";
 
 /** Parses and checks one rate formula (ssa/expr.ts parseExpression). */
 export type FormulaChecker = (text: string, scope: ExprScope) => ParseResult;
@@ -41,6 +41,8 @@ export const describeIssue = (i: { path: readonly PathKey[]; message: string }):
 const IDENTIFIER = /^[A-Za-z_][A-Za-z0-9_]*$/;
 const MAX_SPECIES = 2000;
 const MAX_REACTIONS = 20000;
+/** Most changes in a schedule (each one is a hard stop of every cell and a compiled set of rates). */
+export const MAX_SCHEDULE = 200;
 
 const required = (what: string) => (iss: { input?: unknown }) =>
   iss.input === undefined ? "is required" : `must be ${what}`;
@@ -109,8 +111,17 @@ const ParameterInfo = z.strictObject(
   { error: (iss) => (iss.code === "invalid_type" ? "must be an object { unit?, note? }" : undefined) },
 );
 
+/** One timed change: `{ "at": 100, "set": { "IPTG": 1000 } }`. */
+const ScheduledChange = z.strictObject(
+  {
+    at: finiteNumber().nonnegative("must be >= 0"),
+    set: z.record(z.string(), finiteNumber().nonnegative("must be >= 0"), { error: required("an object of species or parameter names to numbers") }),
+  },
+  { error: (iss) => (iss.code === "invalid_type" ? "must be an object { at, set }" : undefined) },
+);
+
 export const CircuitShape = z.strictObject({
-  format: z.literal(CIRCUIT_FORMAT, { error: `must be "${CIRCUIT_FORMAT}"` }),
+  format: z.enum(CIRCUIT_FORMATS, { error: `must be ${CIRCUIT_FORMATS.map((f) => `"${f}"`).join(" or ")}` }),
   name: z.string().max(200).optional(),
   description: z.string().max(10000).optional(),
   notes: z.string().max(10000).optional(),
@@ -132,6 +143,10 @@ export const CircuitShape = z.strictObject({
     .array(Reaction, { error: required("a list of reactions") })
     .min(1, "must list at least one reaction")
     .max(MAX_REACTIONS, `must list at most ${MAX_REACTIONS} reactions`),
+  schedule: z
+    .array(ScheduledChange, { error: required("a list of timed changes { at, set }") })
+    .max(MAX_SCHEDULE, `must list at most ${MAX_SCHEDULE} changes`)
+    .optional(),
 });
 
 export type Issue = { path: PathKey[]; message: string };
@@ -217,7 +232,47 @@ export function circuitSemanticIssuesWith(c: z.infer<typeof CircuitShape>, parse
       }
     }
   });
+  if (c.schedule !== undefined) scheduleIssues(c, speciesIds, isParameter, add);
   return issues;
+}
+
+/**
+ * The rules of a schedule: format /2; times in order; every name a species or a parameter; and a
+ * parameter's new value within the bounds of every rate-law field that reads it.
+ */
+function scheduleIssues(c: z.infer<typeof CircuitShape>, speciesIds: Set<string>, isParameter: (id: string) => boolean, add: (path: PathKey[], message: string) => void): void {
+  const schedule = c.schedule ?? [];
+  if (c.format !== CIRCUIT_FORMAT_2 && schedule.length > 0) {
+    add(["schedule"], `needs "format": "${CIRCUIT_FORMAT_2}" (a "${c.format}" file has no schedule)`);
+    return;
+  }
+  // The rate-law fields that read each parameter, with their bounds.
+  const readers = new Map<string, { path: string; min: number; strict: boolean }[]>();
+  c.reactions.forEach((r, i) => {
+    const rate = r.rate;
+    if (rate.law === "expression") return;
+    const fields: [string, string | number | undefined][] = rate.law === "mass_action" ? [["k", rate.k]] : [["vmax", rate.vmax], ["K", rate.K], ["n", rate.n], ["basal", rate.basal]];
+    for (const [field, v] of fields) {
+      const bound = FIELD_BOUNDS[field];
+      if (typeof v !== "string" || !bound) continue;
+      readers.set(v, [...(readers.get(v) ?? []), { path: `reactions[${i}].rate.${field}`, ...bound }]);
+    }
+  });
+  schedule.forEach((change, k) => {
+    if (k > 0 && change.at < schedule[k - 1].at) add(["schedule", k, "at"], `must not be earlier than schedule[${k - 1}].at (${schedule[k - 1].at})`);
+    const names = Object.keys(change.set);
+    if (names.length === 0) add(["schedule", k, "set"], "must change at least one species or parameter");
+    for (const name of names) {
+      if (!speciesIds.has(name) && !isParameter(name)) {
+        add(["schedule", k, "set", name], `unknown species or parameter "${name}"`);
+        continue;
+      }
+      const value = change.set[name];
+      for (const f of readers.get(name) ?? []) {
+        if (f.strict ? !(value > f.min) : !(value >= f.min)) add(["schedule", k, "set", name], `must keep ${f.path} ${f.strict ? ">" : ">="} ${f.min} (got ${value})`);
+      }
+    }
+  });
 }
 
 /**

@@ -5,7 +5,7 @@
  * Pure and isomorphic (the editor runs it on every keystroke).
  */
 import { circuitSemanticIssues, CircuitSchema, describeIssue, formatPath } from "@/lib/schemas/circuit";
-import { CIRCUIT_FORMAT } from "@/ssa/types";
+import { CIRCUIT_FORMAT, CIRCUIT_FORMAT_2 } from "@/ssa/types";
 
 export const RATE_LAWS = ["mass_action", "hill_activation", "hill_repression", "expression"] as const;
 export type RateLawName = (typeof RATE_LAWS)[number];
@@ -239,7 +239,8 @@ export function formToCircuitJson(form: CircuitForm): { json: Record<string, unk
   });
   const json = dropUndefined({
     ...form.extra,
-    format: CIRCUIT_FORMAT,
+    // A schedule (carried in `extra`) needs format /2; a circuit without one stays /1.
+    format: Array.isArray(form.extra.schedule) && form.extra.schedule.length > 0 ? CIRCUIT_FORMAT_2 : CIRCUIT_FORMAT,
     name: form.name.trim() === "" ? undefined : form.name,
     description: form.description === "" ? undefined : form.description,
     units: { time: form.time || undefined, amount: form.amount || undefined },

@@ -19,6 +19,22 @@ const font = { config: { font: "Inter, system-ui, sans-serif", axis: { labelColo
 
 const isNum = (v: number | null | undefined): v is number => typeof v === "number" && Number.isFinite(v);
 
+/** The colour of scheduled-change marks (violet of SERIES_COLOURS). */
+const SCHEDULE_COLOUR = "#6d28d9";
+
+/** One dotted vertical rule per scheduled change that fired, with what it set in the tooltip; none without a schedule. */
+export function scheduleLayers(s: Pick<SummaryJson, "schedule">) {
+  const rows = (s.schedule ?? []).map((c) => ({ t: c.at, change: Object.entries(c.set).map(([k, v]) => `${k} = ${v}`).join(", ") }));
+  const layer = {
+    data: { values: rows },
+    mark: { type: "rule" as const, strokeDash: [2, 3], strokeWidth: 1.4, color: SCHEDULE_COLOUR },
+    encoding: { x: { field: "t", type: "quantitative" as const }, tooltip: [{ field: "t", title: "Scheduled change at" }, { field: "change", title: "Sets" }] },
+  };
+  return rows.length === 0 ? [] : [layer];
+}
+
+const scheduleNote = (s: Pick<SummaryJson, "schedule">) => ((s.schedule?.length ?? 0) > 0 ? "; dotted lines: scheduled changes" : "");
+
 /**
  * Bands of one species: 5–95% and 25–75% areas across cells, the median and mean lines, and the
  * mean-field trace on the same grid, in one layered chart.
@@ -49,7 +65,7 @@ export function bandsSpec(s: SummaryJson, species: string, units: { time: string
   const byLayer = (name: string) => ({ filter: { field: "layer", equal: name } });
   return {
     ...base, ...font,
-    title: { text: `${species}: ${s.runs} cells against the mean-field trace`, subtitle: `Bands across cells at each time; ${s.method === "tau" ? "tau-leaping" : "direct Gillespie"}, seed ${s.seed ?? "—"}`, anchor: "start" },
+    title: { text: `${species}: ${s.runs} cells against the mean-field trace`, subtitle: `Bands across cells at each time; ${s.method === "tau" ? "tau-leaping" : "direct Gillespie"}, seed ${s.seed ?? "—"}${scheduleNote(s)}`, anchor: "start" },
     encoding: { x: { field: "t", type: "quantitative", title: `Time (${units.time})` } },
     layer: [
       { data: { values: areas }, transform: [byLayer(BAND_LAYERS[0])], mark: { type: "area", opacity: 0.7 }, encoding: { y: { field: "lo", ...y }, y2: { field: "hi" }, color: colour } },
@@ -62,6 +78,7 @@ export function bandsSpec(s: SummaryJson, species: string, units: { time: string
           strokeWidth: { field: "layer", type: "nominal", legend: null, scale: { domain: [BAND_LAYERS[2], BAND_LAYERS[3], BAND_LAYERS[4]], range: [1.6, 1.6, 2.6] } },
         },
       },
+      ...scheduleLayers(s),
     ],
   } as VisualizationSpec;
 }
@@ -73,13 +90,18 @@ export function traceSpec(s: SummaryJson, units: { time: string; amount: string 
   for (const sp of s.species) s.times.forEach((t, g) => { const v = path[sp]?.[g]; if (isNum(v)) rows.push({ t, species: sp, value: v }); });
   return {
     ...base, ...font,
-    title: { text: "Mean-field trace", subtitle: "Deterministic rate equations (ODE) on the sampling grid", anchor: "start" },
-    data: { values: rows }, mark: { type: "line", strokeWidth: 2 },
-    encoding: {
-      x: { field: "t", type: "quantitative", title: `Time (${units.time})` },
-      y: { field: "value", type: "quantitative", title: `Amount (${units.amount})` },
-      color: { field: "species", type: "nominal", title: "Species", scale: { range: SERIES_COLOURS }, legend: { orient: "bottom", direction: "horizontal" } },
-    },
+    title: { text: "Mean-field trace", subtitle: `Deterministic rate equations (ODE) on the sampling grid${scheduleNote(s)}`, anchor: "start" },
+    encoding: { x: { field: "t", type: "quantitative", title: `Time (${units.time})` } },
+    layer: [
+      {
+        data: { values: rows }, mark: { type: "line", strokeWidth: 2 },
+        encoding: {
+          y: { field: "value", type: "quantitative", title: `Amount (${units.amount})` },
+          color: { field: "species", type: "nominal", title: "Species", scale: { range: SERIES_COLOURS }, legend: { orient: "bottom", direction: "horizontal" } },
+        },
+      },
+      ...scheduleLayers(s),
+    ],
   } as VisualizationSpec;
 }
 

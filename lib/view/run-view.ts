@@ -83,6 +83,8 @@ export interface SummaryJson {
   amount_unit?: string;
   omega?: number;
   trace?: Record<string, (number | null)[]>;
+  /** The circuit's scheduled changes that fired (format /2 circuits only). */
+  schedule?: { at: number; set: Record<string, number> }[];
   /** Every distinct amount after burn-in with its number of (cell, grid time) samples. */
   stationary_distribution?: Record<string, { values: number[]; counts: number[] }>;
 }

@@ -11,7 +11,7 @@ import { performance } from "node:perf_hooks";
 import { fileURLToPath } from "node:url";
 
 import { ensembleOptionsOf, type EngineOptions } from "../engine-options";
-import { chunkRanges, makeGrid } from "../ensemble";
+import { chunkRanges, kernelFor, makeGrid } from "../ensemble";
 import { mergePartials, type Partial, type SimulateSummary } from "../stats";
 import { ModelInputError, type Circuit } from "../types";
 import { EnginePool } from "./engine-pool";
@@ -114,6 +114,7 @@ export async function simulateRun(circuit: Circuit, o: EngineOptions & SimulateR
   ensembleOptionsOf(options); // a stochastic run needs a seed
   makeGrid(options.tEnd, options.dt); // validates before any thread starts
   const model = await getModel(circuit, options.overrides); // bad input fails here, before any thread starts
+  kernelFor(model, ensembleOptionsOf(options)); // and so does a method the circuit cannot run (e.g. tau-leaping with a schedule)
   const runs = options.runs ?? 1;
   const threads = Math.max(1, Math.min(wanted ?? defaultThreads(), runs));
   const workers = threads - 1;
@@ -139,8 +140,8 @@ export async function simulateRun(circuit: Circuit, o: EngineOptions & SimulateR
   const fold = (p: Partial | null) => {
     if (p) merged = merged ? mergePartials(merged, p) : p;
   };
+  const lanes: Promise<void>[] = [];
   try {
-    const lanes: Promise<void>[] = [];
     for (let w = 0; w < workers; w++) {
       lanes.push(runStep<Partial | null>(pool, { kind: "claim-chunks", circuit, options: fixed, ranges, claims }).then(fold));
     }
@@ -154,6 +155,10 @@ export async function simulateRun(circuit: Circuit, o: EngineOptions & SimulateR
     callerCells = own.cells;
     fold(own.result());
     await Promise.all(lanes);
+  } catch (e) {
+    // Closing the pool ends the lanes still running; their rejections are expected, not news.
+    for (const lane of lanes) lane.catch(() => undefined);
+    throw e;
   } finally {
     await pool?.close();
   }

@@ -327,6 +327,24 @@ describe("errors, cancel and failure", () => {
     expect(await page.getByText("k = 20").count()).toBe(1); // provenance lists the override
   });
 
+  it("a run of a circuit with a schedule lists the changes that fired and marks them on the bands chart", async () => {
+    const induced = JSON.parse(readFileSync("examples/two-stage-reporter-induction.circuit.json", "utf8"));
+    const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: { ...induced, name: `Induction (runs screens ${Date.now()})` } });
+    expect(c.status, c.text).toBe(201);
+    const r = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 300, dt: 5, runs: 50, seed: 12, burn_in: 150 });
+    expect(r.status, r.text).toBe(202);
+    await waitForRun(modeler, r.json.id, (x) => x.status === "succeeded", 60_000);
+    await page.goto(`/labs/${labId}/runs/${r.json.id}`);
+    const changes = page.getByTestId("schedule-changes");
+    await changes.waitFor();
+    expect(await changes.textContent()).toContain("at 100 min: km = 2");
+    const chart = page.getByTestId("bands-chart");
+    await chart.locator("svg g.mark-line path").first().waitFor();
+    // The dotted rule of the change at 100 min, and the subtitle that says what it is.
+    expect(await chart.locator("svg g.mark-rule line").count()).toBeGreaterThanOrEqual(1);
+    expect(await chart.locator("svg").textContent()).toContain("dotted lines: scheduled changes");
+  });
+
   it("a failed run shows its reason", async () => {
     // A birth with no bound on its rate: the cell passes the engine's event cap and the run fails.
     const runaway = {

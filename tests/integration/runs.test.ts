@@ -190,6 +190,44 @@ describe("ensembles through the API and the worker", () => {
     expect(JSON.stringify({ ...pick(summary), w: summary.warnings, b: summary.burn_in })).toBe(JSON.stringify({ ...pick(cli.json), w: cli.json.warnings, b: cli.json.burn_in }));
   });
 
+  it("a circuit with a schedule (format /2) runs through the API and the worker with the numbers, fired changes and warnings of `cli simulate`; tau-leaping is refused at once, naming the method", async () => {
+    await worker();
+    const induced = JSON.parse(readFileSync("examples/two-stage-reporter-induction.circuit.json", "utf8"));
+    const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: { ...induced, name: `Induction ${Date.now()}` } });
+    expect(c.status, c.text).toBe(201);
+    const stored = await modeler.request("GET", `/api/versions/${c.json.version_id}`);
+    expect(JSON.stringify(stored.json)).toContain('"schedule":[{"at":100,"set":{"km":2}}]');
+    const r = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ssa", t_end: 300, dt: 5, runs: 120, seed: 31, burn_in: 50 });
+    expect(r.status, r.text).toBe(202);
+    const run = await waitFor(r.json.id, finished);
+    expect(run.status, JSON.stringify(run)).toBe("succeeded");
+    const summary = (await modeler.request("GET", `/api/runs/${r.json.id}/summary`)).json;
+    const cli = runCli(["simulate", "examples/two-stage-reporter-induction.circuit.json", "--runs", "120", "--seed", "31", "--t-end", "300", "--dt", "5", "--burn-in", "50", "--threads", "1"]);
+    expect(cli.status, cli.stderr).toBe(0);
+    expect(JSON.stringify({ ...pick(summary), s: summary.schedule, w: summary.warnings })).toBe(JSON.stringify({ ...pick(cli.json), s: cli.json.schedule, w: cli.json.warnings }));
+    expect(summary.schedule).toEqual([{ at: 100, set: { km: 2 } }]);
+    expect(summary.warnings.map((w: any) => w.code)).toContain("schedule-after-burn-in");
+    // The mean-field trace stored beside it takes the step too.
+    expect(summary.trace.P[summary.times.indexOf(300)]).toBeGreaterThan(800);
+    const cell = await modeler.request("GET", `/api/runs/${r.json.id}/cells/9`);
+    expect(cell.json.values).toEqual(runCli(["trajectory", "examples/two-stage-reporter-induction.circuit.json", "--seed", "31", "--index", "9", "--t-end", "300", "--dt", "5"]).json.values);
+    const before = Number((await db("runs").count({ n: "*" }))[0]?.n);
+    const tau = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "tau", t_end: 300, dt: 5, runs: 10, seed: 1 });
+    expect(tau.status, tau.text).toBe(422);
+    expect(tau.json.error).toMatch(/^method: tau-leaping does not run a circuit with a schedule/);
+    expect(Number((await db("runs").count({ n: "*" }))[0]?.n)).toBe(before);
+    // A comparison of scheduled designs by tau-leaping is refused the same way, and stores nothing.
+    const comparisons = Number((await db("comparisons").count({ n: "*" }))[0]?.n);
+    const cmp = await modeler.request("POST", "/api/comparisons", {
+      lab_id: labId, name: `Induction by tau ${Date.now()}`,
+      designs: [{ version_id: c.json.version_id }, { version_id: c.json.version_id, overrides: { kp: 3 } }],
+      settings: { method: "tau", t_end: 300, dt: 5, runs: 10 },
+    });
+    expect(cmp.status, cmp.text).toBe(422);
+    expect(cmp.json.error).toMatch(/^settings\.method: tau-leaping does not run a circuit with a schedule/);
+    expect(Number((await db("comparisons").count({ n: "*" }))[0]?.n)).toBe(comparisons);
+  });
+
   it("a deterministic trace run stores the mean-field path", async () => {
     await worker();
     const { id } = await launch({ method: "ode" });

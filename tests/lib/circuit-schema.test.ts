@@ -50,7 +50,7 @@ describe("parseCircuit", () => {
   });
 
   it.each<[string, (c: Json) => void, string]>([
-    ["format tag", (c) => (c.format = "burstwise.circuit/2"), 'format: must be "burstwise.circuit/1"'],
+    ["format tag", (c) => (c.format = "burstwise.circuit/3"), 'format: must be "burstwise.circuit/1" or "burstwise.circuit/2"'],
     ["time unit", (c) => (c.units.time = "day"), 'units.time: must be "s", "min" or "h"'],
     ["amount unit", (c) => (c.units.amount = "mM"), 'units.amount: must be "nM", "uM" or "molecules"'],
     ["missing units", (c) => delete c.units, "units: is required"],

@@ -1,6 +1,6 @@
 import { describe, expect, it } from "vitest";
 
-import { bandsSpec, histogramSpec } from "@/lib/view/run-charts";
+import { bandsSpec, histogramSpec, traceSpec } from "@/lib/view/run-charts";
 import {
   etaSeconds, formatDuration, formatNumber, histogramOf, momentsOf, splitApiError, valuesAfterBurnIn,
   type CellJson, type SummaryJson,
@@ -98,6 +98,17 @@ describe("chart specifications", () => {
     expect(spec.encoding.x.title).toBe("Time (min)");
     expect(spec.layer[0].encoding.y.title).toBe("X (molecules)");
     expect(spec.title.text).toMatch(/X: 10 cells/);
+  });
+
+  it("a run with a schedule marks each change that fired with a dotted rule (bands and trace charts); one without has no such layer", () => {
+    const scheduled = { ...s, schedule: [{ at: 1, set: { km: 2, X: 0 } }] };
+    for (const spec of [bandsSpec(scheduled, "X", { time: "min", amount: "molecules" }), traceSpec(scheduled, { time: "min", amount: "molecules" })] as any[]) {
+      const rules = spec.layer.filter((l: any) => l.mark.type === "rule");
+      expect(rules).toHaveLength(1);
+      expect(rules[0].data.values).toEqual([{ t: 1, change: "km = 2, X = 0" }]);
+      expect(spec.title.subtitle).toMatch(/dotted lines: scheduled changes$/);
+    }
+    expect((bandsSpec(s, "X", { time: "min", amount: "molecules" }) as any).layer.some((l: any) => l.mark.type === "rule")).toBe(false);
   });
 
   it("histogramSpec(h) has a bar per bin and a rule at the mean", () => {

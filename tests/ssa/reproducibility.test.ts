@@ -71,4 +71,17 @@ describe("reproducibility", () => {
     const generic = compileModel(ring);
     expect(statsOf(summarize(generic, o, simulateCells(generic, { ...o, kernel: "generic" }, 0, 10)))).toBe(base);
   });
+
+  it("simulateRun with 2 threads rejects a runaway cell with ModelInputError, and ending the pool's lane raises nothing else (no unhandled rejection)", async () => {
+    let error: unknown;
+    try {
+      await simulateRun(ring, { method: "ssa", tEnd: 2000, dt: 1, seed: 1, runs: 40, burnIn: 10, threads: 2, chunk: 2, maxEventsPerCell: 50 });
+    } catch (e) {
+      error = e;
+    }
+    expect((error as Error).name).toBe("ModelInputError");
+    expect((error as Error).message).toMatch(/exceeded 50 events/);
+    // Give a stray rejection of the ended lane time to surface (vitest fails the run on one).
+    await new Promise((resolve) => setTimeout(resolve, 200));
+  });
 });

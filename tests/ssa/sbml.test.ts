@@ -203,7 +203,8 @@ const hasLibsbml = spawnSync("perl", ["-MLibSBML", "-e", "1"]).status === 0 || p
 describe("SBML export passes libSBML's consistency checks", () => {
   it.skipIf(!hasLibsbml)("circuitToSbml(every shipped example) has no libSBML error or warning, unit checks included", () => {
     const dir = mkdtempSync(join(tmpdir(), "bw-sbml-"));
-    for (const f of readdirSync("examples").filter((x) => x.endsWith(".circuit.json"))) {
+    // Circuits with a schedule are refused by the export (next test) until it writes SBML events.
+    for (const f of readdirSync("examples").filter((x) => x.endsWith(".circuit.json") && !load(`examples/${x}`).schedule)) {
       const file = join(dir, f.replace(".json", ".xml"));
       writeFileSync(file, circuitToSbml(load(`examples/${f}`)));
       const r = spawnSync("perl", ["-e", LIBSBML_CHECK, file], { encoding: "utf8" });
@@ -366,5 +367,11 @@ describe("SBML errors name the element", () => {
   it("a formula text that looks like code stays data: an injected <ci> is rejected as an identifier", () => {
     const xml = wrap(reaction("r1", "<ci>process.exit(1)</ci>"));
     expect(() => sbmlToCircuit(xml)).toThrow(/<ci> "process.exit\(1\)" is not a valid identifier/);
+  });
+});
+
+describe("SBML export of a circuit with a schedule", () => {
+  it("is refused with one line naming the schedule (a file without events would silently lose it)", () => {
+    expect(() => circuitToSbml(load("examples/two-stage-reporter-induction.circuit.json"))).toThrow(/^schedule: SBML export of a schedule is not available yet/);
   });
 });

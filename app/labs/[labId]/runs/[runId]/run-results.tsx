@@ -110,6 +110,7 @@ function BandsSection({ run, summary, species, units, measured, target }: { run:
         At each sampling time, the middle 90% and 50% of the cells (5–95% and 25–75%), their median and mean, against the mean-field ODE trace.
         {!summary.trace && " The mean-field trace could not be computed for this run."}
       </p>
+      <ScheduleChanges summary={summary} timeUnit={units.time} />
       <div data-testid="bands-chart"><Chart spec={spec} fileBase={exportBaseName(run.id, `bands-${species}`)} label={`Bands of ${species}`} /></div>
     </section>
   );
@@ -121,8 +122,20 @@ function TraceSection({ run, summary, units }: { run: RunJson; summary: SummaryJ
     <section aria-labelledby="trace-h" className="flex flex-col gap-2">
       <h2 id="trace-h" className="text-lg font-semibold">Mean-field trace</h2>
       <p className="text-sm text-ink-soft">A trace is deterministic: it has no cells, bands or noise. Launch an ensemble for those.</p>
+      <ScheduleChanges summary={summary} timeUnit={units.time} />
       <div data-testid="trace-chart"><Chart spec={spec} fileBase={exportBaseName(run.id, "trace")} label="Mean-field trace" /></div>
     </section>
+  );
+}
+
+/** The circuit's scheduled changes that fired in this run, as the dotted rules on the charts show them (values in the circuit's units). */
+function ScheduleChanges({ summary, timeUnit }: { summary: SummaryJson; timeUnit: string }) {
+  if (!summary.schedule?.length) return null;
+  return (
+    <p data-testid="schedule-changes" className="text-sm text-ink-soft">
+      <span className="font-medium text-ink">Scheduled changes</span> (dotted lines; amounts in the circuit&apos;s units):{" "}
+      {summary.schedule.map((c) => `at ${c.at} ${timeUnit}: ${Object.entries(c.set).map(([k, v]) => `${k} = ${v}`).join(", ")}`).join("; ")}
+    </p>
   );
 }
 
