@@ -15,8 +15,8 @@ import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, mergeCell
 import { computeFinalIntervals, computeStationaryIntervals } from "./intervals";
 import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type BurnInChoice } from "./stationarity";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
-import { scheduleReport, TAU_SCHEDULE_REFUSAL } from "./schedule";
-import { scheduledDirectKernel } from "./schedule-kernel";
+import { scheduleReport, TAU_SCHEDULE_REFUSAL, type FiredChange, type FiringRecord } from "./schedule";
+import { scheduledDirectKernel, type ScheduledKernelFn } from "./schedule-kernel";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
 import { canCompileWasmKernel, compileWasmKernel } from "./wasm-kernel";
@@ -198,6 +198,11 @@ function simulateCellsInto(m: Model, o: EnsembleOptions, first: number, last: nu
   const acf = makeAcfSums(nS, acfRange(grid, gStart));
   const acfScratch = new Float64Array(Math.max(1, acf.end - acf.start));
   let events = 0;
+  // What the schedule did in each cell (ssa/schedule-runtime.ts), read after each cell's run.
+  const runtime = m.schedule ? (kernel as ScheduledKernelFn).runtime : null;
+  const nE = m.schedule?.entries.length ?? 0;
+  const firstAt = runtime ? new Float64Array((last - first) * nE) : null;
+  const fireCount = runtime ? new Float64Array((last - first) * nE) : null;
 
   for (let start = first; start < last; start += B) {
     const nb = Math.min(B, last - start);
@@ -209,6 +214,10 @@ function simulateCellsInto(m: Model, o: EnsembleOptions, first: number, last: nu
         throw new ModelInputError(`cell ${cell} exceeded ${maxEvents} events; the circuit may grow without bound`);
       }
       events += ev;
+      if (runtime) {
+        (firstAt as Float64Array).set(runtime.firstAt, (cell - first) * nE);
+        (fireCount as Float64Array).set(runtime.count, (cell - first) * nE);
+      }
       for (let i = 0; i < nS; i++) {
         cellPeriods(out, i * B + b, nS * B, grid, gStart, nT, minBand, scratch, periods[i], amplitudes[i]);
         cellPtr[i].push(periods[i].length);
@@ -243,6 +252,7 @@ function simulateCellsInto(m: Model, o: EnsembleOptions, first: number, last: nu
           sumHead: heads[i],
           sumTail: tails[i],
         })),
+        ...(firstAt && fireCount ? { schedule: { firstAt, count: fireCount } } : {}),
       },
     ],
     cellSamples: nT - gStart,
@@ -286,11 +296,27 @@ export function summarize(m: Model, o: EnsembleOptions, partial: Partial, ctx: S
   summary.warnings.push(...(choice?.warnings ?? []), ...windowWarnings(partial, summary.burn_in, m.timeUnit));
   summary.warnings.push(...driftWarnings(m.species, checkDrift(partial, scale), summary.burn_in, m.timeUnit, choice?.relaxationTime ?? null));
   if (m.schedule) {
-    const { fired, warnings } = scheduleReport(m, { tEnd: o.tEnd, burnIn: summary.burn_in });
+    const { fired, warnings } = scheduleReport(m, { tEnd: o.tEnd, burnIn: summary.burn_in, cells: partial.cells }, firingRecord(m, partial));
     summary.schedule = fired;
     summary.warnings.push(...warnings);
   }
   return summary;
+}
+
+/** The per-cell schedule records of a merged partial, in cell order; undefined when a segment lacks them (a partial stored before they were kept). */
+function firingRecord(m: Model, partial: Partial): FiringRecord | undefined {
+  if (!m.schedule || !partial.segments.every((sg) => sg.schedule)) return undefined;
+  const parts = partial.segments.map((sg) => sg.schedule as NonNullable<typeof sg.schedule>);
+  const join = (pick: (r: (typeof parts)[number]) => Float64Array) => {
+    const out = new Float64Array(parts.reduce((n, r) => n + pick(r).length, 0));
+    let at = 0;
+    for (const r of parts) {
+      out.set(pick(r), at);
+      at += pick(r).length;
+    }
+    return out;
+  };
+  return { cells: partial.cells, firstAt: join((r) => r.firstAt), count: join((r) => r.count) };
 }
 
 /** `window-too-short` (field burn_in) when the window after burn-in has fewer than 4 grid points: no drift check is possible. */
@@ -339,6 +365,8 @@ export interface TrajectoryResult {
   amount_unit: string;
   /** Caveats on this path (ssa/warnings.ts); [] when none. */
   warnings: EngineWarning[];
+  /** What the circuit's schedule did in this cell (ssa/schedule.ts); absent without a schedule. */
+  schedule?: FiredChange[];
 }
 
 /**
@@ -356,6 +384,8 @@ export function trajectory(m: Model, o: EnsembleOptions, index: number, units: "
   const maxEvents = o.maxEventsPerCell ?? DEFAULT_MAX_EVENTS;
   const events = kernelFor(m, o)(x, cellRngState(o.seed, index), withSentinel(grid), nT, out, 0, 1, maxEvents);
   if (events < 0) throw new ModelInputError(`cell ${index} exceeded ${maxEvents} events; the circuit may grow without bound`);
+  const runtime = m.schedule ? (kernelFor(m, o) as ScheduledKernelFn).runtime : null;
+  const schedule = runtime ? scheduleReport(m, { tEnd: o.tEnd, burnIn: burnInOf(o) }, { cells: 1, firstAt: runtime.firstAt.slice(), count: runtime.count.slice() }) : null;
   const scale = units === "model" ? m.omega : 1;
   const values: Record<string, number[]> = {};
   m.species.forEach((id, i) => {
@@ -374,6 +404,7 @@ export function trajectory(m: Model, o: EnsembleOptions, index: number, units: "
     method: o.method,
     time_unit: m.timeUnit,
     amount_unit: units === "model" ? m.amountUnit : "molecules",
-    warnings: [],
+    warnings: schedule?.warnings.filter((w) => w.code !== "schedule-after-burn-in") ?? [],
+    ...(schedule ? { schedule: schedule.fired } : {}),
   };
 }

@@ -6,7 +6,8 @@
  * calls compileParsedModel, and worker threads receive formulas already parsed.
  */
 import { compileExpression, expressionParameters, expressionSpecies, type Expr, type ExprEvaluator } from "./expr-ast";
-import { ModelInputError, type AmountUnit, type Circuit, type NumberOrParam, type ScheduledChange, type TimeUnit } from "./types";
+import { parseCondition, type Condition } from "./condition";
+import { isTimedChange, ModelInputError, type AmountUnit, type Circuit, type NumberOrParam, type TimeUnit } from "./types";
 
 /** Avogadro's number, mol⁻¹, exact in the 2019 SI. */
 export const AVOGADRO = 6.02214076e23;
@@ -106,25 +107,37 @@ export interface Model {
   scratch: { block?: Float64Array };
 }
 
-/** One time of a schedule: the species set then (index, count in molecules, amount in model units), and the rates from then on. */
+/** One change of a schedule compiled: what it sets (species as counts and amounts; parameters) and when. */
 export interface CompiledChange {
+  /** Position in the circuit's schedule. */
+  index: number;
+  /** Time of a timed change; NaN for a triggered one. */
   at: number;
   species: Int32Array;
   counts: Float64Array;
   amounts: Float64Array;
-  /** Parameters set at this time (cumulative values are in the next phase's `parameters`). */
+  /** Parameters set by this change (the values in force are the model's, then every change so far). */
   parameters: Record<string, number>;
+  /** A triggered change: its condition (species in model amounts) and delay (model time). */
+  when?: { condition: Condition; source: string; delay: number };
 }
 
 /**
- * A schedule compiled: its changes in time order, and phases[k], the model whose rates hold after
- * changes[0..k−1] (phases[0] is the model itself; a change that sets no parameter keeps the
- * phase before it). Every phase has the same species, reactions and dependency graph.
+ * A schedule compiled: every change in schedule order, the timed ones in time order, the
+ * triggered ones, and the model whose rates hold for a set of parameter values in force (the
+ * base model for none; compiled once per distinct set and cached; ssa/schedule-runtime.ts walks
+ * through them). Every phase has the same species, reactions and dependency graph.
  */
 export interface CompiledSchedule {
-  changes: CompiledChange[];
-  phases: Model[];
+  entries: CompiledChange[];
+  timed: CompiledChange[];
+  triggers: CompiledChange[];
+  /** @throws ModelInputError when more than MAX_PHASES distinct parameter sets arise in one run. */
+  phaseFor(inForce: Readonly<Record<string, number>>): Model;
 }
+
+/** Distinct sets of parameter values a schedule may bring about in one model (each a compiled model). */
+export const MAX_PHASES = 256;
 
 /** Signature of a one-cell kernel (ssa/kernel.ts DirectKernel), repeated here to avoid an import cycle. */
 export type KernelFn = (
@@ -229,18 +242,30 @@ export function compileParsedModel(c: Circuit, overrides: Record<string, number>
 }
 
 /**
- * The schedule's phases: each change's species as counts, and a model compiled with the
- * parameters in force after it (the overrides, then every change up to it).
- * @throws ModelInputError naming `schedule[k].set.<name>` when a name is unknown or a value breaks a bound.
+ * The schedule compiled: each change's species as counts, its parameters checked by compiling the
+ * model with them in force (so a bad value is refused before any cell runs), each condition parsed.
+ * @throws ModelInputError naming `schedule[k].<field>` when a name is unknown, a value breaks a bound or a condition is invalid.
  */
 function compileSchedule(c: Circuit, overrides: Record<string, number> | undefined, parsed: (Expr | null)[], base: Model): CompiledSchedule {
   const plain: Circuit = { ...c, schedule: undefined };
   const params = c.parameters ?? {};
-  const changes: CompiledChange[] = [];
-  const phases: Model[] = [base];
-  let inForce: Record<string, number> = { ...(overrides ?? {}) };
+  const isParameter = (id: string) => Object.prototype.hasOwnProperty.call(params, id) && !base.speciesIndex.has(id);
+  const phases = new Map<string, Model>();
+  const keyOf = (inForce: Readonly<Record<string, number>>) => JSON.stringify(Object.keys(inForce).sort().map((k) => [k, inForce[k]]));
+  phases.set(keyOf({}), base);
+  const phaseFor = (inForce: Readonly<Record<string, number>>): Model => {
+    const key = keyOf(inForce);
+    let phase = phases.get(key);
+    if (!phase) {
+      if (phases.size >= MAX_PHASES) throw new ModelInputError(`schedule: the changes bring about more than ${MAX_PHASES} distinct sets of parameter values; set fewer parameters, or fewer distinct values`);
+      phase = compileRates(plain, { ...(overrides ?? {}), ...inForce }, parsed);
+      phases.set(key, phase);
+    }
+    return phase;
+  };
+  const entries: CompiledChange[] = [];
+  let lastAt = -Infinity;
   (c.schedule ?? []).forEach((change, k) => {
-    if (k > 0 && change.at < (c.schedule as ScheduledChange[])[k - 1].at) throw new ModelInputError(`schedule[${k}].at: must not be earlier than schedule[${k - 1}].at`);
     const species: number[] = [];
     const counts: number[] = [];
     const amounts: number[] = [];
@@ -255,20 +280,30 @@ function compileSchedule(c: Circuit, overrides: Record<string, number> | undefin
       } else if (Object.prototype.hasOwnProperty.call(params, name)) set[name] = value;
       else throw new ModelInputError(`schedule[${k}].set.${name}: unknown species or parameter "${name}"`);
     }
-    let phase = phases[phases.length - 1];
     if (Object.keys(set).length > 0) {
-      inForce = { ...inForce, ...set };
       try {
-        phase = compileRates(plain, inForce, parsed);
+        phaseFor(set);
       } catch (e) {
         if (e instanceof ModelInputError) throw new ModelInputError(`schedule[${k}].set: ${e.message.replace(/^overrides\./, "")}`);
         throw e;
       }
     }
-    changes.push({ at: change.at, species: Int32Array.from(species), counts: Float64Array.from(counts), amounts: Float64Array.from(amounts), parameters: set });
-    phases.push(phase);
+    const entry: CompiledChange = { index: k, at: NaN, species: Int32Array.from(species), counts: Float64Array.from(counts), amounts: Float64Array.from(amounts), parameters: set };
+    if (isTimedChange(change)) {
+      if (!(Number.isFinite(change.at) && change.at >= 0)) throw new ModelInputError(`schedule[${k}].at: must be a number >= 0`);
+      if (change.at < lastAt) throw new ModelInputError(`schedule[${k}].at: must not be earlier than the timed change before it (${lastAt})`);
+      lastAt = change.at;
+      entry.at = change.at;
+    } else {
+      const delay = change.delay ?? 0;
+      if (!(Number.isFinite(delay) && delay >= 0)) throw new ModelInputError(`schedule[${k}].delay: must be a number >= 0`);
+      const res = parseCondition(change.when, { isSpecies: (id) => base.speciesIndex.has(id), isParameter });
+      if (!res.ok) throw new ModelInputError(`schedule[${k}].when: ${res.reason}`);
+      entry.when = { condition: res.condition, source: change.when, delay };
+    }
+    entries.push(entry);
   });
-  return { changes, phases };
+  return { entries, timed: entries.filter((e) => !e.when), triggers: entries.filter((e) => e.when), phaseFor };
 }
 
 function compileRates(c: Circuit, overrides: Record<string, number> | undefined, parsed: (Expr | null)[]): Model {

@@ -6,6 +6,8 @@ import { makeGrid } from "./grid";
 import { meanFieldJacobianEvaluator, type JacobianModel } from "./lna";
 import type { Model } from "./model";
 import { integrate, type IntegrateStats, type OdeMethod, type OdeRhs } from "./ode-solvers";
+import type { FiringRecord } from "./schedule";
+import { ScheduleRuntime } from "./schedule-runtime";
 
 export { OdeError, integrate, type OdeMethod, type OdeRhs, type IntegrateOptions, type IntegrateStats } from "./ode-solvers";
 
@@ -36,6 +38,8 @@ export interface OdeSolution {
   /** Final state in model units (whatever `units` is). */
   final: Float64Array;
   stats: IntegrateStats;
+  /** What the circuit's schedule did along the trace (one "cell"); absent without a schedule. */
+  firings?: FiringRecord;
 }
 
 /** The output grid: the same points as an ensemble's (ssa/grid.ts). */
@@ -84,9 +88,9 @@ export function solveOde(model: MeanFieldModel, options: SolveOdeOptions): OdeSo
   const y0 = options.y0 ?? model.initialAmounts;
   if (y0.length !== model.nSpecies) throw new RangeError(`y0 must have ${model.nSpecies} entries, got ${y0.length}`);
   const integrateOptions = { method: options.method, rtol: options.rtol, atol: options.atol, maxSteps: options.maxSteps };
-  const { values, stats } = model.schedule
+  const { values, stats, firings } = model.schedule
     ? integrateScheduled(model as Model, y0, grid, integrateOptions)
-    : integrate(meanFieldRhs(model), y0, grid, { ...integrateOptions, jacobian: exactJacobian(model) });
+    : { ...integrate(meanFieldRhs(model), y0, grid, { ...integrateOptions, jacobian: exactJacobian(model) }), firings: undefined };
   const nS = model.nSpecies;
   const scale = units === "molecules" ? model.omega : 1;
   const trace: Record<string, number[]> = {};
@@ -96,7 +100,7 @@ export function solveOde(model: MeanFieldModel, options: SolveOdeOptions): OdeSo
     trace[id] = path;
   });
   const final = values.slice((grid.length - 1) * nS);
-  return { units, species: model.species.slice(), times: Array.from(grid), trace, final, stats };
+  return { units, species: model.species.slice(), times: Array.from(grid), trace, final, stats, ...(firings ? { firings } : {}) };
 }
 
 /** A compiled Model knows its rate laws, so the stiff method gets the exact Jacobian. */
@@ -104,45 +108,104 @@ function exactJacobian(model: MeanFieldModel) {
   return "law" in model && "expressions" in model ? meanFieldJacobianEvaluator(model as MeanFieldModel & JacobianModel) : undefined;
 }
 
+/** Points per grid step at which the mean field's trigger conditions are checked. */
+export const TRIGGER_CHECKS_PER_STEP = 8;
+/** Bisection steps that locate a trigger's crossing between two checks (the bracket shrinks to 2^−40, or to 10^−10 of the time). */
+const CROSSING_BISECTIONS = 40;
+
 /**
- * The mean field of a model with a schedule, on `grid`: integrated phase by phase, each change a
- * hard stop where the species it sets jump to their new amounts and the next phase's rates take
- * over (right-continuous, as the stochastic kernels sample). The step counts add over phases.
+ * The mean field of a model with a schedule, on `grid`, walked by the same runtime as the
+ * stochastic kernel (ssa/schedule-runtime.ts): integrated piece by piece, each timed change or
+ * delayed firing a hard stop where the species it sets jump to their new amounts and the rates
+ * in force change (right-continuous, as the stochastic kernels sample). Trigger conditions are
+ * checked TRIGGER_CHECKS_PER_STEP times per grid step; a condition found to have turned true is
+ * located by bisection between the last two checks (to 2^−40 of their spacing, or 10^−10 of the time) and the change
+ * applied there. A condition that turns true and false again between two checks is missed (the
+ * direct method, which checks after every reaction, is not subject to this). The step counts add
+ * over pieces.
  */
-function integrateScheduled(model: Model, y0: ArrayLike<number>, grid: Float64Array, o: { method?: OdeMethod; rtol?: number; atol?: number; maxSteps?: number }): { values: Float64Array; stats: IntegrateStats } {
+function integrateScheduled(model: Model, y0: ArrayLike<number>, grid: Float64Array, o: { method?: OdeMethod; rtol?: number; atol?: number; maxSteps?: number }): { values: Float64Array; stats: IntegrateStats; firings: FiringRecord } {
   const sch = model.schedule as NonNullable<Model["schedule"]>;
+  const rt = new ScheduleRuntime(model, sch, "amounts");
   const nS = model.nSpecies;
-  const values = new Float64Array(grid.length * nS);
+  const nG = grid.length;
+  const tLast = grid[nG - 1];
+  const values = new Float64Array(nG * nS);
   const y = Float64Array.from(y0);
   let stats: IntegrateStats | null = null;
-  let k = 0; // changes applied
-  let t = grid[0];
-  const applyUpTo = (time: number) => {
-    while (k < sch.changes.length && sch.changes[k].at <= time) {
-      const ch = sch.changes[k++];
-      for (let p = 0; p < ch.species.length; p++) y[ch.species[p]] = ch.amounts[p];
-    }
-  };
-  applyUpTo(t);
-  let g = 0;
-  while (g < grid.length) {
-    // Grid points at the current time show the state now (after the changes at it).
-    while (g < grid.length && grid[g] <= t) values.set(y, nS * g++);
-    if (g === grid.length) break;
-    const stop = k < sch.changes.length ? Math.min(sch.changes[k].at, grid[grid.length - 1]) : grid[grid.length - 1];
-    const sub: number[] = [t];
-    let h = g;
-    while (h < grid.length && grid[h] < stop) sub.push(grid[h++]);
-    sub.push(stop);
-    const phase = sch.phases[k];
-    const r = integrate(meanFieldRhs(phase), y, Float64Array.from(sub), { ...o, jacobian: exactJacobian(phase) });
-    for (let q = 1; q < sub.length - 1; q++) values.set(r.values.subarray(q * nS, (q + 1) * nS), nS * g++);
-    y.set(r.values.subarray((sub.length - 1) * nS));
+  const run = (from: Float64Array, times: number[]) => {
+    const r = integrate(meanFieldRhs(rt.phase), from, Float64Array.from(times), { ...o, jacobian: exactJacobian(rt.phase) });
     stats = stats ? addStats(stats, r.stats) : r.stats;
+    return r.values;
+  };
+  const check = rt.hasTriggers && nG > 1 ? (grid[1] - grid[0]) / TRIGGER_CHECKS_PER_STEP : Infinity;
+  let t = grid[0];
+  rt.start(y);
+  let g = 0;
+  while (g < nG) {
+    // Grid points at the current time show the state now (after the changes at it).
+    while (g < nG && grid[g] <= t) values.set(y, nS * g++);
+    if (g === nG) break;
+    const stopAt = rt.nextStop();
+    const stop = Math.min(stopAt, tLast);
+    // The piece's times: now, the grid points and checks before the stop, the stop.
+    const sub: number[] = [t];
+    const isGrid: boolean[] = [false];
+    let h = g;
+    let c = t + check;
+    while (true) {
+      const next = Math.min(h < nG ? grid[h] : Infinity, c, stop);
+      if (next >= stop) break;
+      sub.push(next);
+      isGrid.push(h < nG && next === grid[h]);
+      if (h < nG && next === grid[h]) h++;
+      if (next === c) c += check;
+      else if (c - next < 1e-12 * check) c = next + check; // a check falling on a grid point
+    }
+    sub.push(stop);
+    isGrid.push(false);
+    const v = run(y, sub);
+    let crossed = false;
+    for (let q = 1; q < sub.length; q++) {
+      const yq = v.subarray(q * nS, (q + 1) * nS);
+      if (rt.hasTriggers && rt.wouldFire(yq)) {
+        // A condition turned true in (sub[q−1], sub[q]]: bisect for the crossing.
+        let lo = sub[q - 1];
+        let hi = sub[q];
+        let ylo = Float64Array.from(v.subarray((q - 1) * nS, q * nS));
+        let yhi = Float64Array.from(yq);
+        const tol = 1e-10 * Math.max(1, Math.abs(hi));
+        for (let b = 0; b < CROSSING_BISECTIONS && hi - lo > tol; b++) {
+          const mid = lo + (hi - lo) / 2;
+          if (mid <= lo || mid >= hi) break;
+          const ym = run(ylo, [lo, mid]).slice(nS);
+          if (rt.wouldFire(ym)) {
+            hi = mid;
+            yhi = ym;
+          } else {
+            rt.observe(ym);
+            lo = mid;
+            ylo = ym;
+          }
+        }
+        y.set(yhi);
+        t = hi;
+        rt.checkTriggers(y, t);
+        crossed = true;
+        break;
+      }
+      if (rt.hasTriggers) rt.observe(yq);
+      if (isGrid[q]) values.set(yq, nS * g++);
+    }
+    if (crossed) continue;
+    y.set(v.subarray((sub.length - 1) * nS));
     t = stop;
-    applyUpTo(t);
+    if (stopAt <= t) rt.applyDue(y, t);
+    else if (t >= tLast) {
+      while (g < nG) values.set(y, nS * g++);
+    }
   }
-  return { values, stats: stats ?? { method: "dopri5", switchedAt: null, steps: 0, rejected: 0, rhsEvaluations: 0, jacobians: 0 } };
+  return { values, stats: stats ?? { method: "dopri5", switchedAt: null, steps: 0, rejected: 0, rhsEvaluations: 0, jacobians: 0 }, firings: { cells: 1, firstAt: rt.firstAt.slice(), count: rt.count.slice() } };
 }
 
 /** Step counts of two pieces of one integration; method and switch time of the later piece that has them. */

@@ -91,7 +91,7 @@ export function odeSummary(model: Model, o: EngineOptions, wallS = 0, choice: Bu
     trace: sol.trace,
   };
   if (model.schedule) {
-    const report = scheduleReport(model, { tEnd: o.tEnd, burnIn });
+    const report = scheduleReport(model, { tEnd: o.tEnd, burnIn, cells: 1 }, sol.firings);
     summary.schedule = report.fired;
     summary.warnings.push(...report.warnings);
   }

@@ -8,6 +8,7 @@
  */
 
 import type { MomentIntervals, PeriodIntervals } from "./intervals";
+import type { FiredChange } from "./schedule";
 import { acfVerdict, mergeAcfSums, MIN_SAMPLES_PER_PERIOD, type AcfEvidence, type AcfSums } from "./oscillation";
 import type { BurnInSource } from "./stationarity";
 import { makeWarning, type EngineWarning } from "./warnings";
@@ -37,6 +38,11 @@ export interface PeriodSegment {
   first: number;
   last: number;
   species: CellSeriesList[];
+  /**
+   * What the schedule did in each cell (circuits with a schedule): per cell c and schedule entry
+   * e, the time it first fired, firstAt[c·E + e] (NaN: never), and how many times, count[c·E + e].
+   */
+  schedule?: { firstAt: Float64Array; count: Float64Array };
 }
 
 /**
@@ -272,7 +278,24 @@ export function joinRun(run: PeriodSegment[]): PeriodSegment {
       }
       return joined;
     }),
+    ...joinSchedules(run),
   };
+}
+
+/** The schedule records of contiguous segments joined in cell order, when every one has them. */
+function joinSchedules(run: PeriodSegment[]): Pick<PeriodSegment, "schedule"> {
+  if (!run.every((sg) => sg.schedule)) return {};
+  const cat = (pick: (r: NonNullable<PeriodSegment["schedule"]>) => Float64Array) => {
+    const parts = run.map((sg) => pick(sg.schedule as NonNullable<PeriodSegment["schedule"]>));
+    const out = new Float64Array(parts.reduce((n, a) => n + a.length, 0));
+    let at = 0;
+    for (const a of parts) {
+      out.set(a, at);
+      at += a.length;
+    }
+    return out;
+  };
+  return { schedule: { firstAt: cat((r) => r.firstAt), count: cat((r) => r.count) } };
 }
 
 /**
@@ -636,7 +659,7 @@ export interface SimulateSummary {
   omega: number;
   trace?: Record<string, number[]>;
   /** The circuit's scheduled changes that fired within [0, t_end] (ssa/schedule.ts); absent without a schedule. */
-  schedule?: { at: number; set: Record<string, number> }[];
+  schedule?: FiredChange[];
   /** Caveats on these numbers (ssa/warnings.ts), e.g. `grid-too-coarse`, `damped-oscillation`, `quasi-cycles`,
    * `not-stationary`, `window-too-short`. */
   warnings: EngineWarning[];

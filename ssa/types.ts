@@ -15,10 +15,26 @@ export type CircuitFormat = (typeof CIRCUIT_FORMATS)[number];
  * set to that amount (model amount unit; molecules are added or removed to reach it, rounded to
  * a count) and each parameter to that value, for the rest of the run.
  */
-export interface ScheduledChange {
+export interface TimedChange {
   at: number;
   set: Record<string, number>;
 }
+
+/**
+ * A change triggered by the state of the cell: each time `when` (a condition on species, in the
+ * model amount unit; ssa/condition.ts) turns from false to true, `set` is applied `delay` later
+ * (default 0: at once). The condition counts as false before time 0, so one that holds at the
+ * start fires at time 0.
+ */
+export interface TriggeredChange {
+  when: string;
+  delay?: number;
+  set: Record<string, number>;
+}
+
+export type ScheduledChange = TimedChange | TriggeredChange;
+
+export const isTimedChange = (c: ScheduledChange): c is TimedChange => "at" in c && typeof (c as TimedChange).at === "number";
 
 export type TimeUnit = "s" | "min" | "h";
 export type AmountUnit = "nM" | "uM" | "molecules";

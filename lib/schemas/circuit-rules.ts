@@ -8,6 +8,7 @@
 import { z } from "zod";
 
 import { describeIssue as describeAnyIssue, formatPath } from "@/lib/schemas/common";
+import { parseCondition } from "@/ssa/condition";
 import type { ExprScope, ParseResult } from "@/ssa/expr";
 import { CIRCUIT_FORMAT_2, CIRCUIT_FORMATS, isReservedId, reservedIdReason, type Circuit } from "@/ssa/types";
 
@@ -111,13 +112,22 @@ const ParameterInfo = z.strictObject(
   { error: (iss) => (iss.code === "invalid_type" ? "must be an object { unit?, note? }" : undefined) },
 );
 
-/** One timed change: `{ "at": 100, "set": { "IPTG": 1000 } }`. */
+/** Longest delay of a triggered change, in the model's time unit (a bound, not a modelling limit). */
+export const MAX_TRIGGER_DELAY = 1e9;
+
+/**
+ * One change of a schedule: timed, `{ "at": 100, "set": { "IPTG": 1000 } }`, or triggered by the
+ * state, `{ "when": "A > 50", "delay": 5, "set": { … } }` (exactly one of `at` and `when`;
+ * scheduleIssues says which is missing or extra).
+ */
 const ScheduledChange = z.strictObject(
   {
-    at: finiteNumber().nonnegative("must be >= 0"),
+    at: finiteNumber().nonnegative("must be >= 0").optional(),
+    when: z.string({ error: 'must be a condition such as "A > 50" (a string)' }).optional(),
+    delay: finiteNumber().nonnegative("must be >= 0").max(MAX_TRIGGER_DELAY, `must be at most ${MAX_TRIGGER_DELAY}`).optional(),
     set: z.record(z.string(), finiteNumber().nonnegative("must be >= 0"), { error: required("an object of species or parameter names to numbers") }),
   },
-  { error: (iss) => (iss.code === "invalid_type" ? "must be an object { at, set }" : undefined) },
+  { error: (iss) => (iss.code === "invalid_type" ? "must be an object { at, set } or { when, delay?, set }" : undefined) },
 );
 
 export const CircuitShape = z.strictObject({
@@ -144,7 +154,7 @@ export const CircuitShape = z.strictObject({
     .min(1, "must list at least one reaction")
     .max(MAX_REACTIONS, `must list at most ${MAX_REACTIONS} reactions`),
   schedule: z
-    .array(ScheduledChange, { error: required("a list of timed changes { at, set }") })
+    .array(ScheduledChange, { error: required("a list of changes { at, set } or { when, delay?, set }") })
     .max(MAX_SCHEDULE, `must list at most ${MAX_SCHEDULE} changes`)
     .optional(),
 });
@@ -258,8 +268,19 @@ function scheduleIssues(c: z.infer<typeof CircuitShape>, speciesIds: Set<string>
       readers.set(v, [...(readers.get(v) ?? []), { path: `reactions[${i}].rate.${field}`, ...bound }]);
     }
   });
+  let lastTimed = -1;
   schedule.forEach((change, k) => {
-    if (k > 0 && change.at < schedule[k - 1].at) add(["schedule", k, "at"], `must not be earlier than schedule[${k - 1}].at (${schedule[k - 1].at})`);
+    if (change.at !== undefined && change.when !== undefined) add(["schedule", k], 'has both "at" and "when"; a change is either timed or triggered');
+    else if (change.at === undefined && change.when === undefined) add(["schedule", k], 'needs "at" (a time) or "when" (a condition on species)');
+    if (change.at !== undefined) {
+      if (change.delay !== undefined) add(["schedule", k, "delay"], 'applies only to a triggered change ("when"); a timed change happens at "at"');
+      if (lastTimed >= 0 && change.at < (schedule[lastTimed].at as number)) add(["schedule", k, "at"], `must not be earlier than schedule[${lastTimed}].at (${schedule[lastTimed].at})`);
+      lastTimed = k;
+    }
+    if (change.when !== undefined) {
+      const parsed = parseCondition(change.when, { isSpecies: (id) => speciesIds.has(id), isParameter });
+      if (!parsed.ok) add(["schedule", k, "when"], parsed.reason);
+    }
     const names = Object.keys(change.set);
     if (names.length === 0) add(["schedule", k, "set"], "must change at least one species or parameter");
     for (const name of names) {

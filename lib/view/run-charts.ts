@@ -5,7 +5,7 @@
  */
 import type { VisualizationSpec } from "vega-embed";
 
-import type { CellJson, SummaryJson } from "@/lib/view/run-view";
+import { scheduleMarkTime, scheduleSets, type CellJson, type SummaryJson } from "@/lib/view/run-view";
 
 /** Layer names of the bands chart, in legend order. */
 export const BAND_LAYERS = ["5–95% of cells", "25–75% of cells", "Median", "Mean", "Mean-field trace"] as const;
@@ -24,11 +24,14 @@ const SCHEDULE_COLOUR = "#6d28d9";
 
 /** One dotted vertical rule per scheduled change that fired, with what it set in the tooltip; none without a schedule. */
 export function scheduleLayers(s: Pick<SummaryJson, "schedule">) {
-  const rows = (s.schedule ?? []).map((c) => ({ t: c.at, change: Object.entries(c.set).map(([k, v]) => `${k} = ${v}`).join(", ") }));
+  const rows = (s.schedule ?? []).flatMap((c) => {
+    const t = scheduleMarkTime(c);
+    return t === null ? [] : [{ t, change: scheduleSets(c), kind: c.when === undefined ? "at" : `mean first firing of "${c.when}"` }];
+  });
   const layer = {
     data: { values: rows },
     mark: { type: "rule" as const, strokeDash: [2, 3], strokeWidth: 1.4, color: SCHEDULE_COLOUR },
-    encoding: { x: { field: "t", type: "quantitative" as const }, tooltip: [{ field: "t", title: "Scheduled change at" }, { field: "change", title: "Sets" }] },
+    encoding: { x: { field: "t", type: "quantitative" as const }, tooltip: [{ field: "t", title: "Scheduled change at" }, { field: "kind", title: "Time" }, { field: "change", title: "Sets" }] },
   };
   return rows.length === 0 ? [] : [layer];
 }

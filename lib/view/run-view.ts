@@ -83,8 +83,8 @@ export interface SummaryJson {
   amount_unit?: string;
   omega?: number;
   trace?: Record<string, (number | null)[]>;
-  /** The circuit's scheduled changes that fired (format /2 circuits only). */
-  schedule?: { at: number; set: Record<string, number> }[];
+  /** The circuit's scheduled changes (format /2 circuits only; ssa/schedule.ts FiredChange). */
+  schedule?: ScheduleEntryJson[];
   /** Every distinct amount after burn-in with its number of (cell, grid time) samples. */
   stationary_distribution?: Record<string, { values: number[]; counts: number[] }>;
 }
@@ -249,3 +249,39 @@ export function splitApiError(error: string): { field: string | null; reason: st
   if (!m || m[1] === "body") return { field: null, reason: error };
   return { field: m[1], reason: m[2] };
 }
+
+/** One change of a run's schedule report (ssa/schedule.ts FiredChange). */
+export interface ScheduleEntryJson {
+  index?: number;
+  at?: number;
+  when?: string;
+  delay?: number;
+  set: Record<string, number>;
+  cells?: number;
+  of?: number;
+  first_at?: { mean: number; ci: [number, number] | null; sd: number; median: number; min: number; max: number } | null;
+  firings_per_cell?: number;
+}
+
+const fmt = (x: number) => (Math.abs(x) >= 100 ? x.toFixed(0) : x.toPrecision(3).replace(/\.?0+$/, ""));
+
+/** What a change sets, as "IPTG = 1000, k = 2". */
+export const scheduleSets = (c: ScheduleEntryJson): string => Object.entries(c.set).map(([k, v]) => `${k} = ${v}`).join(", ");
+
+/** The time a chart marks a change at: a timed change's time, a triggered one's mean first firing; null when it never fired. */
+export const scheduleMarkTime = (c: ScheduleEntryJson): number | null => (c.at !== undefined ? c.at : (c.first_at?.mean ?? null));
+
+/**
+ * One change in words: "at 100 min: IPTG = 1000", or "when A > 50 (then 5 min later): k = 0;
+ * fired in 998 of 1000 cells, first at 102 min (95% CI 100–104, range 60–170)".
+ */
+export function describeScheduleEntry(c: ScheduleEntryJson, timeUnit: string): string {
+  if (c.when === undefined) return `at ${c.at} ${timeUnit}: ${scheduleSets(c)}`;
+  const head = `when ${c.when}${c.delay ? ` (then ${c.delay} ${timeUnit} later)` : ""}: ${scheduleSets(c)}`;
+  const f = c.first_at;
+  if (!f) return `${head}; never fired`;
+  const ci = f.ci ? `95% CI ${fmt(f.ci[0])}–${fmt(f.ci[1])}, ` : "";
+  const where = c.of === 1 ? "fired" : `fired in ${c.cells} of ${c.of} cells`;
+  return `${head}; ${where}, first at ${c.of === 1 ? "" : "mean "}${fmt(f.mean)} ${timeUnit}${c.of === 1 ? "" : ` (${ci}range ${fmt(f.min)}–${fmt(f.max)})`}`;
+}
+

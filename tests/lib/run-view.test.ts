@@ -105,7 +105,7 @@ describe("chart specifications", () => {
     for (const spec of [bandsSpec(scheduled, "X", { time: "min", amount: "molecules" }), traceSpec(scheduled, { time: "min", amount: "molecules" })] as any[]) {
       const rules = spec.layer.filter((l: any) => l.mark.type === "rule");
       expect(rules).toHaveLength(1);
-      expect(rules[0].data.values).toEqual([{ t: 1, change: "km = 2, X = 0" }]);
+      expect(rules[0].data.values).toEqual([{ t: 1, change: "km = 2, X = 0", kind: "at" }]);
       expect(spec.title.subtitle).toMatch(/dotted lines: scheduled changes$/);
     }
     expect((bandsSpec(s, "X", { time: "min", amount: "molecules" }) as any).layer.some((l: any) => l.mark.type === "rule")).toBe(false);

@@ -105,13 +105,13 @@ describe("schedule: induction step on the two-stage reporter", () => {
   it("the result lists the changes that fired and warns about one after burn-in and one after t_end", async () => {
     const c = parseCircuit({ ...json(), schedule: [{ at: 100, set: { km: 2 } }, { at: 150, set: { P: 10 } }, { at: 900, set: { km: 0 } }] });
     const s = await simulateRun(c, { method: "ssa", tEnd: 400, dt: 10, seed: 2, runs: 10, burnIn: 120, threads: 1 });
-    expect(s.schedule).toEqual([{ at: 100, set: { km: 2 } }, { at: 150, set: { P: 10 } }]);
+    expect(s.schedule).toEqual([{ index: 0, at: 100, set: { km: 2 }, cells: 10, of: 10 }, { index: 1, at: 150, set: { P: 10 }, cells: 10, of: 10 }]);
     expect(s.warnings.filter((w) => w.code.startsWith("schedule")).map((w) => [w.code, w.field])).toEqual([
       ["schedule-after-end", "schedule[2].at"],
       ["schedule-after-burn-in", "schedule"],
     ]);
     const ode = await simulateRun(c, { method: "ode", tEnd: 400, dt: 10, burnIn: 120 });
-    expect(ode.schedule).toEqual(s.schedule);
+    expect(ode.schedule).toEqual(s.schedule?.map((f) => ({ ...f, cells: 1, of: 1 })));
     // A circuit without a schedule has no such key: its output bytes are as before.
     const plain = await simulateRun(parseCircuit({ ...json(), format: "burstwise.circuit/1", schedule: undefined }), { method: "ode", tEnd: 40, dt: 10 });
     expect("schedule" in plain).toBe(false);

@@ -13,7 +13,7 @@ import { seriesOverlayLayer, seriesOverlayPoints, snapshotOverlayBins, type Data
 import { bandsSpec, cellsSpec, distributionVersusMeasuredSpec, histogramSpec, traceSpec } from "@/lib/view/run-charts";
 import { bandsCsv, exportBaseName, exportFileName, noiseCsv } from "@/lib/view/run-export";
 import {
-  amountUnitOf, burnInOf, formatInterval, formatNumber, histogramOf, momentsOf, valuesAfterBurnIn, weightedHistogramOf,
+  amountUnitOf, burnInOf, describeScheduleEntry, formatInterval, formatNumber, histogramOf, momentsOf, valuesAfterBurnIn, weightedHistogramOf,
   type CellJson, type RunJson, type SummaryJson,
 } from "@/lib/view/run-view";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
@@ -134,7 +134,7 @@ function ScheduleChanges({ summary, timeUnit }: { summary: SummaryJson; timeUnit
   return (
     <p data-testid="schedule-changes" className="text-sm text-ink-soft">
       <span className="font-medium text-ink">Scheduled changes</span> (dotted lines; amounts in the circuit&apos;s units):{" "}
-      {summary.schedule.map((c) => `at ${c.at} ${timeUnit}: ${Object.entries(c.set).map(([k, v]) => `${k} = ${v}`).join(", ")}`).join("; ")}
+      {summary.schedule.map((c) => describeScheduleEntry(c, timeUnit)).join("; ")}
     </p>
   );
 }
