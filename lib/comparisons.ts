@@ -26,7 +26,6 @@ import { settingsOf } from "@/lib/schemas/run-options";
 import { bootstrapNoise, type DifferenceTest, type Interval } from "@/ssa/bootstrap";
 import { decodeCellStats, type CellStats } from "@/ssa/cell-stats";
 import { predictLna } from "@/ssa/lna-prediction";
-import { TAU_SCHEDULE_REFUSAL } from "@/ssa/schedule";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** Two-sided level of the difference test. */
@@ -118,11 +117,9 @@ export async function createComparison(userId: string, body: ComparisonCreate, a
   await requireLabRole(userId, body.lab_id, "comparison:write");
   if (body.launch) await requireLabRole(userId, body.lab_id, "run:launch");
   const designs: NewDesign[] = [];
-  let scheduled = false;
   if (body.designs) {
     for (const [i, d] of body.designs.entries()) {
       const v = await designVersion(userId, body.lab_id, d.version_id, `designs[${i}].version_id`);
-      scheduled ||= (v.circuit.schedule?.length ?? 0) > 0;
       const overrides = d.overrides ?? {};
       try {
         checkOverrides(v.circuit, overrides);
@@ -134,7 +131,6 @@ export async function createComparison(userId: string, body: ComparisonCreate, a
   } else {
     const sweep = body.sweep as Sweep;
     const v = await designVersion(userId, body.lab_id, sweep.version_id, "sweep.version_id");
-    scheduled = (v.circuit.schedule?.length ?? 0) > 0;
     const params = Object.keys(v.circuit.parameters ?? {});
     sweep.axes.forEach((a, k) => {
       if (!params.includes(a.parameter)) {
@@ -157,7 +153,6 @@ export async function createComparison(userId: string, body: ComparisonCreate, a
       designs.push({ position: i, label: g.label, versionId: v.id, overrides, sweepValues: g.values });
     }
   }
-  if (body.settings.method === "tau" && scheduled) throw unprocessable(`settings.${TAU_SCHEDULE_REFUSAL}`);
   // Labels name designs in tables and tests: keep them unique.
   const seen = new Map<string, number>();
   for (const d of designs) {

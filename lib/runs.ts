@@ -10,7 +10,6 @@ import { checkOverrides } from "@/lib/schemas/circuit";
 import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, type RunBudget } from "@/lib/run-budget";
 import { settingsOf, type RunLaunch } from "@/lib/schemas/run-options";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
-import { TAU_SCHEDULE_REFUSAL } from "@/ssa/schedule";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** A fresh seed for a run that names none (printed back, so the run can be repeated). */
@@ -34,7 +33,6 @@ export async function createRun(userId: string, body: RunLaunch, actor?: { id: s
   const version = await requireVersion(userId, body.version_id, "lab:read");
   await requireLabRole(userId, version.labId, "run:launch", "version");
   checkOverrides(version.circuit, body.overrides);
-  if (body.method === "tau" && (version.circuit.schedule?.length ?? 0) > 0) throw unprocessable(TAU_SCHEDULE_REFUSAL);
   const kind = body.method === "ode" ? "trace" : "ensemble";
   const cells = kind === "trace" ? 1 : (body.runs ?? 1);
   const budget = getRunBudget();

@@ -15,7 +15,7 @@ import { PARTIAL_FORMAT, cellPeriods, cellSampleSums, finalizeSummary, mergeCell
 import { computeFinalIntervals, computeStationaryIntervals } from "./intervals";
 import { BURN_IN_RELAXATION_TIMES, cellHalfSums, checkDrift, driftWarnings, type BurnInChoice } from "./stationarity";
 import { MAX_TAU_EPSILON, TAU_EPSILON, tauKernel } from "./tau";
-import { scheduleReport, TAU_SCHEDULE_REFUSAL, type FiredChange, type FiringRecord } from "./schedule";
+import { scheduleReport, type FiredChange, type FiringRecord } from "./schedule";
 import { scheduledDirectKernel, type ScheduledKernelFn } from "./schedule-kernel";
 import { compileTauKernel } from "./tau-kernel";
 import { ModelInputError } from "./types";
@@ -74,8 +74,16 @@ function withSentinel(grid: Float64Array): Float64Array {
 /** The kernel for a model and method, compiled once per model object. */
 export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel" | "tauEpsilon">): BlockKernelFn {
   if (m.schedule) {
-    // A schedule runs on its own kernel (ssa/schedule-kernel.ts); the others never see one.
-    if (o.method === "tau") throw new ModelInputError(TAU_SCHEDULE_REFUSAL);
+    // A schedule runs on the scheduled direct kernel (ssa/schedule-kernel.ts) or the generic
+    // tau-leaping kernel, which both walk it with ssa/schedule-runtime.ts; the others never see one.
+    if (o.method === "tau") {
+      const epsilon = o.tauEpsilon ?? TAU_EPSILON;
+      const cached = m.kernels.tau;
+      if (cached && cached.epsilon === epsilon && cached.generic) return cached.fn;
+      const fn = tauKernel(m, { epsilon });
+      m.kernels.tau = { epsilon, generic: true, fn };
+      return fn;
+    }
     return (m.kernels.scheduled ??= scheduledDirectKernel(m));
   }
   if (o.method === "tau") {
@@ -296,7 +304,7 @@ export function summarize(m: Model, o: EnsembleOptions, partial: Partial, ctx: S
   summary.warnings.push(...(choice?.warnings ?? []), ...windowWarnings(partial, summary.burn_in, m.timeUnit));
   summary.warnings.push(...driftWarnings(m.species, checkDrift(partial, scale), summary.burn_in, m.timeUnit, choice?.relaxationTime ?? null));
   if (m.schedule) {
-    const { fired, warnings } = scheduleReport(m, { tEnd: o.tEnd, burnIn: summary.burn_in, cells: partial.cells }, firingRecord(m, partial));
+    const { fired, warnings } = scheduleReport(m, { tEnd: o.tEnd, burnIn: summary.burn_in, cells: partial.cells, method: o.method }, firingRecord(m, partial));
     summary.schedule = fired;
     summary.warnings.push(...warnings);
   }
@@ -385,7 +393,7 @@ export function trajectory(m: Model, o: EnsembleOptions, index: number, units: "
   const events = kernelFor(m, o)(x, cellRngState(o.seed, index), withSentinel(grid), nT, out, 0, 1, maxEvents);
   if (events < 0) throw new ModelInputError(`cell ${index} exceeded ${maxEvents} events; the circuit may grow without bound`);
   const runtime = m.schedule ? (kernelFor(m, o) as ScheduledKernelFn).runtime : null;
-  const schedule = runtime ? scheduleReport(m, { tEnd: o.tEnd, burnIn: burnInOf(o) }, { cells: 1, firstAt: runtime.firstAt.slice(), count: runtime.count.slice() }) : null;
+  const schedule = runtime ? scheduleReport(m, { tEnd: o.tEnd, burnIn: burnInOf(o), method: o.method }, { cells: 1, firstAt: runtime.firstAt.slice(), count: runtime.count.slice() }) : null;
   const scale = units === "model" ? m.omega : 1;
   const values: Record<string, number[]> = {};
   m.species.forEach((id, i) => {

@@ -9,8 +9,6 @@ import type { Model } from "./model-core";
 import { quantileSorted } from "./stats";
 import { makeWarning, type EngineWarning } from "./warnings";
 
-/** Why tau-leaping refuses a circuit with a schedule (the kernel, the run route and the CLI say the same). */
-export const TAU_SCHEDULE_REFUSAL = `method: tau-leaping does not run a circuit with a schedule yet; use "ssa" or "ode"`;
 
 /** When a triggered change first fired, over the cells in which it fired (model time unit). */
 export interface FirstFiring {
@@ -83,7 +81,7 @@ function firstFiring(times: number[]): FirstFiring | null {
  * (without it, as for a schedule with timed changes only, every timed change within tEnd fired
  * in every one of `cells` cells).
  */
-export function scheduleReport(m: Model, o: { tEnd: number; burnIn: number; cells?: number }, record?: FiringRecord): { fired: FiredChange[]; warnings: EngineWarning[] } {
+export function scheduleReport(m: Model, o: { tEnd: number; burnIn: number; cells?: number; method?: string }, record?: FiringRecord): { fired: FiredChange[]; warnings: EngineWarning[] } {
   const fired: FiredChange[] = [];
   const warnings: EngineWarning[] = [];
   const sch = m.schedule;
@@ -120,6 +118,16 @@ export function scheduleReport(m: Model, o: { tEnd: number; burnIn: number; cell
     if (times.length === 0) {
       warnings.push(makeWarning("schedule-never-fired", `schedule[${k}].when: "${ch.when.source}" never turned true within t_end = ${o.tEnd} ${unit} in any cell${ch.when.delay > 0 ? ` early enough for its delay of ${ch.when.delay} ${unit}` : ""}; the change it sets never happened.`, `schedule[${k}].when`));
     } else if (first && first.max > o.burnIn) late.push(`when ${ch.when.source} (first fired up to ${round(first.max)} ${unit})`);
+  }
+  if (o.method === "tau" && sch.triggers.length > 0) {
+    const fields = sch.triggers.map((c) => `schedule[${c.index}].when`);
+    warnings.push(
+      makeWarning(
+        "schedule-trigger-after-leap",
+        `${fields.join(", ")}: tau-leaping checks a condition after each leap, so a triggered change fires at the end of the leap in which its condition became true, up to one leap late (the direct method fires it at the reaction that makes it true); use "ssa" where the firing time matters.`,
+        fields[0],
+      ),
+    );
   }
   if (late.length > 0) {
     warnings.push(

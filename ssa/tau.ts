@@ -26,6 +26,7 @@ import type { DirectKernel } from "./kernel";
 import { LawCode, hillActivation, type Model } from "./model-core";
 import { poisson } from "./poisson";
 import { CellRng } from "./rng";
+import { ScheduleRuntime } from "./schedule-runtime";
 import { TAU_EPSILON } from "./types";
 export { MAX_TAU_EPSILON, TAU_EPSILON } from "./types";
 
@@ -40,9 +41,20 @@ export interface TauOptions {
   epsilon?: number;
 }
 
-/** Tau-leaping kernel with the DirectKernel contract (events = reactions fired, summed over leaps). */
-export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
+/**
+ * Tau-leaping kernel with the DirectKernel contract (events = reactions fired, summed over leaps).
+ * With a schedule (ssa/schedule-runtime.ts) a timed change or delayed firing is a hard stop of a
+ * leap, as a grid time is, and of the direct steps; the triggers are checked after every leap and
+ * every direct step, so a triggered change fires at the end of the leap in which its condition
+ * became true (at most that leap late; the run says so in a warning). The runtime is exposed as
+ * `.runtime` to read what fired in the cell just run.
+ */
+export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel & { runtime?: ScheduleRuntime } {
   const eps = opts.epsilon ?? TAU_EPSILON;
+  const rt = m.schedule ? new ScheduleRuntime(m, m.schedule, "counts") : null;
+  const watch = rt?.hasTriggers ?? false;
+  /** The model whose rates are in force (m itself without a schedule). */
+  let ph: Model = m;
   const nS = m.nSpecies;
   const nR = m.nReactions;
   const a = new Float64Array(nR);
@@ -79,8 +91,8 @@ export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
       }
       if (m.law[j] === LawCode.HillActivation || m.law[j] === LawCode.HillRepression) {
         const i = m.hillInput[j];
-        const hp = hillActivation(x[i], m.K[j] * m.omega, m.n[j]);
-        const s = m.law[j] === LawCode.HillActivation ? m.n[j] * (1 - hp) : m.n[j] * hp;
+        const hp = hillActivation(x[i], ph.K[j] * ph.omega, ph.n[j]);
+        const s = m.law[j] === LawCode.HillActivation ? ph.n[j] * (1 - hp) : ph.n[j] * hp;
         if (Math.max(1, s) > g[i]) g[i] = Math.max(1, s);
       }
     }
@@ -96,7 +108,7 @@ export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
       for (let p = m.readsPtr[j]; p < m.readsPtr[j + 1]; p++) {
         const k = m.readsIdx[p];
         xPlus[k] = x[k] + 1;
-        const d = m.propensity(j, xPlus) - aj;
+        const d = ph.propensity(j, xPlus) - aj;
         xPlus[k] = x[k];
         if (d === 0) continue;
         for (let q = m.changePtr[j]; q < m.changePtr[j + 1]; q++) jac[m.changeIdx[q] * nS + k] += m.changeDelta[q] * d;
@@ -111,12 +123,26 @@ export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
     return norm;
   };
 
-  return (x, rs, grid, nGrid, out, o, B, maxEvents) => {
+  const kernel: DirectKernel = (x, rs, grid, nGrid, out, o, B, maxEvents) => {
     const rng = new CellRng(rs);
     let t = 0;
     let gi = 0;
     let tg = grid[0];
     let events = 0;
+    let tStop = Infinity;
+    if (rt) {
+      rt.start(x); // changes due at time 0 come before the first sample
+      ph = rt.phase;
+      tStop = rt.nextStop();
+    }
+    /** After a change or a reaction: apply what is due at t, fire what turned true. */
+    const schedule = (due: boolean): void => {
+      if (!rt) return;
+      if (due) rt.applyDue(x, t);
+      else if (watch) rt.checkTriggers(x, t);
+      ph = rt.phase;
+      tStop = rt.nextStop();
+    };
     const record = (): boolean => {
       for (let i = 0; i < nS; i++) out[o + i * B] = x[i];
       o += nS * B;
@@ -128,10 +154,18 @@ export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
     if (record()) return 0;
     let tauPrime = Infinity;
     for (;;) {
-      m.propensities(x, a);
+      ph.propensities(x, a);
       let a0 = 0;
       for (let j = 0; j < nR; j++) a0 += a[j];
       if (!(a0 > 0)) {
+        if (tStop !== Infinity) {
+          // nothing can fire until the next change: hold the state to it
+          while (tg < tStop) if (record()) return events;
+          t = tStop;
+          schedule(true);
+          while (tg <= t) if (record()) return events;
+          continue;
+        }
         while (!record()) { /* nothing can fire: the state holds to the end */ }
         return events;
       }
@@ -175,11 +209,18 @@ export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
         // Direct-method steps (paper step 4); samples follow the direct-method rule.
         for (let step = 0; step < SSA_STEPS; step++) {
           if (step > 0) {
-            m.propensities(x, a);
+            ph.propensities(x, a);
             a0 = 0;
             for (let j = 0; j < nR; j++) a0 += a[j];
           }
           const tNext = a0 > 0 ? t - Math.log(rng.uniformPositive()) / a0 : Infinity;
+          if (tNext >= tStop) {
+            // The change comes first (a tie goes to the change): sample up to it, apply it.
+            while (tg < tStop) if (record()) return events;
+            t = tStop;
+            schedule(true);
+            break;
+          }
           while (tg < tNext) if (record()) return events;
           let r = rng.uniform() * a0;
           let j = 0;
@@ -189,6 +230,7 @@ export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
           }
           t = tNext;
           if (++events > maxEvents) return -1;
+          if (watch) schedule(false);
         }
         continue;
       }
@@ -196,7 +238,8 @@ export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
       // Leap, retried with τ' halved while it drives a count negative (paper step 6).
       for (;;) {
         const tauCrit = a0c > 0 ? -Math.log(rng.uniformPositive()) / a0c : Infinity;
-        const toGrid = tg - t;
+        // A change's time is a hard stop like a grid time: the leap ends there.
+        const toGrid = Math.min(tg, tStop) - t;
         let tau: number;
         let fireCritical = false;
         if (toGrid <= tauPrime && toGrid <= tauCrit) tau = toGrid;
@@ -231,12 +274,20 @@ export function tauKernel(m: Model, opts: TauOptions = {}): DirectKernel {
           continue;
         }
         x.set(xNew);
-        t = tau === toGrid ? tg : t + tau;
+        const atStop = tau === toGrid;
+        t = atStop ? Math.min(tg, tStop) : t + tau;
         events += fired0;
         if (events > maxEvents) return -1;
+        // The grid point at a change's time shows the state after it (right-continuous), and
+        // the state a leap reached is sampled before a change at the same time is applied.
+        if (atStop && t === tStop) {
+          while (tg < t) if (record()) return events;
+          schedule(true);
+        } else if (watch) schedule(false);
         break;
       }
       while (tg <= t) if (record()) return events;
     }
   };
+  return rt ? Object.assign(kernel, { runtime: rt }) : kernel;
 }

@@ -1,4 +1,6 @@
-import { readFileSync } from "node:fs";
+import { mkdtempSync, readFileSync, writeFileSync } from "node:fs";
+import { tmpdir } from "node:os";
+import { join } from "node:path";
 
 import type { Knex } from "knex";
 import { afterAll, afterEach, beforeAll, describe, expect, it } from "vitest";
@@ -190,7 +192,7 @@ describe("ensembles through the API and the worker", () => {
     expect(JSON.stringify({ ...pick(summary), w: summary.warnings, b: summary.burn_in })).toBe(JSON.stringify({ ...pick(cli.json), w: cli.json.warnings, b: cli.json.burn_in }));
   });
 
-  it("a circuit with a schedule (format /2) runs through the API and the worker with the numbers, fired changes and warnings of `cli simulate`; tau-leaping is refused at once, naming the method", async () => {
+  it("a circuit with a schedule (format /2) runs through the API and the worker with the numbers, fired changes and warnings of `cli simulate`, by the direct method and by tau-leaping, timed and triggered", async () => {
     await worker();
     const induced = JSON.parse(readFileSync("examples/two-stage-reporter-induction.circuit.json", "utf8"));
     const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: { ...induced, name: `Induction ${Date.now()}` } });
@@ -205,27 +207,50 @@ describe("ensembles through the API and the worker", () => {
     const cli = runCli(["simulate", "examples/two-stage-reporter-induction.circuit.json", "--runs", "120", "--seed", "31", "--t-end", "300", "--dt", "5", "--burn-in", "50", "--threads", "1"]);
     expect(cli.status, cli.stderr).toBe(0);
     expect(JSON.stringify({ ...pick(summary), s: summary.schedule, w: summary.warnings })).toBe(JSON.stringify({ ...pick(cli.json), s: cli.json.schedule, w: cli.json.warnings }));
-    expect(summary.schedule).toEqual([{ at: 100, set: { km: 2 } }]);
+    expect(summary.schedule).toEqual([{ index: 0, at: 100, set: { km: 2 }, cells: 120, of: 120 }]);
     expect(summary.warnings.map((w: any) => w.code)).toContain("schedule-after-burn-in");
     // The mean-field trace stored beside it takes the step too.
     expect(summary.trace.P[summary.times.indexOf(300)]).toBeGreaterThan(800);
     const cell = await modeler.request("GET", `/api/runs/${r.json.id}/cells/9`);
     expect(cell.json.values).toEqual(runCli(["trajectory", "examples/two-stage-reporter-induction.circuit.json", "--seed", "31", "--index", "9", "--t-end", "300", "--dt", "5"]).json.values);
-    const before = Number((await db("runs").count({ n: "*" }))[0]?.n);
-    const tau = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "tau", t_end: 300, dt: 5, runs: 10, seed: 1 });
-    expect(tau.status, tau.text).toBe(422);
-    expect(tau.json.error).toMatch(/^method: tau-leaping does not run a circuit with a schedule/);
-    expect(Number((await db("runs").count({ n: "*" }))[0]?.n)).toBe(before);
-    // A comparison of scheduled designs by tau-leaping is refused the same way, and stores nothing.
-    const comparisons = Number((await db("comparisons").count({ n: "*" }))[0]?.n);
+
+    // Tau-leaping takes the same schedule (a change is a hard stop of a leap), with the CLI's numbers.
+    const tau = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "tau", t_end: 300, dt: 5, runs: 40, seed: 1, burn_in: 50 });
+    expect(tau.status, tau.text).toBe(202);
+    expect((await waitFor(tau.json.id, finished)).status).toBe("succeeded");
+    const tauSummary = (await modeler.request("GET", `/api/runs/${tau.json.id}/summary`)).json;
+    const tauCli = runCli(["simulate", "examples/two-stage-reporter-induction.circuit.json", "--method", "tau", "--runs", "40", "--seed", "1", "--t-end", "300", "--dt", "5", "--burn-in", "50", "--threads", "1"]);
+    expect(tauCli.status, tauCli.stderr).toBe(0);
+    expect(JSON.stringify({ ...pick(tauSummary), s: tauSummary.schedule })).toBe(JSON.stringify({ ...pick(tauCli.json), s: tauCli.json.schedule }));
+
+    // A triggered change: when the protein passes 300, the transcription drops back 5 min later.
+    const triggered = { ...induced, name: `Induction with feedback ${Date.now()}`, schedule: [...induced.schedule, { when: "P > 300", delay: 5, set: { km: 0.5 } }] };
+    const file = join(mkdtempSync(join(tmpdir(), "bw-trigger-")), "triggered.circuit.json");
+    writeFileSync(file, JSON.stringify(triggered));
+    const t = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: triggered });
+    expect(t.status, t.text).toBe(201);
+    const tr = await modeler.request("POST", "/api/runs", { version_id: t.json.version_id, method: "ssa", t_end: 300, dt: 5, runs: 60, seed: 4, burn_in: 50 });
+    expect(tr.status, tr.text).toBe(202);
+    expect((await waitFor(tr.json.id, finished)).status).toBe("succeeded");
+    const trSummary = (await modeler.request("GET", `/api/runs/${tr.json.id}/summary`)).json;
+    const trCli = runCli(["simulate", file, "--runs", "60", "--seed", "4", "--t-end", "300", "--dt", "5", "--burn-in", "50", "--threads", "1"]);
+    expect(trCli.status, trCli.stderr).toBe(0);
+    expect(JSON.stringify({ ...pick(trSummary), s: trSummary.schedule, w: trSummary.warnings })).toBe(JSON.stringify({ ...pick(trCli.json), s: trCli.json.schedule, w: trCli.json.warnings }));
+    expect(trSummary.schedule[1]).toMatchObject({ index: 1, when: "P > 300", delay: 5, set: { km: 0.5 }, of: 60 });
+    expect(trSummary.schedule[1].cells).toBeGreaterThan(50);
+    expect(trSummary.schedule[1].first_at.mean).toBeGreaterThan(100);
+    // A replayed cell reports its own firing, as the command line's trajectory does.
+    const trCell = await modeler.request("GET", `/api/runs/${tr.json.id}/cells/3`);
+    const trReplay = runCli(["trajectory", file, "--seed", "4", "--index", "3", "--t-end", "300", "--dt", "5"]);
+    expect(trCell.json.values).toEqual(trReplay.json.values);
+
+    // A comparison of scheduled designs by tau-leaping is accepted like any other.
     const cmp = await modeler.request("POST", "/api/comparisons", {
       lab_id: labId, name: `Induction by tau ${Date.now()}`,
       designs: [{ version_id: c.json.version_id }, { version_id: c.json.version_id, overrides: { kp: 3 } }],
       settings: { method: "tau", t_end: 300, dt: 5, runs: 10 },
     });
-    expect(cmp.status, cmp.text).toBe(422);
-    expect(cmp.json.error).toMatch(/^settings\.method: tau-leaping does not run a circuit with a schedule/);
-    expect(Number((await db("comparisons").count({ n: "*" }))[0]?.n)).toBe(comparisons);
+    expect(cmp.status, cmp.text).toBe(201);
   });
 
   it("a deterministic trace run stores the mean-field path", async () => {

@@ -145,9 +145,36 @@ describe("triggered changes in the direct method", () => {
     expect(s.warnings.find((w) => w.code === "schedule-never-fired")?.field).toBe("schedule[0].when");
   });
 
-  it("tau-leaping refuses a triggered schedule, naming the method", () => {
-    const m = compileModel(birthDeath(1, 0, [{ when: "X > 5", set: { k: 0 } }]));
-    expect(() => simulateCells(m, { method: "tau", tEnd: 10, dt: 1, seed: 1 }, 0, 2)).toThrow(/^method: tau-leaping does not run a circuit with a schedule/);
+  it("tau-leaping ends a leap at a timed change: with 10,000 molecules (long leaps), every cell applies the change at exactly its time, off the grid", () => {
+    const m = compileModel(birthDeath(1000, 0.1, [{ at: 101.5, set: { k: 2000 } }], 10_000));
+    const o: EnsembleOptions = { method: "tau", tEnd: 150, dt: 10, seed: 2, burnIn: 0 };
+    const p = simulateCells(m, o, 0, 20);
+    const rec = p.segments[0].schedule!;
+    expect([...rec.firstAt]).toEqual(Array(20).fill(101.5));
+    expect([...rec.count]).toEqual(Array(20).fill(1));
+    // leaps, not direct steps: far fewer steps than reactions (about 1,000 reactions per minute)
+    const s = summarize(m, o, p);
+    expect(s.mean.X[s.times.indexOf(150)]).toBeGreaterThan(15_000);
+  });
+
+  it("tau-leaping checks the condition after each leap: never early, late by at most a leap, and it says so in a warning (400 cells, seed 5)", async () => {
+    const c = birthDeath(k, 0, [{ when: `X >= ${N}`, set: { k: 0 } }]);
+    const m = compileModel(c);
+    const o: EnsembleOptions = { method: "tau", tEnd: 150, dt: 10, seed: 5, burnIn: 0 };
+    const p = simulateCells(m, o, 0, cells);
+    const s = summarize(m, o, p);
+    // Every cell reached N; a leap may overshoot it, but the birth stopped right after.
+    expect(s.final.X.mean).toBeGreaterThanOrEqual(N);
+    expect(s.final.X.mean).toBeLessThan(N * 1.2);
+    const times = firstTimes(p, 1);
+    expect(times.every((t) => t > 0)).toBe(true);
+    // Firing at the end of a leap cannot be earlier than the Erlang time: the mean is not below N/k − 4·SE.
+    expect(zMean(times, N / k, N / k ** 2)).toBeGreaterThan(-4);
+    expect(s.warnings.find((w) => w.code === "schedule-trigger-after-leap")?.field).toBe("schedule[0].when");
+    // same bytes for any threads
+    const run = { method: "tau", tEnd: 100, dt: 5, seed: 3, runs: 20, burnIn: 0 } as const;
+    const strip = (x: object) => JSON.stringify({ ...x, wall_s: 0, events_per_s: 0 });
+    expect(strip(await simulateRun(c, { ...run, threads: 2, chunk: 3 }))).toBe(strip(await simulateRun(c, { ...run, threads: 1 })));
   });
 });
 

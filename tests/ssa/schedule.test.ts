@@ -117,9 +117,22 @@ describe("schedule: induction step on the two-stage reporter", () => {
     expect("schedule" in plain).toBe(false);
   });
 
-  it("tau-leaping refuses a circuit with a schedule, naming the method", () => {
-    const m = compileModel(induced);
-    expect(() => simulateCells(m, { method: "tau", tEnd: 100, dt: 10, seed: 1 }, 0, 2)).toThrow(/^method: tau-leaping does not run a circuit with a schedule/);
+  it("tau-leaping stops a leap at the change: its ensemble mean follows the same curve, |z| <= 4 (600 cells, seed 12), and a species set shows at its grid point", () => {
+    // The step at 100 falls between grid points (dt 30): a leap that ran through it would apply it late.
+    const c: Circuit = { ...induced, schedule: [...(induced.schedule ?? []), { at: 210, set: { M: 50 } }] };
+    const m = compileModel(parseCircuit(c));
+    const o: EnsembleOptions = { method: "tau", tEnd: 240, dt: 30, seed: 12, burnIn: 0 };
+    const s = summarize(m, o, simulateCells(m, o, 0, 600));
+    s.times.forEach((t, g) => {
+      if (t === 0 || t >= 210) return;
+      const want = closedForm(t);
+      const se = (s.sd.P[g] as number) / Math.sqrt(600);
+      const z = ((s.mean.P[g] as number) - want.P) / se;
+      expect(Math.abs(z), `P at t = ${t}: ${s.mean.P[g]} vs ${want.P}`).toBeLessThanOrEqual(4);
+    });
+    const g = s.times.indexOf(210);
+    expect(s.mean.M[g]).toBe(50);
+    expect(s.sd.M[g]).toBe(0);
   });
 });
 
