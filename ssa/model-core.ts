@@ -263,6 +263,15 @@ function compileSchedule(c: Circuit, overrides: Record<string, number> | undefin
     }
     return phase;
   };
+  // A field naming a parameter reads it once, here, with the run's overrides in force.
+  const values = resolveParameters(c, overrides);
+  const valueOf = (v: NumberOrParam, field: string): number => {
+    if (typeof v === "string" && !isParameter(v)) throw new ModelInputError(`${field}: unknown parameter "${v}"`);
+    const value = resolveValue(v, values, field);
+    const via = typeof v === "string" ? ` (parameter "${v}" is ${value})` : "";
+    if (!(Number.isFinite(value) && value >= 0)) throw new ModelInputError(`${field}: must be a number >= 0${via}`);
+    return value;
+  };
   const entries: CompiledChange[] = [];
   let lastAt = -Infinity;
   (c.schedule ?? []).forEach((change, k) => {
@@ -270,9 +279,9 @@ function compileSchedule(c: Circuit, overrides: Record<string, number> | undefin
     const counts: number[] = [];
     const amounts: number[] = [];
     const set: Record<string, number> = {};
-    for (const [name, value] of Object.entries(change.set)) {
+    for (const [name, v] of Object.entries(change.set)) {
       const i = base.speciesIndex.get(name);
-      if (!(Number.isFinite(value) && value >= 0)) throw new ModelInputError(`schedule[${k}].set.${name}: must be a number >= 0`);
+      const value = valueOf(v, `schedule[${k}].set.${name}`);
       if (i !== undefined) {
         species.push(i);
         amounts.push(value);
@@ -290,13 +299,12 @@ function compileSchedule(c: Circuit, overrides: Record<string, number> | undefin
     }
     const entry: CompiledChange = { index: k, at: NaN, species: Int32Array.from(species), counts: Float64Array.from(counts), amounts: Float64Array.from(amounts), parameters: set };
     if (isTimedChange(change)) {
-      if (!(Number.isFinite(change.at) && change.at >= 0)) throw new ModelInputError(`schedule[${k}].at: must be a number >= 0`);
-      if (change.at < lastAt) throw new ModelInputError(`schedule[${k}].at: must not be earlier than the timed change before it (${lastAt})`);
-      lastAt = change.at;
-      entry.at = change.at;
+      const at = valueOf(change.at, `schedule[${k}].at`);
+      if (at < lastAt) throw new ModelInputError(`schedule[${k}].at: must not be earlier than the timed change before it (${lastAt})`);
+      lastAt = at;
+      entry.at = at;
     } else {
-      const delay = change.delay ?? 0;
-      if (!(Number.isFinite(delay) && delay >= 0)) throw new ModelInputError(`schedule[${k}].delay: must be a number >= 0`);
+      const delay = valueOf(change.delay ?? 0, `schedule[${k}].delay`);
       const res = parseCondition(change.when, { isSpecies: (id) => base.speciesIndex.has(id), isParameter });
       if (!res.ok) throw new ModelInputError(`schedule[${k}].when: ${res.reason}`);
       entry.when = { condition: res.condition, source: change.when, delay };

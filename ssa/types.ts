@@ -13,11 +13,13 @@ export type CircuitFormat = (typeof CIRCUIT_FORMATS)[number];
 /**
  * One timed change of a schedule: at time `at` (model time unit), each species named in `set` is
  * set to that amount (model amount unit; molecules are added or removed to reach it, rounded to
- * a count) and each parameter to that value, for the rest of the run.
+ * a count) and each parameter to that value, for the rest of the run. `at`, a trigger's `delay`
+ * and each value in `set` may name a parameter instead of a number: it is read once, at the
+ * start of the run, with the run's overrides in force, so a sweep can move a step's time or level.
  */
 export interface TimedChange {
-  at: number;
-  set: Record<string, number>;
+  at: NumberOrParam;
+  set: Record<string, NumberOrParam>;
 }
 
 /**
@@ -28,13 +30,13 @@ export interface TimedChange {
  */
 export interface TriggeredChange {
   when: string;
-  delay?: number;
-  set: Record<string, number>;
+  delay?: NumberOrParam;
+  set: Record<string, NumberOrParam>;
 }
 
 export type ScheduledChange = TimedChange | TriggeredChange;
 
-export const isTimedChange = (c: ScheduledChange): c is TimedChange => "at" in c && typeof (c as TimedChange).at === "number";
+export const isTimedChange = (c: ScheduledChange): c is TimedChange => "at" in c && (c as TimedChange).at !== undefined;
 
 export type TimeUnit = "s" | "min" | "h";
 export type AmountUnit = "nM" | "uM" | "molecules";

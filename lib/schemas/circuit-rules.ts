@@ -122,10 +122,12 @@ export const MAX_TRIGGER_DELAY = 1e9;
  */
 const ScheduledChange = z.strictObject(
   {
-    at: finiteNumber().nonnegative("must be >= 0").optional(),
+    // A number, or a parameter's name (read at the start of the run, overrides in force);
+    // scheduleIssues checks the value either way.
+    at: NumberOrParam.optional(),
     when: z.string({ error: 'must be a condition such as "A > 50" (a string)' }).optional(),
-    delay: finiteNumber().nonnegative("must be >= 0").max(MAX_TRIGGER_DELAY, `must be at most ${MAX_TRIGGER_DELAY}`).optional(),
-    set: z.record(z.string(), finiteNumber().nonnegative("must be >= 0"), { error: required("an object of species or parameter names to numbers") }),
+    delay: NumberOrParam.optional(),
+    set: z.record(z.string(), NumberOrParam, { error: required("an object of species or parameter names to numbers or parameter names") }),
   },
   { error: (iss) => (iss.code === "invalid_type" ? "must be an object { at, set } or { when, delay?, set }" : undefined) },
 );
@@ -268,15 +270,36 @@ function scheduleIssues(c: z.infer<typeof CircuitShape>, speciesIds: Set<string>
       readers.set(v, [...(readers.get(v) ?? []), { path: `reactions[${i}].rate.${field}`, ...bound }]);
     }
   });
-  let lastTimed = -1;
+  const params = c.parameters ?? {};
+  // A field's value: the number, or the named parameter's value (null, with an issue, when the
+  // name is not a parameter or the value is out of [0, max]).
+  const valueOf = (v: number | string, path: PathKey[], max = Infinity): number | null => {
+    let value: number;
+    if (typeof v === "string") {
+      if (!isParameter(v)) {
+        add(path, speciesIds.has(v) ? `"${v}" is a species, not a parameter` : `unknown parameter "${v}"`);
+        return null;
+      }
+      value = params[v] as number;
+    } else value = v;
+    const via = typeof v === "string" ? ` (parameter "${v}" is ${value})` : "";
+    if (!(value >= 0)) add(path, `must be >= 0${via}`);
+    else if (value > max) add(path, `must be at most ${max}${via}`);
+    else return value;
+    return null;
+  };
+  let lastTimed: { k: number; at: number } | null = null;
   schedule.forEach((change, k) => {
     if (change.at !== undefined && change.when !== undefined) add(["schedule", k], 'has both "at" and "when"; a change is either timed or triggered');
     else if (change.at === undefined && change.when === undefined) add(["schedule", k], 'needs "at" (a time) or "when" (a condition on species)');
     if (change.at !== undefined) {
       if (change.delay !== undefined) add(["schedule", k, "delay"], 'applies only to a triggered change ("when"); a timed change happens at "at"');
-      if (lastTimed >= 0 && change.at < (schedule[lastTimed].at as number)) add(["schedule", k, "at"], `must not be earlier than schedule[${lastTimed}].at (${schedule[lastTimed].at})`);
-      lastTimed = k;
-    }
+      const at = valueOf(change.at, ["schedule", k, "at"]);
+      if (at !== null) {
+        if (lastTimed && at < lastTimed.at) add(["schedule", k, "at"], `must not be earlier than schedule[${lastTimed.k}].at (${lastTimed.at})`);
+        lastTimed = { k, at };
+      }
+    } else if (change.delay !== undefined) valueOf(change.delay, ["schedule", k, "delay"], MAX_TRIGGER_DELAY);
     if (change.when !== undefined) {
       const parsed = parseCondition(change.when, { isSpecies: (id) => speciesIds.has(id), isParameter });
       if (!parsed.ok) add(["schedule", k, "when"], parsed.reason);
@@ -288,7 +311,8 @@ function scheduleIssues(c: z.infer<typeof CircuitShape>, speciesIds: Set<string>
         add(["schedule", k, "set", name], `unknown species or parameter "${name}"`);
         continue;
       }
-      const value = change.set[name];
+      const value = valueOf(change.set[name], ["schedule", k, "set", name]);
+      if (value === null) continue;
       for (const f of readers.get(name) ?? []) {
         if (f.strict ? !(value > f.min) : !(value >= f.min)) add(["schedule", k, "set", name], `must keep ${f.path} ${f.strict ? ">" : ">="} ${f.min} (got ${value})`);
       }

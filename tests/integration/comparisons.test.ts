@@ -57,6 +57,46 @@ afterAll(async () => {
 });
 
 describe("a comparison through the API and the worker", () => {
+  it("a sweep of a step's time: each design's schedule fires at its t_on, and the mean-field trace steps there; an override of -5 is refused naming schedule[0].at", async () => {
+    // The induction step of examples/two-stage-reporter-induction with its time as a parameter.
+    const induced = JSON.parse(readFileSync("examples/two-stage-reporter-induction.circuit.json", "utf8"));
+    const timed = { ...induced, name: `Induction at t_on ${Date.now()}`, parameters: { ...induced.parameters, t_on: 100 }, schedule: [{ at: "t_on", set: { km: 2 } }] };
+    const v = await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: timed });
+    expect(v.status, v.text).toBe(201);
+    const before = await count();
+    const bad = await create({ designs: [{ version_id: v.json.version_id }, { version_id: v.json.version_id, overrides: { t_on: -5 } }], settings: { t_end: 200, dt: 5, runs: 20 } });
+    expect(bad.status, bad.text).toBe(422);
+    expect(bad.json.error).toMatch(/^designs\[1\]\.overrides: schedule\[0\]\.at: must be >= 0 \(parameter "t_on" is -5\)|schedule\[0\]\.at: must be >= 0 \(parameter "t_on" is -5\)/);
+    expect(await count()).toBe(before);
+    const badRun = await owner.client.request("POST", "/api/runs", { version_id: v.json.version_id, method: "ssa", t_end: 200, dt: 5, runs: 10, overrides: { t_on: -5 } });
+    expect(badRun.status, badRun.text).toBe(422);
+    expect(badRun.json.error).toMatch(/schedule\[0\]\.at: must be >= 0 \(parameter "t_on" is -5\)/);
+
+    const sweep = await create({
+      sweep: { version_id: v.json.version_id, axes: [{ parameter: "t_on", scale: "list", values: [80, 160] }] },
+      settings: { t_end: 200, dt: 5, runs: 20, burn_in: 0, seed: 3 }, launch: true,
+    });
+    expect(sweep.status, sweep.text).toBe(201);
+    await worker();
+    const c = await waitForComparison(sweep.json.id, ended);
+    expect(c.status, c.error).toBe("succeeded");
+    // The linear cascade's closed-form relaxation after km steps 0.2 → 2 at t_on (see
+    // tests/ssa/schedule.test.ts): P(t) = P1 + (P0 − P1)e^(−gp τ) + kp ΔM/(gp − gm)(e^(−gm τ) − e^(−gp τ)).
+    const [gm, kp, gp] = [0.2, 2, 0.02];
+    const P = (t: number, tOn: number) => {
+      if (t <= tOn) return 100;
+      const tau = t - tOn;
+      const [M0, M1] = [1, 10];
+      return 1000 + (100 - 1000) * Math.exp(-gp * tau) + ((kp * (M0 - M1)) / (gp - gm)) * (Math.exp(-gm * tau) - Math.exp(-gp * tau));
+    };
+    for (const [i, tOn] of [80, 160].entries()) {
+      const summary = (await owner.client.request("GET", `/api/runs/${c.designs[i].run.id}/summary`)).json;
+      expect(summary.schedule[0]).toEqual({ index: 0, at: tOn, set: { km: 2 }, cells: 20, of: 20 });
+      const g = summary.times.indexOf(120);
+      expect(Math.abs(summary.trace.P[g] - P(120, tOn)) / P(120, tOn), `t_on = ${tOn}`).toBeLessThan(1e-5);
+    }
+  });
+
   it("a log sweep of birth–death's production rate: each CV interval covers 1/√mean (Poisson), CV falls with the mean, B less noisy than A is significant", async () => {
     // k = 5, 20, 80 with γ = 0.5: stationary Poisson with mean k/γ = 10, 40, 160, so CV = 1/√(k/γ) and
     // Fano = 1 (textbook; van Kampen). Burn-in 20 min is 10 relaxation times 1/γ.

@@ -227,3 +227,62 @@ describe("schedule: the circuit file's rules", () => {
     expect(refuse(hill)).toBe("schedule[0].set.K: must keep reactions[0].rate.K > 0 (got 0)");
   });
 });
+
+describe("schedule: a step's time, delay and level may name a parameter (read at the start, overrides in force)", () => {
+  // The same induction step with its time and level as parameters: t_on = 100, km_on = 2.
+  const named = () => {
+    const doc = json();
+    doc.parameters = { ...doc.parameters, t_on: 100, km_on: 2 };
+    doc.schedule = [{ at: "t_on", set: { km: "km_on" } }];
+    return doc;
+  };
+
+  it("gives the same ODE trace as the literal step, and an override moves the step's time and level", () => {
+    const literal = solveOde(compileModel(induced), { tEnd: 400, dt: 5 });
+    const viaParams = solveOde(compileModel(parseCircuit(named())), { tEnd: 400, dt: 5 });
+    expect(viaParams.trace.P).toEqual(literal.trace.P);
+    // Moved to t = 160 with km_on = 4: flat at P0 = 100 until 160, then the closed form with
+    // km1 = 4 from there (same linear cascade; see the header of this file).
+    const moved = solveOde(compileModel(parseCircuit(named()), { t_on: 160, km_on: 4 }), { tEnd: 400, dt: 5 });
+    const M0 = km0 / gm;
+    const M1 = 4 / gm;
+    const [P0, P1] = [(kp * M0) / gp, (kp * M1) / gp];
+    moved.times.forEach((t, g) => {
+      if (t <= 160) return expect(moved.trace.P[g]).toBeCloseTo(P0, 6);
+      const tau = t - 160;
+      const want = P1 + (P0 - P1) * Math.exp(-gp * tau) + ((kp * (M0 - M1)) / (gp - gm)) * (Math.exp(-gm * tau) - Math.exp(-gp * tau));
+      expect(Math.abs(moved.trace.P[g] - want) / want).toBeLessThan(1e-5);
+    });
+  });
+
+  it("a triggered change's delay may name a parameter", () => {
+    const doc = json();
+    doc.parameters = { ...doc.parameters, lag: 30 };
+    doc.schedule = [{ when: "P > 150", delay: "lag", set: { km: 0 } }];
+    const m = compileModel(parseCircuit(doc));
+    expect(m.schedule?.entries[0].when?.delay).toBe(30);
+    expect(compileModel(parseCircuit(doc), { lag: 5 }).schedule?.entries[0].when?.delay).toBe(5);
+  });
+
+  it("refuses a name that is not a parameter, or a value out of range, naming the field", () => {
+    const refuse = (doc: unknown, overrides?: Record<string, number>) => {
+      try {
+        compileModel(parseCircuit(doc), overrides);
+      } catch (e) {
+        return (e as Error).message;
+      }
+      return "accepted";
+    };
+    expect(refuse({ ...named(), schedule: [{ at: "t_off", set: { km: 2 } }] })).toBe('schedule[0].at: unknown parameter "t_off"');
+    expect(refuse({ ...named(), schedule: [{ at: "P", set: { km: 2 } }] })).toBe('schedule[0].at: "P" is a species, not a parameter');
+    expect(refuse({ ...named(), schedule: [{ at: 10, set: { km: "nope" } }] })).toBe('schedule[0].set.km: unknown parameter "nope"');
+    expect(refuse({ ...named(), parameters: { ...named().parameters, t_on: -1 } })).toBe('schedule[0].at: must be >= 0 (parameter "t_on" is -1)');
+    expect(refuse({ ...named(), schedule: [{ at: 200, set: { km: 1 } }, { at: "t_on", set: { km: 2 } }] })).toBe("schedule[1].at: must not be earlier than schedule[0].at (200)");
+    // A value checked against the bounds of the rate laws that read the parameter set.
+    expect(refuse({ ...named(), parameters: { ...named().parameters, km_on: -2 } })).toBe('schedule[0].set.km: must be >= 0 (parameter "km_on" is -2)');
+    // An override is checked when the model is compiled for the run.
+    expect(refuse(named(), { t_on: -5 })).toBe('schedule[0].at: must be a number >= 0 (parameter "t_on" is -5)');
+    expect(refuse(named(), { t_on: 160 })).toBe("accepted");
+  });
+});
+
