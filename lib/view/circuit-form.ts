@@ -49,6 +49,19 @@ export interface ReactionRow {
   extra: Record<string, unknown>;
 }
 
+/** One change of the schedule: timed (`at`) or triggered (`when`, `delay`), setting "km = 2, P = 0". */
+export interface ScheduleRow {
+  key: string;
+  kind: "at" | "when";
+  /** Every kind's fields stay in the row, so switching kinds and back loses nothing. */
+  at: string;
+  when: string;
+  delay: string;
+  /** What it sets, as text: "km = 2, P = 0" (a value may be a parameter name). */
+  set: string;
+  extra: Record<string, unknown>;
+}
+
 export interface CircuitForm {
   name: string;
   description: string;
@@ -58,6 +71,8 @@ export interface CircuitForm {
   species: SpeciesRow[];
   parameters: ParameterRow[];
   reactions: ReactionRow[];
+  /** The schedule of changes (format /2); empty for none. */
+  schedule: ScheduleRow[];
   /** Whether the file had `parameters: {}` (kept so an untouched circuit saves unchanged). */
   emptyParameters: boolean;
   /**
@@ -80,7 +95,7 @@ let keyCounter = 0;
  * A fresh key for a row added in the editor. Rows read from a file get keys from their index
  * (`circuitToForm`), so a server-rendered form and its hydration agree.
  */
-export const newRowKey = (kind: "s" | "p" | "r"): string => `${kind}n${++keyCounter}`;
+export const newRowKey = (kind: "s" | "p" | "r" | "c"): string => `${kind}n${++keyCounter}`;
 
 const isRecord = (v: unknown): v is Record<string, unknown> => typeof v === "object" && v !== null && !Array.isArray(v);
 const text = (v: unknown): string => (v === undefined || v === null ? "" : typeof v === "string" ? v : typeof v === "number" ? String(v) : JSON.stringify(v));
@@ -114,6 +129,32 @@ export function parseStoichiometry(input: string): { ok: true; value: Record<str
   return { ok: true, value };
 }
 
+/** What a change sets as the editor writes it: `{ km: 2, P: "P_high" }` → "km = 2, P = P_high". */
+export function formatSetting(set: unknown): string {
+  if (!isRecord(set)) return "";
+  return Object.entries(set).map(([name, v]) => `${name} = ${text(v)}`).join(", ");
+}
+
+/**
+ * "km = 2, P = 0" (commas or semicolons between, a value a number or a parameter name) →
+ * `{ km: 2, P: 0 }`; returns an error phrase for anything else. Empty → `{}` (the schema says a
+ * change must set something).
+ */
+export function parseSetting(input: string): { ok: true; value: Record<string, number | string> } | { ok: false; reason: string } {
+  const value: Record<string, number | string> = {};
+  for (const part of input.split(/[,;]/)) {
+    const t = part.trim();
+    if (t === "") continue;
+    const m = /^([A-Za-z_][A-Za-z0-9_]*)\s*=\s*(\S+)$/.exec(t);
+    if (!m) return { ok: false, reason: `cannot read "${t}": write what the change sets as "km = 2, P = 0"` };
+    if (Object.prototype.hasOwnProperty.call(value, m[1])) return { ok: false, reason: `"${m[1]}" is set twice` };
+    const v = numberText(m[2]) as number | string;
+    if (typeof v === "string" && !/^[A-Za-z_][A-Za-z0-9_]*$/.test(v)) return { ok: false, reason: `"${t}": the value must be a number or a parameter name` };
+    value[m[1]] = v;
+  }
+  return { ok: true, value };
+}
+
 /**
  * A circuit (or any JSON, read leniently: the raw view may hold a half-written file) as form text.
  * Unknown fields of species, reactions and the file are carried in `extra`. Row keys are
@@ -130,6 +171,8 @@ export function circuitToForm(json: unknown, keyPrefix = ""): CircuitForm {
   };
   const species = Array.isArray(c.species) ? c.species : [];
   const reactions = Array.isArray(c.reactions) ? c.reactions : [];
+  // A schedule that is not a list (a half-written raw file) stays in `extra` for the schema to name.
+  const schedule = Array.isArray(c.schedule) ? c.schedule : [];
   return {
     name: text(c.name),
     description: text(c.description),
@@ -165,9 +208,17 @@ export function circuitToForm(json: unknown, keyPrefix = ""): CircuitForm {
         extra: omit(o, ["id", "reactants", "products", "rate"]),
       };
     }),
+    schedule: schedule.map((ch, i) => {
+      const o = isRecord(ch) ? ch : {};
+      return {
+        key: `${keyPrefix}c${i}`, kind: o.when !== undefined && o.at === undefined ? "when" : "at",
+        at: text(o.at), when: text(o.when), delay: text(o.delay), set: formatSetting(o.set),
+        extra: omit(o, ["at", "when", "delay", "set"]),
+      };
+    }),
     emptyParameters: isRecord(c.parameters) && Object.keys(c.parameters).length === 0,
     orphanInfo: Object.fromEntries(Object.entries(info).filter(([name]) => !Object.prototype.hasOwnProperty.call(params, name))),
-    extra: omit(c, ["format", "name", "description", "units", "volume_fL", "species", "parameters", "parameter_info", "reactions"]),
+    extra: omit(c, ["format", "name", "description", "units", "volume_fL", "species", "parameters", "parameter_info", "reactions", ...(Array.isArray(c.schedule) ? ["schedule"] : [])]),
   };
 }
 
@@ -187,6 +238,7 @@ export const fieldKey = {
   species: (row: string, field?: "id" | "initial") => `species.${row}${field ? `.${field}` : ""}`,
   parameter: (row: string, field?: "name" | "value" | "unit" | "note") => `parameters.${row}${field ? `.${field}` : ""}`,
   reaction: (row: string, field?: string) => `reactions.${row}${field ? `.${field}` : ""}`,
+  change: (row: string, field?: "kind" | "at" | "when" | "delay" | "set") => `schedule.${row}${field ? `.${field}` : ""}`,
 };
 
 /**
@@ -237,10 +289,19 @@ export function formToCircuitJson(form: CircuitForm): { json: Record<string, unk
       rate: dropUndefined(rate),
     });
   });
+  const schedule = form.schedule.map((ch) => {
+    const res = parseSetting(ch.set);
+    if (!res.ok) issues.push({ field: fieldKey.change(ch.key, "set"), message: res.reason });
+    const set = res.ok ? res.value : {};
+    return ch.kind === "at"
+      ? dropUndefined({ ...ch.extra, at: numberOrParam(ch.at) ?? "", set })
+      : dropUndefined({ ...ch.extra, when: ch.when, delay: numberOrParam(ch.delay), set });
+  });
+  const extraSchedule = form.extra.schedule;
   const json = dropUndefined({
     ...form.extra,
-    // A schedule (carried in `extra`) needs format /2; a circuit without one stays /1.
-    format: Array.isArray(form.extra.schedule) && form.extra.schedule.length > 0 ? CIRCUIT_FORMAT_2 : CIRCUIT_FORMAT,
+    // A schedule needs format /2; a circuit without one stays /1.
+    format: schedule.length > 0 || (Array.isArray(extraSchedule) && extraSchedule.length > 0) ? CIRCUIT_FORMAT_2 : CIRCUIT_FORMAT,
     name: form.name.trim() === "" ? undefined : form.name,
     description: form.description === "" ? undefined : form.description,
     units: { time: form.time || undefined, amount: form.amount || undefined },
@@ -249,6 +310,7 @@ export function formToCircuitJson(form: CircuitForm): { json: Record<string, unk
     parameters: form.parameters.length === 0 && !form.emptyParameters ? undefined : parameters,
     parameter_info: Object.keys(info).length ? info : undefined,
     reactions,
+    schedule: schedule.length > 0 ? schedule : extraSchedule,
   });
   return { json, issues };
 }
@@ -327,6 +389,11 @@ export function issueField(path: readonly (string | number)[], form: CircuitForm
       }
       return fieldKey.reaction(row.key);
     }
+    case "schedule": {
+      const row = typeof second === "number" ? form.schedule[second] : undefined;
+      if (!row) return "schedule";
+      return third === "at" || third === "when" || third === "delay" || third === "set" ? fieldKey.change(row.key, third) : fieldKey.change(row.key);
+    }
     default:
       return "circuit";
   }
@@ -374,7 +441,7 @@ export function indexIssues(form: CircuitForm, formIssues: FormIssue[], schemaIs
 const FIELD_WORDS: Record<string, string> = {
   id: "id", initial: "initial amount", name: "name", value: "value", unit: "unit", note: "note", reactants: "reactants", products: "products",
   "rate.law": "rate law", "rate.k": "k", "rate.input": "input species", "rate.vmax": "vmax", "rate.K": "K", "rate.n": "n",
-  "rate.basal": "basal leak", "rate.expression": "formula",
+  "rate.basal": "basal leak", "rate.expression": "formula", at: "time", when: "condition", delay: "delay", set: "what it sets",
 };
 
 /** Where a field key points, in words: "reaction make_B, K", "parameter g, value", "cell volume". */
@@ -398,6 +465,10 @@ export function describeField(field: string, form: CircuitForm): string {
     case "reactions": {
       const r = form.reactions.find((x) => x.key === row);
       return r ? `reaction ${r.id || `row ${form.reactions.indexOf(r) + 1}`}${tail}` : "reactions";
+    }
+    case "schedule": {
+      const i = form.schedule.findIndex((x) => x.key === row);
+      return i >= 0 ? `schedule change ${i + 1}${tail}` : "schedule";
     }
     default: return "circuit";
   }

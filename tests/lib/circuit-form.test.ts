@@ -4,7 +4,7 @@ import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 
 import {
-  circuitIssues, circuitToForm, describeField, fieldKey, formToCircuitJson, indexIssues, listIssues, parseStoichiometry, splitIssue,
+  circuitIssues, circuitToForm, describeField, fieldKey, formToCircuitJson, indexIssues, listIssues, parseSetting, parseStoichiometry, splitIssue,
 } from "@/lib/view/circuit-form";
 import { blankCircuit, CIRCUIT_TEMPLATES, getTemplate } from "@/lib/view/circuit-templates";
 import { CircuitError, parseCircuit } from "@/lib/schemas/circuit";
@@ -226,5 +226,60 @@ describe("circuitIssues", () => {
   it("circuitIssues of junk is the structural complaint only", () => {
     expect(circuitIssues(42)).toEqual(parseIssues(42));
     expect(circuitIssues({ format: "burstwise.circuit/1" }).length).toBeGreaterThan(0);
+  });
+});
+
+describe("the schedule in the form", () => {
+  const induced = () => JSON.parse(readFileSync(join(EXAMPLES, "two-stage-reporter-induction.circuit.json"), "utf8"));
+
+  it("reads each change as a row (timed or triggered, what it sets as text) and writes it back unchanged", () => {
+    const c = parseCircuit({ ...induced(), parameters: { ...induced().parameters, t_on: 100, lag: 5 }, schedule: [{ at: "t_on", set: { km: 2, P: 0 } }, { when: "P > 300 and M < 9", delay: "lag", set: { km: 0.5 } }] });
+    const form = circuitToForm(c);
+    expect(form.schedule.map(({ kind, at, when, delay, set }) => ({ kind, at, when, delay, set }))).toEqual([
+      { kind: "at", at: "t_on", when: "", delay: "", set: "km = 2, P = 0" },
+      { kind: "when", at: "", when: "P > 300 and M < 9", delay: "lag", set: "km = 0.5" },
+    ]);
+    expect(form.extra).not.toHaveProperty("schedule");
+    expect(parseCircuit(formToCircuitJson(form).json)).toEqual(c);
+  });
+
+  it("a change added to a /1 circuit makes it /2, and removing the last one makes it /1 again", () => {
+    const v1 = { ...induced(), format: "burstwise.circuit/1" };
+    delete v1.schedule;
+    const form = circuitToForm(parseCircuit(v1));
+    expect(form.schedule).toEqual([]);
+    const added = { ...form, schedule: [{ key: "c1", kind: "at" as const, at: "50", when: "", delay: "", set: "km = 1", extra: {} }] };
+    const json = formToCircuitJson(added).json;
+    expect(json.format).toBe("burstwise.circuit/2");
+    expect(parseCircuit(json).schedule).toEqual([{ at: 50, set: { km: 1 } }]);
+    expect(formToCircuitJson({ ...added, schedule: [] }).json.format).toBe("burstwise.circuit/1");
+  });
+
+  it("parseSetting reads \"km = 2; P = P_high\", and refuses junk, a repeated name or a formula, naming the part", () => {
+    expect(parseSetting("km = 2; P = P_high")).toEqual({ ok: true, value: { km: 2, P: "P_high" } });
+    expect(parseSetting("")).toEqual({ ok: true, value: {} });
+    expect(parseSetting("km 2")).toEqual({ ok: false, reason: 'cannot read "km 2": write what the change sets as "km = 2, P = 0"' });
+    expect(parseSetting("km = 1, km = 2")).toEqual({ ok: false, reason: '"km" is set twice' });
+    expect(parseSetting("km = 2*k")).toEqual({ ok: false, reason: '"km = 2*k": the value must be a number or a parameter name' });
+  });
+
+  it("each problem of a change reaches its own input, and describeField names the change", () => {
+    const form = circuitToForm(parseCircuit(induced()));
+    const bad = {
+      ...form,
+      schedule: [
+        { ...form.schedule[0], at: "t_never" },
+        { key: "c9", kind: "when" as const, at: "", when: "Q > 3", delay: "-1", set: "IPTG = 5", extra: {} },
+        { key: "c10", kind: "at" as const, at: "10", when: "", delay: "", set: "km 3", extra: {} },
+      ],
+    };
+    const { json, issues } = formToCircuitJson(bad);
+    const byField = indexIssues(bad, issues, circuitIssues(json));
+    expect(byField.get(fieldKey.change(form.schedule[0].key, "at"))).toEqual(['unknown parameter "t_never"']);
+    expect(byField.get(fieldKey.change("c9", "when"))?.[0]).toMatch(/Q/);
+    expect(byField.get(fieldKey.change("c9", "delay"))?.[0]).toMatch(/>= 0/);
+    expect(byField.get(fieldKey.change("c9", "set"))).toEqual(['unknown species or parameter "IPTG"']);
+    expect(byField.get(fieldKey.change("c10", "set"))?.[0]).toMatch(/^cannot read "km 3"/);
+    expect(describeField(fieldKey.change("c9", "delay"), bad)).toBe("schedule change 2, delay");
   });
 });
