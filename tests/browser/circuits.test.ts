@@ -270,6 +270,37 @@ describe("circuits as the demo modeler", () => {
     expect(await page.getByTestId("diff-parameter-d").textContent()).toBe("d changed: unit: none → 1/h; note: none → loss by dilution and decay");
   });
 
+  it("a schedule change is added in the form, checked at its input, saved as format /2 and read back after a reload", async () => {
+    await page.goto(sbmlPath);
+    expect(await page.getByText("No schedule: inputs stay as set for the whole run.").count()).toBe(1);
+    await page.getByRole("button", { name: "Add change" }).click();
+    const time = page.getByLabel(/^Time \(.+\) of change 1$/);
+    const sets = page.getByLabel("Sets of change 1", { exact: true });
+    await time.fill("2");
+    await sets.fill("d = d_high");
+    expect(await errorOf(page, "Sets of change 1")).toBe('unknown parameter "d_high"');
+    expect(await page.getByRole("button", { name: "Save version" }).isDisabled()).toBe(true);
+    await sets.fill("d 0.5");
+    expect(await errorOf(page, "Sets of change 1")).toMatch(/^cannot read "d 0.5"/);
+    await sets.fill("d = 0.5");
+    await page.getByLabel("Kind of change 1", { exact: true }).selectOption("when");
+    await page.getByLabel("Condition of change 1", { exact: true }).fill("nothing > 3");
+    expect(await errorOf(page, "Condition of change 1")).toMatch(/nothing/);
+    await page.getByLabel("Kind of change 1", { exact: true }).selectOption("at");
+    expect(await time.inputValue()).toBe("2");
+    await page.getByLabel("Message (optional)").fill("step d at 2");
+    await page.getByRole("button", { name: "Save version" }).click();
+    await page.getByRole("status").filter({ hasText: "Saved as version 3." }).waitFor();
+    await page.reload();
+    expect(await page.getByLabel(/^Time \(.+\) of change 1$/).inputValue()).toBe("2");
+    expect(await page.getByLabel("Sets of change 1", { exact: true }).inputValue()).toBe("d = 0.5");
+    await shot(page, "circuits-10c-schedule");
+    const [download] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "circuit file" }).click()]);
+    const saved = JSON.parse(await readFile((await download.path())!, "utf8"));
+    expect(saved.format).toBe("burstwise.circuit/2");
+    expect(saved.schedule).toEqual([{ at: 2, set: { d: 0.5 } }]);
+  });
+
   it("the circuit file of a version downloads as JSON that parses back to the same circuit", async () => {
     await page.goto(circuitPath);
     const [download] = await Promise.all([page.waitForEvent("download"), page.getByRole("link", { name: "circuit file" }).click()]);

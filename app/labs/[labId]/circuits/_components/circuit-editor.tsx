@@ -6,7 +6,7 @@ import { useId, useMemo, useRef, useState } from "react";
 import { CircuitWiring } from "@/app/_components/circuit-wiring";
 import {
   circuitIssues, circuitToForm, describeField, fieldKey, formToCircuitJson, indexIssues, listIssues, newRowKey, parseStoichiometry,
-  RATE_LAWS, type CircuitForm, type ParameterRow, type RateLawName, type ReactionRow, type SpeciesRow,
+  RATE_LAWS, type CircuitForm, type ParameterRow, type RateLawName, type ReactionRow, type ScheduleRow, type SpeciesRow,
 } from "@/lib/view/circuit-form";
 import { extractWiring } from "@/lib/view/circuit-wiring";
 import { parseCircuit } from "@/lib/schemas/circuit";
@@ -122,6 +122,7 @@ export function CircuitEditor(props: CircuitEditorProps) {
   };
   const setSpecies = (key: string, p: Partial<SpeciesRow>) => patch((f) => ({ ...f, species: f.species.map((s) => (s.key === key ? { ...s, ...p } : s)) }));
   const setParam = (key: string, p: Partial<ParameterRow>) => patch((f) => ({ ...f, parameters: f.parameters.map((s) => (s.key === key ? { ...s, ...p } : s)) }));
+  const setChange = (key: string, p: Partial<ScheduleRow>) => patch((f) => ({ ...f, schedule: f.schedule.map((s) => (s.key === key ? { ...s, ...p } : s)) }));
   const setReaction = (key: string, p: Partial<ReactionRow>) => patch((f) => ({ ...f, reactions: f.reactions.map((s) => (s.key === key ? { ...s, ...p } : s)) }));
 
   const switchMode = (next: "form" | "json") => {
@@ -204,7 +205,7 @@ export function CircuitEditor(props: CircuitEditorProps) {
 
         {mode === "json" ? (
           <div className="flex flex-col gap-2">
-            <label htmlFor={`${uid}-json`} className="text-sm font-medium">Circuit file (burstwise.circuit/1)</label>
+            <label htmlFor={`${uid}-json`} className="text-sm font-medium">Circuit file (burstwise.circuit/1, or /2 with a schedule)</label>
             <textarea
               id={`${uid}-json`} value={jsonText} readOnly={!props.canWrite} spellCheck={false}
               onChange={(e) => { setJsonText(e.target.value); setStatus(null); }}
@@ -405,6 +406,49 @@ export function CircuitEditor(props: CircuitEditorProps) {
                 </AddButton>
               )}
             </section>
+
+            <section aria-labelledby={`${uid}-schedule-h`} className="rounded-lg border border-ink/10 bg-white p-4">
+              <h2 id={`${uid}-schedule-h`} className="mb-1 font-semibold">Schedule</h2>
+              <p className="mb-3 text-xs text-ink-soft">
+                Changes during a run: at a time ({time}), or each time a condition on species turns true (then after an optional delay). A change sets species
+                amounts ({amount}) or parameter values, written <code>km = 2, P = 0</code>; times, delays and values take a number or a parameter name.
+              </p>
+              {byField.get("schedule") && <p className="mb-2 text-sm text-red-700">{byField.get("schedule")!.join("; ")}</p>}
+              {form.schedule.length === 0 && <p className="text-sm text-ink-soft">No schedule: inputs stay as set for the whole run.</p>}
+              <ol className="flex flex-col gap-2">
+                {form.schedule.map((ch, i) => {
+                  const ck = (f: "at" | "when" | "delay" | "set") => fieldKey.change(ch.key, f);
+                  const label = `change ${i + 1}`;
+                  return (
+                    <li key={ch.key} aria-label={`Schedule ${label}`} className="grid grid-cols-2 items-start gap-2 rounded-md border border-ink/10 bg-paper/60 p-3 md:grid-cols-[minmax(0,0.9fr)_minmax(0,1.2fr)_minmax(0,0.6fr)_minmax(0,1.4fr)_auto]">
+                      <EditorSelect
+                        fieldKey={fieldKey.change(ch.key, "kind")} label="Kind" labelSuffix={`of ${label}`} value={ch.kind}
+                        options={[{ value: "at", label: "At a time" }, { value: "when", label: "When a condition holds" }]}
+                        onChange={(v) => setChange(ch.key, { kind: v === "when" ? "when" : "at" })}
+                      />
+                      {ch.kind === "at" ? (
+                        <EditorField fieldKey={ck("at")} label={`Time (${time})`} labelSuffix={`of ${label}`} value={ch.at} list={paramListId} inputMode="decimal" issues={issues(ck("at"))} onChange={(v) => setChange(ch.key, { at: v })} />
+                      ) : (
+                        <EditorField fieldKey={ck("when")} label="Condition" labelSuffix={`of ${label}`} value={ch.when} inputClassName="font-mono" placeholder="e.g. P > 300" issues={issues(ck("when"))} onChange={(v) => setChange(ch.key, { when: v })} />
+                      )}
+                      {ch.kind === "when" ? (
+                        <EditorField fieldKey={ck("delay")} label={`Delay (${time})`} labelSuffix={`of ${label}`} value={ch.delay} list={paramListId} placeholder="0" issues={issues(ck("delay"))} onChange={(v) => setChange(ch.key, { delay: v })} />
+                      ) : <span className="hidden md:block" />}
+                      <EditorField fieldKey={ck("set")} label="Sets" labelSuffix={`of ${label}`} value={ch.set} inputClassName="font-mono" placeholder="km = 2, P = 0" issues={issues(ck("set"))} onChange={(v) => setChange(ch.key, { set: v })} />
+                      {props.canWrite && (
+                        <RemoveButton label={`Remove schedule ${label}`} first onClick={() => patch((f) => ({ ...f, schedule: f.schedule.filter((x) => x.key !== ch.key) }))} />
+                      )}
+                      {issues(fieldKey.change(ch.key)) && <p className="col-span-full text-xs text-red-700">{issues(fieldKey.change(ch.key))!.join("; ")}</p>}
+                    </li>
+                  );
+                })}
+              </ol>
+              {props.canWrite && (
+                <AddButton onClick={() => patch((f) => ({ ...f, schedule: [...f.schedule, { key: newRowKey("c"), kind: "at", at: "0", when: "", delay: "", set: f.parameters[0] ? `${f.parameters[0].name} = ${f.parameters[0].value}` : "", extra: {} }] }))}>
+                  Add change
+                </AddButton>
+              )}
+            </section>
           </fieldset>
         )}
       </div>
@@ -458,7 +502,7 @@ export function CircuitEditor(props: CircuitEditorProps) {
               {problems.map((p, i) => (
                 <li key={`${p.field}-${i}`}>
                   {p.field && <span className="font-medium">{describeField(p.field, form)}: </span>}
-                  {p.field && !["circuit", "species", "parameters", "reactions"].includes(p.field) && !/^(species|parameters|reactions)\.[^.]+$/.test(p.field) ? (
+                  {p.field && !["circuit", "species", "parameters", "reactions", "schedule"].includes(p.field) && !/^(species|parameters|reactions|schedule)\.[^.]+$/.test(p.field) ? (
                     <a
                       href={`#${inputId(p.field)}`} className="text-red-800 underline"
                       onClick={(e) => {
