@@ -129,7 +129,7 @@ describe("circuits as the demo modeler", () => {
 
   it("the raw JSON view edits the same draft, reports a syntax error and returns to the form only when readable", async () => {
     await page.getByRole("button", { name: "Raw JSON" }).click();
-    const raw = page.getByLabel("Circuit file (burstwise.circuit/1)");
+    const raw = page.getByLabel("Circuit file (burstwise.circuit/1, or /2 with a schedule)");
     const text = await raw.inputValue();
     expect(text).toContain('"n": 2');
     await raw.fill(`${text.replace('"n": 2', '"n": 3')}}`);
@@ -391,7 +391,7 @@ describe("circuits as the demo reviewer", () => {
     expect(await rpage.getByRole("button", { name: /^Remove/ }).count()).toBe(0);
     expect(await rpage.getByRole("link", { name: /Launch run/ }).count()).toBe(0);
     await rpage.getByRole("button", { name: "Raw JSON" }).click();
-    expect(await rpage.getByLabel("Circuit file (burstwise.circuit/1)").getAttribute("readonly")).not.toBeNull();
+    expect(await rpage.getByLabel("Circuit file (burstwise.circuit/1, or /2 with a schedule)").getAttribute("readonly")).not.toBeNull();
     await shot(rpage, "circuits-12-reviewer");
   });
 
