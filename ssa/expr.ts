@@ -110,6 +110,7 @@ function clip(text: string): string {
 
 /** A short rendering of a mathjs node for messages. */
 function show(node: MathNode): string {
+  if (node.type === "ParenthesisNode" && node.content) return show(node.content);
   try {
     return clip((node as unknown as { toString(): string }).toString());
   } catch {
@@ -159,7 +160,11 @@ function convert(node: MathNode, scope: ExprScope, depth: number, budget: { node
       if (node.implicit) throw new ExprReject(`implicit multiplication is not allowed; write "*"`);
       if (fn === "unaryMinus" && first && !second) return { kind: "neg", arg: number(first, `"-"`) };
       if (fn === "unaryPlus" && first && !second) return number(first, `"+"`);
-      if (fn === "not" && first && !second) return { kind: "not", arg: condition(first, `"not" (write not (A > 5), with parentheses)`) };
+      if (fn === "not" && first && !second) {
+        const arg = go(first);
+        if (!isCondition(arg)) throw new ExprReject(`"not" needs a condition, found the number ${show(first)}; write not (A > 5), with parentheses`);
+        return { kind: "not", arg };
+      }
       const op = BINARY_OPS[fn];
       if (op && first && second && rest.length === 0) {
         return { kind: "bin", op, left: number(first, `"${op}"`), right: number(second, `"${op}"`) };
