@@ -57,7 +57,7 @@ function findSwitch(e: Expr, y: Float64Array, t: number, idx: ReadonlyMap<string
     const r = dual(e.right, y, t, -2, idx, params)[0];
     const species = expressionSpecies(e);
     if (species.length > 0 && Math.abs(l - r) <= 1e-6 * Math.max(1, Math.abs(l), Math.abs(r))) {
-      return species.map((id) => `${id} = ${y[idx.get(id) as number]}`).join(", ");
+      return species.map((id) => `${id} = ${Number((y[idx.get(id) as number]).toPrecision(6))}`).join(", ");
     }
   }
   for (const c of exprChildren(e)) {
