@@ -428,7 +428,7 @@ describe("SBML import and export", () => {
       "k * piecewise(1, t < 50, 0.2)",
       // crosses its switch at A = 10 once (production 10, then 5, steady state 50)
       "piecewise(k, A < 10 and not (A > 20) or A == 3, k / 2, A != 4 xor false, 0)",
-      "piecewise(2 * k, t >= 5)",
+      "piecewise(2 * k, t >= 5, k, t <= 2 or t > 1)",
     ];
     for (const expression of expressions) {
       const c = timed(expression);
@@ -451,7 +451,7 @@ describe("SBML import and export", () => {
   });
 
   it("exprToMathML → readMath → translate → printFormula keeps every construct", () => {
-    const text = "piecewise(k, A < 10 and B >= 2 or not (A == B), t, A != 1 xor false, N)";
+    const text = "piecewise(k, A < 10 and B >= 2 or not (A == B), t, A != 1 xor false, k * 2, A <= 3 and B > 1 or true, N)";
     const e = parsed(text);
     const xml = `<math ${MATH}>${exprToMathML(e)}</math>`;
     const { XMLParser } = createRequire(import.meta.url)("fast-xml-parser") as { XMLParser: new (o: object) => { parse(s: string): Record<string, unknown>[] } };
