@@ -423,6 +423,18 @@ describe("SBML import and export", () => {
     s.times.forEach((t, i) => expect(Math.abs((s.trace.A as number[])[i] - ref[i])).toBeLessThanOrEqual(1e-6 * Math.max(1, ref[i])));
   });
 
+  it("a file in days becomes a circuit in hours whose time csymbol reads t/24: the same path on the stretched clock", () => {
+    const days = fixture
+      .replace('timeUnits="second"', 'timeUnits="day"')
+      .replace("<listOfCompartments>", '<listOfUnitDefinitions><unitDefinition id="day"><listOfUnits><unit kind="second" exponent="1" scale="0" multiplier="86400"/></listOfUnits></unitDefinition></listOfUnitDefinitions><listOfCompartments>');
+    const c = parseCircuit(sbmlToCircuit(days).circuit);
+    expect(c.units.time).toBe("h");
+    expect((c.reactions.find((r) => r.id === "make")?.rate as { expression: string }).expression).toContain("t * 0.041666666666666664 >= 20");
+    const s = solveOde(compileModel(c), { tEnd: 120 * 24, dt: 5 * 24, rtol: 1e-10, atol: 1e-10 });
+    const ref = fixtureByOdex(s.times.map((t) => t / 24));
+    s.times.forEach((t, i) => expect(Math.abs((s.trace.A as number[])[i] - ref[i])).toBeLessThanOrEqual(1e-6 * Math.max(1, ref[i])));
+  });
+
   it("circuitToSbml writes piecewise, relations, logic and time as MathML, and importing it again (without our annotation) gives the same formulas and trace", () => {
     const expressions = [
       "k * piecewise(1, t < 50, 0.2)",
