@@ -462,6 +462,22 @@ describe("SBML import and export", () => {
     }
   });
 
+  // libSBML's own consistency checks when its Perl binding is installed (as tests/ssa/sbml.test.ts; scripts/test.mjs installs it).
+  const hasLibsbml = spawnSync("perl", ["-MLibSBML", "-e", "1"]).status === 0 || process.env.BURSTWISE_REQUIRE_LIBSBML === "1";
+  it.skipIf(!hasLibsbml)("circuitToSbml of piecewise, relations, logic and time (molecules and nM) has no libSBML error", () => {
+    const check = `use LibSBML; my $doc = LibSBML::readSBMLFromFile($ARGV[0]); $doc->checkConsistency();
+for (my $i = 0; $i < $doc->getNumErrors(); $i++) { my $e = $doc->getError($i); print $e->getSeverityAsString(), " ", $e->getErrorId(), ": ", (split /\n/, $e->getMessage())[0], "\n"; }`;
+    const dir = mkdtempSync(join(tmpdir(), "bw-pw-sbml-"));
+    const nM = { ...timed("k * piecewise(1, t < 50 and A <= 30 or not (A > 3) xor true, 0.2)"), units: { time: "min" as const, amount: "nM" as const }, volume_fL: 2 };
+    for (const [i, c] of [timed(), parseCircuit(nM)].entries()) {
+      const file = join(dir, `pw-${i}.xml`);
+      writeFileSync(file, circuitToSbml(c));
+      const r = spawnSync("perl", ["-e", check, file], { encoding: "utf8" });
+      expect(r.status).toBe(0);
+      expect(r.stdout.split("\n").filter((l) => /^(Error|Fatal)/.test(l))).toEqual([]);
+    }
+  });
+
   it("exprToMathML → readMath → translate → printFormula keeps every construct", () => {
     const text = "piecewise(k, A < 10 and B >= 2 or not (A == B), t, A != 1 xor false, k * 2, A <= 3 and B > 1 or true, N)";
     const e = parsed(text);
