@@ -246,6 +246,23 @@ describe("time t in the ODE", () => {
     }
   });
 
+  it("solveOde of a /2 circuit whose schedule doubles k at 30 while the rate reads t: each piece restarts the clock at its own time", () => {
+    // Production 10 on [0, 30), 20 on [30, 50), 20·0.2 = 4 from 50; loss 0.1·A (closed form per piece, as above).
+    const c = parseCircuit({ ...timed(), format: "burstwise.circuit/2", schedule: [{ at: 30, set: { k: 20 } }] });
+    const pieces: [number, number, number][] = [[0, 30, 10], [30, 50, 20], [50, Infinity, 4]];
+    const exact = (t: number) => {
+      let a = 0;
+      for (const [from, to, s] of pieces) {
+        if (t <= from) break;
+        const end = Math.min(t, to);
+        a = s / 0.1 + (a - s / 0.1) * Math.exp(-0.1 * (end - from));
+      }
+      return a;
+    };
+    const s = solveOde(compileModel(c), { tEnd: 100, dt: 1, rtol: 1e-10, atol: 1e-10 });
+    s.times.forEach((t, i) => expect(Math.abs((s.trace.A as number[])[i] - exact(t))).toBeLessThanOrEqual(1e-6 * Math.max(1, exact(t))));
+  });
+
   it("rateTimeDerivative is ∂f/∂t (against a central difference) and rateJacobian the active piece's derivative", () => {
     const m = compileModel(timed("k * exp(-t / 20) * A + piecewise(A^2, A < 5, 3 * A)"));
     const out = new Float64Array(2);
