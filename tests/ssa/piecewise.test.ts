@@ -348,6 +348,9 @@ describe("the command line", () => {
     expect(ssa.stderr.trim().split("\n")).toHaveLength(1);
     const ode = cli("simulate", path, "--method", "ode", "--t-end", "10", "--dt", "1");
     expect(ode.status).toBe(0);
+    const an = cli("analyze", path);
+    expect(an.status).toBe(2);
+    expect(an.stderr.trim()).toMatch(/reactions\[0\]\.rate\.expression: depends on time t; a steady state, its stability and the LNA need rates that depend on the state only/);
   });
 
   it("a relation as a rate exits 2 naming the field", () => {
