@@ -482,6 +482,16 @@ describe("SBML import and export", () => {
     }
   });
 
+  it("circuitToSbml lists a species read only by a piecewise condition as a modifier of the reaction", () => {
+    const c = parseCircuit({
+      format: "burstwise.circuit/1", units: { time: "min", amount: "molecules" },
+      species: [{ id: "A", initial: 0 }, { id: "B", initial: 3 }], parameters: { k: 2 },
+      reactions: [{ id: "make", products: { A: 1 }, rate: { law: "expression", expression: "piecewise(k, B < 5 and t < 9, 0)" } }],
+    });
+    const xml = circuitToSbml(c);
+    expect(xml).toMatch(/<reaction id="make"[\s\S]*<listOfModifiers>\s*<modifierSpeciesReference species="B"\/>\s*<\/listOfModifiers>[\s\S]*<\/reaction>/);
+  });
+
   // libSBML's own consistency checks when its Perl binding is installed (as tests/ssa/sbml.test.ts; scripts/test.mjs installs it).
   const hasLibsbml = spawnSync("perl", ["-MLibSBML", "-e", "1"]).status === 0 || process.env.BURSTWISE_REQUIRE_LIBSBML === "1";
   it.skipIf(!hasLibsbml)("circuitToSbml of piecewise, relations, logic and time (molecules and nM) has no libSBML error", () => {
