@@ -324,3 +324,61 @@ export function expressionSource(
   };
   return go(expr);
 }
+
+/**
+ * Times at which a condition on time alone switches: for each comparison whose sides are linear in
+ * `t` with constant coefficients (a·t + b, built of numbers, parameters, t, −, + − and * / by a
+ * constant; e.g. `t < 50`, `t * 0.0417 >= 20`, `t - t_on > 0`), the t where its sides meet. The ODE
+ * stops its steps there (ssa/ode.ts), so a jump in time is met exactly rather than left to the
+ * step-size control. Comparisons that read species, or time non-linearly, give none. Appends to `out`.
+ */
+export function timeBreakpoints(e: Expr, params: ReadonlyMap<string, number>, out: number[] = []): number[] {
+  if (e.kind === "cmp") {
+    const l = linearInTime(e.left, params);
+    const r = linearInTime(e.right, params);
+    if (l && r && l[0] !== r[0]) {
+      const root = (r[1] - l[1]) / (l[0] - r[0]);
+      if (Number.isFinite(root)) out.push(root);
+    }
+  }
+  for (const c of exprChildren(e)) timeBreakpoints(c, params, out);
+  return out;
+}
+
+/** [a, b] with e = a·t + b for every t, or null when e reads a species or is not linear in t. */
+function linearInTime(e: Expr, params: ReadonlyMap<string, number>): [number, number] | null {
+  switch (e.kind) {
+    case "num":
+      return [0, e.value];
+    case "param":
+      return [0, params.get(e.id) as number];
+    case "time":
+      return [1, 0];
+    case "neg": {
+      const a = linearInTime(e.arg, params);
+      return a && [-a[0], -a[1]];
+    }
+    case "bin": {
+      const l = linearInTime(e.left, params);
+      const r = linearInTime(e.right, params);
+      if (!l || !r) return null;
+      switch (e.op) {
+        case "+":
+          return [l[0] + r[0], l[1] + r[1]];
+        case "-":
+          return [l[0] - r[0], l[1] - r[1]];
+        case "*":
+          if (l[0] !== 0 && r[0] !== 0) return null;
+          return [l[0] * r[1] + r[0] * l[1], l[1] * r[1]];
+        case "/":
+          return r[0] !== 0 ? null : [l[0] / r[1], l[1] / r[1]];
+        case "^":
+          return l[0] === 0 && r[0] === 0 ? [0, Math.pow(l[1], r[1])] : null;
+      }
+      break;
+    }
+    default:
+      break;
+  }
+  return null;
+}
