@@ -2,6 +2,7 @@
  * Mean-field trace of a compiled circuit: dy/dt = Sᵀ·f(y) (SCIENCE.md "Deterministic model"),
  * integrated by ode-solvers.ts and sampled on the grid 0, dt, 2dt, …, tEnd. Pure: no I/O.
  */
+import { timeBreakpoints } from "./expr-ast";
 import { makeGrid } from "./grid";
 import { meanFieldJacobianEvaluator, rateTimeDerivative, type JacobianModel } from "./lna";
 import type { Model } from "./model";
@@ -122,15 +123,23 @@ const isCompiled = (model: MeanFieldModel): model is MeanFieldModel & JacobianMo
  * Wanner, Solving ODEs I, §I.1): the state gains τ with dτ/dt = 1 and τ(times[0]) = times[0], so
  * the solvers, written for y' = f(y), integrate y' = f(y, τ) with τ = t (a linear component is
  * integrated exactly by the Runge–Kutta and Rosenbrock methods, up to round-off); the Jacobian
- * gains the column Sᵀ·∂f/∂t and a zero row. τ is dropped from the result.
+ * gains the column Sᵀ·∂f/∂t and a zero row. τ is dropped from the result. A condition on time
+ * alone (`t < 50`) switches at a known time (timeBreakpoints): the integration stops there and
+ * restarts, and within each piece τ is held strictly inside it (one float step from either end),
+ * so every stage of a step sees that piece's rates (the value at a switch is the left or right
+ * limit, as the piece requires) and a jump costs no accuracy.
  */
 function integrateMeanField(model: MeanFieldModel, y0: ArrayLike<number>, times: ArrayLike<number>, o: { method?: OdeMethod; rtol?: number; atol?: number; maxSteps?: number }): { values: Float64Array; stats: IntegrateStats } {
   if (!(model.timeReactions && model.timeReactions.length > 0)) return integrate(meanFieldRhs(model), y0, times, { ...o, jacobian: exactJacobian(model) });
   const nS = model.nSpecies;
   const n = nS + 1;
   const f = meanFieldRhsAt(model);
+  // τ is clamped to [lo, hi], the open piece being integrated (set per piece below).
+  let lo = -Infinity;
+  let hi = Infinity;
+  const clock = (tau: number) => (tau < lo ? lo : tau > hi ? hi : tau);
   const rhs: OdeRhs = (ya, da) => {
-    f(ya.subarray(0, nS), da.subarray(0, nS), ya[nS]);
+    f(ya.subarray(0, nS), da.subarray(0, nS), clock(ya[nS]));
     da[nS] = 1;
   };
   let jacobian: ((y: Float64Array, jac: Float64Array) => void) | undefined;
@@ -142,7 +151,7 @@ function integrateMeanField(model: MeanFieldModel, y0: ArrayLike<number>, times:
     const m = model;
     jacobian = (ya, out) => {
       const y = ya.subarray(0, nS);
-      const t = ya[nS];
+      const t = clock(ya[nS]);
       jy(y, J, t);
       rateTimeDerivative(m, y, t, dft);
       out.fill(0);
@@ -150,13 +159,59 @@ function integrateMeanField(model: MeanFieldModel, y0: ArrayLike<number>, times:
       for (const r of m.timeReactions ?? []) for (let i = 0; i < nS; i++) out[i * n + nS] += S[r * nS + i] * dft[r];
     };
   }
-  const start = new Float64Array(n);
-  for (let i = 0; i < nS; i++) start[i] = y0[i];
-  start[nS] = times[0];
-  const r = integrate(rhs, start, times, { ...o, jacobian });
-  const values = new Float64Array(times.length * nS);
-  for (let k = 0; k < times.length; k++) values.set(r.values.subarray(k * n, k * n + nS), k * nS);
-  return { values, stats: r.stats };
+  const nT = times.length;
+  const t0 = times[0];
+  const tN = times[nT - 1];
+  const cuts = new Set<number>();
+  if (isCompiled(model)) {
+    const params = new Map(Object.entries(model.parameters));
+    for (const j of model.timeReactions) for (const b of timeBreakpoints(model.expressions[j] as NonNullable<Model["expressions"][number]>, params)) if (b > t0 && b < tN) cuts.add(b);
+  }
+  const edges = [t0, ...[...cuts].sort((a, b) => a - b), tN];
+  const values = new Float64Array(nT * nS);
+  const y = new Float64Array(n);
+  for (let i = 0; i < nS; i++) y[i] = y0[i];
+  y[nS] = t0;
+  for (let i = 0; i < nS; i++) values[i] = y0[i];
+  let stats: IntegrateStats | null = null;
+  let k = 1; // next output time to fill
+  for (let e = 0; e + 1 < edges.length && k < nT; e++) {
+    const a = edges[e];
+    const b = edges[e + 1];
+    lo = nextFloat(a, 1);
+    hi = nextFloat(b, -1);
+    if (hi < lo) lo = hi = a + (b - a) / 2;
+    const sub: number[] = [a];
+    const at: number[] = [];
+    while (k < nT && times[k] < b) {
+      if (times[k] > a) sub.push(times[k]);
+      at.push(k++);
+    }
+    if (k < nT && times[k] === b) at.push(k++);
+    sub.push(b);
+    y[nS] = a;
+    const r = integrate(rhs, y, sub, { ...o, jacobian });
+    stats = stats ? addStats(stats, r.stats) : r.stats;
+    // Output times in (a, b] come in order: sub[1..] are exactly the ones pushed, then b.
+    let q = 1;
+    for (const idx of at) {
+      while (q < sub.length - 1 && sub[q] < times[idx]) q++;
+      const row = times[idx] === b ? sub.length - 1 : q;
+      values.set(r.values.subarray(row * n, row * n + nS), idx * nS);
+    }
+    y.set(r.values.subarray((sub.length - 1) * n, sub.length * n));
+  }
+  return { values, stats: stats as IntegrateStats };
+}
+
+/** The float next to x towards +∞ (dir 1) or −∞ (dir −1). */
+function nextFloat(x: number, dir: 1 | -1): number {
+  if (!Number.isFinite(x)) return x;
+  if (x === 0) return dir * Number.MIN_VALUE;
+  const buf = new Float64Array([x]);
+  const bits = new BigInt64Array(buf.buffer);
+  bits[0] += (x > 0) === (dir > 0) ? 1n : -1n;
+  return buf[0];
 }
 
 /** Points per grid step at which the mean field's trigger conditions are checked. */
