@@ -14,6 +14,7 @@ import { join } from "node:path";
 import { describe, expect, it } from "vitest";
 
 import { CircuitError, parseCircuit } from "@/lib/schemas/circuit";
+import { estimateRunCost } from "@/lib/view/run-cost";
 import { analyze } from "@/ssa/analyze";
 import { compileExpression, parseExpression, timeBreakpoints, type Expr } from "@/ssa/expr";
 import { simulateCells, simulateEnsemble, summarize, type EnsembleOptions } from "@/ssa/ensemble";
@@ -344,6 +345,11 @@ describe("refusals of stochastic runs that read time", () => {
     for (const method of ["ssa", "tau"] as const) {
       await expect(simulateRun(timed(), { method, tEnd: 10, dt: 1, seed: 1, runs: 2, threads: 1 })).rejects.toThrow(message);
     }
+  });
+
+  it("the launcher's cost estimate (estimateRunCost) says why for ssa, and is 0 events for ode", () => {
+    expect(() => estimateRunCost(timed(), { method: "ssa", tEnd: 10, cells: 2 })).toThrow(message);
+    expect(estimateRunCost(timed(), { method: "ode", tEnd: 10, cells: 1 }).eventsPerCell).toBe(0);
   });
 
   it("the circuit itself is valid: the schema accepts it and the ODE runs it", async () => {
