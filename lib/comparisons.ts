@@ -18,7 +18,7 @@ import { env } from "@/lib/env";
 import { conflict, HttpError, idParam, notFound, unprocessable } from "@/lib/http";
 import { getSender, Queues, type ComparisonFinishJob, type RunChunkJob } from "@/lib/jobs";
 import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, type RunBudget } from "@/lib/run-budget";
-import { drawSeed, launchCostJson, launchedEvent, type LaunchCost } from "@/lib/runs";
+import { drawSeed, launchCostJson, launchedEvent, requireStochasticRates, type LaunchCost } from "@/lib/runs";
 import { checkOverrides, CircuitError } from "@/lib/schemas/circuit";
 import { COMPARISON_LIMITS, axisValues, sweepDesigns, type ComparisonCreate, type Sweep } from "@/lib/schemas/comparisons";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
@@ -197,6 +197,7 @@ async function comparisonWork(
 ): Promise<{ cost: number; costs: number[] }> {
   // One after the other: a comparison of 24 designs must not take every engine thread at once.
   const work: { cost: number; perCell: number }[] = [];
+  for (const d of designs) await requireStochasticRates(d.version.circuit, s.method);
   for (const d of designs) work.push(await estimateRunWork(d.version.id, d.version.circuit, { method: s.method, tEnd: s.t_end, dt: s.dt, cells: s.runs, overrides: d.overrides }));
   const cost = work.reduce((sum, w) => sum + w.cost, 0);
   // One cell of every design: over the budget alone, only a shorter run helps.

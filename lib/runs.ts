@@ -10,6 +10,7 @@ import { checkOverrides } from "@/lib/schemas/circuit";
 import { estimateRunWork, getRunBudget, requireFitsBudget, requireQueueRoom, type RunBudget } from "@/lib/run-budget";
 import { settingsOf, type RunLaunch } from "@/lib/schemas/run-options";
 import { RUN_LIMITS } from "@/lib/schemas/runs";
+import type { Circuit } from "@/ssa/types";
 import { ENGINE_VERSION } from "@/ssa/version";
 
 /** A fresh seed for a run that names none (printed back, so the run can be repeated). */
@@ -24,6 +25,20 @@ export function launchCostJson(cost: number, queued: QueuedWork, budget: RunBudg
 }
 
 /**
+ * Refuses a stochastic run (ssa, tau) of a circuit whose rate formulas read the time `t`: the
+ * circuit is valid (the ODE runs it) but the direct method and tau-leaping need rates of the state
+ * only. The formula parser is loaded only when a formula has the word `t` in it.
+ * @throws HttpError 422 naming the reaction's field.
+ */
+export async function requireStochasticRates(circuit: Circuit, method: "ode" | "ssa" | "tau"): Promise<void> {
+  if (method === "ode") return;
+  if (!circuit.reactions.some((r) => r.rate.law === "expression" && /\bt\b/.test(r.rate.expression))) return;
+  const { stochasticRefusal } = await import("@/ssa/model");
+  const why = stochasticRefusal(circuit);
+  if (why) throw unprocessable(why);
+}
+
+/**
  * Queues a run: checks the circuit version, role and overrides, charges its expected cost
  * against the lab's and the user's budget of queued work, stores the run, and sends one job per
  * chunk of cells.
@@ -33,6 +48,7 @@ export async function createRun(userId: string, body: RunLaunch, actor?: { id: s
   const version = await requireVersion(userId, body.version_id, "lab:read");
   await requireLabRole(userId, version.labId, "run:launch", "version");
   checkOverrides(version.circuit, body.overrides);
+  await requireStochasticRates(version.circuit, body.method);
   const kind = body.method === "ode" ? "trace" : "ensemble";
   const cells = kind === "trace" ? 1 : (body.runs ?? 1);
   const budget = getRunBudget();

@@ -5,10 +5,11 @@
  * (CONTRACT.md §2 "analyze output"). Pure: no I/O.
  */
 import { eigenvalues, luFactor, luSolve, type Complex, type Conservation } from "./linalg";
-import { linearNoise, meanFieldJacobian, modelConservation, reducedJacobian, type JacobianModel } from "./lna";
+import { linearNoise, meanFieldJacobian, modelConservation, reducedJacobian, switchingCondition, type JacobianModel } from "./lna";
 import type { Model } from "./model";
 import { integrate, meanFieldRhs, OdeError } from "./ode";
 import { quasiCycleWarning } from "./oscillation";
+import { ModelInputError } from "./types";
 import type { EngineWarning } from "./warnings";
 
 export type AnalyzeModel = JacobianModel & Pick<Model, "species" | "omega" | "initialAmounts">;
@@ -82,6 +83,10 @@ export function findSteadyState(model: AnalyzeModel, options: { tSettle?: number
 const STEADY_STATES = new WeakMap<AnalyzeModel, SteadyState | Error>();
 
 function solveSteadyState(model: AnalyzeModel, options: { tSettle?: number }): SteadyState {
+  const timed = model.timeReactions?.[0];
+  if (timed !== undefined) {
+    throw new ModelInputError(`reactions[${timed}].rate.expression: depends on time t; a steady state, its stability and the LNA need rates that depend on the state only`);
+  }
   const nS = model.nSpecies;
   const cons = modelConservation(model);
   const rhs = meanFieldRhs(model);
@@ -312,13 +317,18 @@ export function classify(reduced: Complex[]): { stable: boolean; oscillatory: bo
  * 0 for each conservation law; sorted by real part, largest first; in 1/model time), stability,
  * oscillation (Hopf), and the LNA covariance, CV and Fano in molecules when stable (else null).
  * Species with a zero steady state get CV and Fano null.
- * @throws SteadyStateError when no steady state is found.
+ * @throws SteadyStateError when no steady state is found; ModelInputError when a rate reads time, or the steady state sits on a piecewise switch.
  */
 export function analyze(model: AnalyzeModel, options: AnalyzeOptions = {}): AnalyzeResult {
   const units = options.units ?? "model";
   if (units !== "model" && units !== "molecules") throw new RangeError(`units must be "model" or "molecules", got ${String(units)}`);
   const nS = model.nSpecies;
   const ss = findSteadyState(model, { tSettle: options.tSettle });
+  // On a piecewise switch the active piece's derivative describes one side only: refuse rather than guess.
+  const sw = switchingCondition(model, ss.y);
+  if (sw) {
+    throw new ModelInputError(`${sw.field}: the steady state (${sw.at}) sits where a piecewise condition switches, so the rate has no derivative there and stability and the LNA cannot be computed`);
+  }
   const J = meanFieldJacobian(model, ss.y);
   const Jr = reducedJacobian(J, nS, ss.conservation);
   const reduced = eigenvalues(Jr, ss.conservation.independent.length);

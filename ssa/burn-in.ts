@@ -13,7 +13,7 @@
  */
 import { findSteadyState, classify, type AnalyzeModel } from "./analyze";
 import { eigenvalues } from "./linalg";
-import { meanFieldJacobian, reducedJacobian } from "./lna";
+import { meanFieldJacobian, reducedJacobian, switchingCondition } from "./lna";
 import { BURN_IN_RELAXATION_TIMES, MAX_DEFAULT_BURN_IN_SHARE, round, type BurnInChoice } from "./stationarity";
 import { makeWarning } from "./warnings";
 
@@ -26,8 +26,9 @@ export function computeRelaxationTime(model: AnalyzeModel): number | null {
   try {
     ss = findSteadyState(model);
   } catch {
-    return null; // no steady state (growth without bound, or the solver gave up): no τ to offer
+    return null; // no steady state (growth without bound, the solver gave up, rates reading time): no τ to offer
   }
+  if (switchingCondition(model, ss.y)) return null; // on a piecewise switch no Jacobian describes the relaxation
   const reduced = eigenvalues(reducedJacobian(meanFieldJacobian(model, ss.y), model.nSpecies, ss.conservation), ss.conservation.independent.length);
   if (reduced.length === 0 || !classify(reduced).stable) return null;
   let slowest = Infinity;

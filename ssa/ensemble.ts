@@ -7,7 +7,7 @@
  */
 import { makeGrid } from "./grid";
 import { canGenerateKernel, compileDirectKernel, directKernelGeneric, type DirectKernel } from "./kernel";
-import type { BlockKernelFn, Model } from "./model-core";
+import { timeDependenceRefusal, type BlockKernelFn, type Model } from "./model-core";
 import { ACF_MAX_CELLS, acfRange, addCellLagSums, countAcfCell, makeAcfSums } from "./oscillation";
 import { cellRngState } from "./rng";
 import { HistogramAccumulator } from "./histogram-accumulator";
@@ -73,6 +73,8 @@ function withSentinel(grid: Float64Array): Float64Array {
 
 /** The kernel for a model and method, compiled once per model object. */
 export function kernelFor(m: Model, o: Pick<EnsembleOptions, "method" | "kernel" | "tauEpsilon">): BlockKernelFn {
+  const refusal = timeDependenceRefusal(m);
+  if (refusal) throw new ModelInputError(refusal);
   if (m.schedule) {
     // A schedule runs on the scheduled direct kernel (ssa/schedule-kernel.ts) or the generic
     // tau-leaping kernel, which both walk it with ssa/schedule-runtime.ts; the others never see one.

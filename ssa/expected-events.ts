@@ -6,9 +6,9 @@
  * replaces E[a₀(x)] by a₀(E[x]), exact for zeroth- and first-order reactions and an
  * approximation for Hill and higher-order laws). Pure: no I/O.
  */
-import { compileModel } from "./model";
+import { compileModel, timeDependenceRefusal } from "./model";
 import { solveOde } from "./ode";
-import type { Circuit } from "./types";
+import { ModelInputError, type Circuit } from "./types";
 
 /** Most grid points the estimate integrates over (a coarser grid than the run's keeps it fast). */
 const MAX_ESTIMATE_POINTS = 2000;
@@ -43,10 +43,14 @@ function sumPropensities(model: ReturnType<typeof compileModel>, x: Float64Array
  * Integrates the total propensity along the mean-field path by the trapezoidal rule on at most
  * 2000 points; when the ODE cannot be solved (or may not be, by the input's bounds) it falls back
  * to the propensity at the initial counts × t_end, and says so in `basis`.
- * @throws ModelInputError (from compileModel) when an override is unknown or breaks a bound.
+ * @throws ModelInputError (from compileModel) when an override is unknown or breaks a bound, or
+ *   when a rate reads the time (no stochastic run of it is possible).
  */
 export function estimateEventsPerCell(circuit: Circuit, input: ExpectedEventsInput): ExpectedEvents {
   const model = compileModel(circuit, input.overrides);
+  // Events are a stochastic run's; one that would be refused (a rate reading t) says so here, where the launcher shows it.
+  const refusal = timeDependenceRefusal(model);
+  if (refusal) throw new ModelInputError(refusal);
   const a = new Float64Array(model.nReactions);
   let eventsPerCell: number;
   let basis: ExpectedEvents["basis"] = "mean-field path";

@@ -1,12 +1,15 @@
 /**
  * Rate expressions of the `expression` law: parsed once by mathjs (its number-only build, so
  * literals are plain doubles) into our own small AST (ssa/expr-ast.ts), checked against a whitelist
- * (numbers, species, parameters, + − * / ^, parentheses, exp log sqrt min max pow). User text never
- * reaches eval or new Function. Pure: no I/O.
+ * (numbers, species, parameters, the time `t`, + − * / ^, parentheses, exp log sqrt min max pow,
+ * piecewise, and inside piecewise conditions the relations < <= > >= == != with `and`, `or`,
+ * `xor`, `not`, `true`, `false`; the words of ssa/condition.ts, which mathjs reads too). Numbers
+ * and conditions are kept apart: a condition is never a number, nor a number a condition. User
+ * text never reaches eval or new Function. Pure: no I/O.
  */
 import { parse } from "mathjs/number";
 
-import { FORMULA_LIMITS, type Expr, type ExprFunction } from "./expr-ast";
+import { FORMULA_LIMITS, TIME_SYMBOL, isCondition, type CmpOp, type Expr, type ExprFunction } from "./expr-ast";
 
 export * from "./expr-ast";
 
@@ -26,6 +29,18 @@ const BINARY_OPS: Record<string, "+" | "-" | "*" | "/" | "^"> = {
   divide: "/",
   pow: "^",
 };
+
+const RELATIONS: Record<string, CmpOp> = {
+  smaller: "<",
+  smallerEq: "<=",
+  larger: ">",
+  largerEq: ">=",
+  equal: "==",
+  unequal: "!=",
+};
+
+/** Pieces a piecewise may have: bounded like min/max's arguments. */
+export const MAX_PIECES = 64;
 
 export interface ExprScope {
   isSpecies(id: string): boolean;
@@ -66,7 +81,9 @@ export function parseExpression(text: string, scope: ExprScope): ParseResult {
   }
   try {
     const budget = { nodes: 0 };
-    return { ok: true, expr: convert(node, scope, 0, budget) };
+    const expr = convert(node, scope, 0, budget);
+    if (isCondition(expr)) throw new ExprReject(`a condition (${clip(text)}) cannot be a rate; use piecewise(value, condition, otherwise)`);
+    return { ok: true, expr };
   } catch (e) {
     if (e instanceof ExprReject) return { ok: false, reason: e.message };
     throw e;
@@ -85,6 +102,22 @@ function parenthesisDepth(text: string): number {
   return max;
 }
 
+/** A formula's text for a message: trimmed, and cut at 60 characters. */
+function clip(text: string): string {
+  const s = text.trim().replace(/\s+/g, " ");
+  return s.length > 60 ? `${s.slice(0, 57)}...` : s;
+}
+
+/** A short rendering of a mathjs node for messages. */
+function show(node: MathNode): string {
+  if (node.type === "ParenthesisNode" && node.content) return show(node.content);
+  try {
+    return clip((node as unknown as { toString(): string }).toString());
+  } catch {
+    return "…";
+  }
+}
+
 function convert(node: MathNode, scope: ExprScope, depth: number, budget: { nodes: number }): Expr {
   if (depth > FORMULA_LIMITS.maxDepth) throw new ExprReject(`formula nested more than ${FORMULA_LIMITS.maxDepth} deep`);
   // Parentheses are no node of ours (their nesting is bounded in the text); everything else counts.
@@ -92,8 +125,20 @@ function convert(node: MathNode, scope: ExprScope, depth: number, budget: { node
     throw new ExprReject(`formula has more than ${FORMULA_LIMITS.maxNodes} terms (numbers, symbols, operators and calls)`);
   }
   const go = (n: MathNode) => convert(n, scope, depth + 1, budget);
+  // Where a number belongs (an operand, an argument, a piece's value), a condition is refused, and the reverse.
+  const number = (n: MathNode, where: string): Expr => {
+    const e = go(n);
+    if (isCondition(e)) throw new ExprReject(`a condition (${show(n)}) cannot be used as a number in ${where}; use piecewise(value, condition, otherwise)`);
+    return e;
+  };
+  const condition = (n: MathNode, where: string): Expr => {
+    const e = go(n);
+    if (!isCondition(e)) throw new ExprReject(`${where} needs a condition such as A > 5, found the number ${show(n)}`);
+    return e;
+  };
   switch (node.type) {
     case "ConstantNode": {
+      if (typeof node.value === "boolean") return { kind: "bool", value: node.value };
       if (typeof node.value !== "number" || !Number.isFinite(node.value)) {
         throw new ExprReject(`only finite numbers may appear as constants, found ${JSON.stringify(node.value)}`);
       }
@@ -103,6 +148,8 @@ function convert(node: MathNode, scope: ExprScope, depth: number, budget: { node
       const id = String(node.name);
       if (scope.isSpecies(id)) return { kind: "species", id };
       if (scope.isParameter(id)) return { kind: "param", id };
+      // A species or parameter named t is that symbol (circuits written before time existed keep their meaning).
+      if (id === TIME_SYMBOL) return { kind: "time" };
       throw new ExprReject(`unknown symbol "${id}" (not a species or parameter)`);
     }
     case "ParenthesisNode":
@@ -111,18 +158,32 @@ function convert(node: MathNode, scope: ExprScope, depth: number, budget: { node
       const fn = typeof node.fn === "string" ? node.fn : "";
       const [first, second, ...rest] = node.args ?? [];
       if (node.implicit) throw new ExprReject(`implicit multiplication is not allowed; write "*"`);
-      if (fn === "unaryMinus" && first && !second) return { kind: "neg", arg: go(first) };
-      if (fn === "unaryPlus" && first && !second) return go(first);
+      if (fn === "unaryMinus" && first && !second) return { kind: "neg", arg: number(first, `"-"`) };
+      if (fn === "unaryPlus" && first && !second) return number(first, `"+"`);
+      if (fn === "not" && first && !second) {
+        const arg = go(first);
+        if (!isCondition(arg)) throw new ExprReject(`"not" needs a condition, found the number ${show(first)}; write not (A > 5), with parentheses`);
+        return { kind: "not", arg };
+      }
       const op = BINARY_OPS[fn];
       if (op && first && second && rest.length === 0) {
-        return { kind: "bin", op, left: go(first), right: go(second) };
+        return { kind: "bin", op, left: number(first, `"${op}"`), right: number(second, `"${op}"`) };
       }
-      throw new ExprReject(`operator "${node.op}" is not allowed (only + - * / ^)`);
+      const rel = RELATIONS[fn];
+      if (rel && first && second && rest.length === 0) {
+        return { kind: "cmp", op: rel, left: number(first, `"${rel}"`), right: number(second, `"${rel}"`) };
+      }
+      if ((fn === "and" || fn === "or" || fn === "xor") && first && second && rest.length === 0) {
+        return { kind: "logic", op: fn, left: condition(first, `"${fn}"`), right: condition(second, `"${fn}"`) };
+      }
+      if (fn === "factorial") throw new ExprReject(`"!" is not allowed; write "not (…)" to negate a condition, or "!=" for unequal`);
+      throw new ExprReject(`operator "${node.op}" is not allowed (only + - * / ^, relations < <= > >= == !=, and, or, xor, not)`);
     }
     case "FunctionNode": {
       const name = typeof node.fn === "object" && node.fn ? String(node.fn.name) : "";
+      if (name === "piecewise") return convertPiecewise(node.args ?? [], number, condition);
       if (!Object.prototype.hasOwnProperty.call(FUNCTION_ARITY, name)) {
-        throw new ExprReject(`function "${name}" is not allowed (only exp, log, sqrt, min, max, pow)`);
+        throw new ExprReject(`function "${name}" is not allowed (only exp, log, sqrt, min, max, pow, piecewise)`);
       }
       const fn = name as ExprFunction;
       const args = node.args ?? [];
@@ -130,11 +191,32 @@ function convert(node: MathNode, scope: ExprScope, depth: number, budget: { node
       if (args.length < lo || args.length > hi) {
         throw new ExprReject(`${fn}() takes ${lo === hi ? lo : `${lo} to ${hi}`} argument${hi === 1 ? "" : "s"}, got ${args.length}`);
       }
-      return { kind: "call", fn, args: args.map(go) };
+      return { kind: "call", fn, args: args.map((a) => number(a, `${fn}()`)) };
     }
+    case "RelationalNode":
+      throw new ExprReject(`a chained comparison (${show(node)}) is not allowed; write (a < b) and (b < c)`);
+    case "ConditionalNode":
+      throw new ExprReject(`"a ? b : c" is not allowed; write piecewise(b, a, c)`);
     default:
       throw new ExprReject(`${describeNode(node.type)} is not allowed in a rate formula`);
   }
+}
+
+/**
+ * piecewise(value1, cond1, value2, cond2, …, otherwise): pairs of a value and its condition, the
+ * first pair whose condition holds giving the value, and an optional last value for none.
+ */
+function convertPiecewise(args: MathNode[], number: (n: MathNode, where: string) => Expr, condition: (n: MathNode, where: string) => Expr): Expr {
+  if (args.length < 2) throw new ExprReject(`piecewise() takes a value and a condition, then more pairs, then an optional otherwise value: piecewise(1, A < 10, 0); got ${args.length} argument${args.length === 1 ? "" : "s"}`);
+  if (args.length > 2 * MAX_PIECES + 1) throw new ExprReject(`piecewise() takes at most ${MAX_PIECES} pieces, got ${Math.floor(args.length / 2)}`);
+  const pieces: { value: Expr; cond: Expr }[] = [];
+  for (let k = 0; k + 1 < args.length; k += 2) {
+    const value = number(args[k] as MathNode, `piecewise() argument ${k + 1} (a value)`);
+    const cond = condition(args[k + 1] as MathNode, `piecewise() argument ${k + 2}`);
+    pieces.push({ value, cond });
+  }
+  const otherwise = args.length % 2 === 1 ? number(args[args.length - 1] as MathNode, `piecewise()'s last argument (otherwise)`) : null;
+  return { kind: "piecewise", pieces, otherwise };
 }
 
 function describeNode(type: string): string {

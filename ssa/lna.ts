@@ -1,9 +1,13 @@
 /**
  * Jacobian of the mean field and the linear noise approximation (LNA) at a steady state.
  * Derivatives of the rate laws are exact: closed forms for mass action and Hill laws, forward-mode
- * automatic differentiation (dual numbers) over the parsed `expression` AST. Pure: no I/O.
+ * automatic differentiation (dual numbers) over the parsed `expression` AST. A piecewise formula's
+ * derivative is that of its active piece (the piece whose condition holds at y; the one-sided
+ * derivative on the side the conditions choose, as for min and max): right everywhere but on a
+ * switch, where the rate is not differentiable; `switchingCondition` finds a state sitting on one,
+ * and ssa/analyze.ts refuses stability and the LNA there. Pure: no I/O.
  */
-import type { Expr } from "./expr";
+import { exprChildren, expressionSpecies, type Expr } from "./expr-ast";
 import { conservationAnalysis, lyapunov, type Conservation } from "./linalg";
 import { LawCode, powNonNeg, type Model } from "./model-core";
 
@@ -12,21 +16,62 @@ export type JacobianModel = Pick<
   Model,
   | "nSpecies" | "nReactions" | "netStoich" | "rates" | "law" | "k" | "reactantPtr" | "reactantIdx" | "reactantNu"
   | "hillInput" | "vmax" | "K" | "n" | "expressions" | "speciesIndex" | "parameters"
->;
+> & Partial<Pick<Model, "timeReactions">>;
 
 /**
  * ∂f_r/∂y_i of every rate law at amounts y (model units), dense row-major nReactions × nSpecies.
  * Mass action k·Π y^ν: k·ν_i·y_i^(ν_i−1)·Π_{j≠i} y_j^ν_j. Hill: d/dx [x^n/(K^n+x^n)] =
  * (n/K)·(x/K)^(n−1)/(1+(x/K)^n)²; repression is its negative. Expressions: dual numbers.
  */
-export function rateJacobian(model: JacobianModel, y: Float64Array): Float64Array {
+export function rateJacobian(model: JacobianModel, y: Float64Array, t = 0): Float64Array {
   const out = new Float64Array(model.nReactions * model.nSpecies);
-  rateJacobianInto(model, y, out, new Map(Object.entries(model.parameters)));
+  rateJacobianInto(model, y, out, new Map(Object.entries(model.parameters)), t);
   return out;
 }
 
+/** ∂f_r/∂t of every rate law at amounts y and time t (non-zero only for formulas that read `t`), length nReactions. */
+export function rateTimeDerivative(model: JacobianModel, y: Float64Array, t: number, out: Float64Array, paramMap: ReadonlyMap<string, number> = new Map(Object.entries(model.parameters))): void {
+  out.fill(0);
+  for (const r of model.timeReactions ?? []) out[r] = dual(model.expressions[r] as Expr, y, t, TIME_DIRECTION, model.speciesIndex, paramMap)[1];
+}
+
+/**
+ * The first piecewise condition of a rate that sits on its switch at amounts y (a relation whose
+ * sides agree to 1e-6 relative: there the rate jumps or kinks, and no derivative describes it), as
+ * `reactions[r].rate.expression` and the species it reads; null when none does.
+ */
+export function switchingCondition(model: JacobianModel, y: Float64Array, t = 0): { field: string; at: string } | null {
+  const params = new Map(Object.entries(model.parameters));
+  for (let r = 0; r < model.nReactions; r++) {
+    const e = model.expressions[r];
+    if (!e) continue;
+    const hit = findSwitch(e, y, t, model.speciesIndex, params);
+    if (hit) return { field: `reactions[${r}].rate.expression`, at: hit };
+  }
+  return null;
+}
+
+function findSwitch(e: Expr, y: Float64Array, t: number, idx: ReadonlyMap<string, number>, params: ReadonlyMap<string, number>): string | null {
+  if (e.kind === "cmp") {
+    const l = dual(e.left, y, t, -2, idx, params)[0];
+    const r = dual(e.right, y, t, -2, idx, params)[0];
+    const species = expressionSpecies(e);
+    if (species.length > 0 && Math.abs(l - r) <= 1e-6 * Math.max(1, Math.abs(l), Math.abs(r))) {
+      return species.map((id) => `${id} = ${Number((y[idx.get(id) as number]).toPrecision(6))}`).join(", ");
+    }
+  }
+  for (const c of exprChildren(e)) {
+    const hit = findSwitch(c, y, t, idx, params);
+    if (hit) return hit;
+  }
+  return null;
+}
+
+/** The `dir` of dual() that differentiates along time. */
+const TIME_DIRECTION = -1;
+
 /** rateJacobian writing into `out` (overwritten), with the parameter map supplied by the caller. */
-function rateJacobianInto(model: JacobianModel, y: Float64Array, out: Float64Array, paramMap: ReadonlyMap<string, number>): void {
+function rateJacobianInto(model: JacobianModel, y: Float64Array, out: Float64Array, paramMap: ReadonlyMap<string, number>, t: number): void {
   const nS = model.nSpecies;
   const nR = model.nReactions;
   out.fill(0);
@@ -57,14 +102,24 @@ function rateJacobianInto(model: JacobianModel, y: Float64Array, out: Float64Arr
       out[r * nS + i] = (law === LawCode.HillActivation ? 1 : -1) * model.vmax[r] * d;
     } else {
       const expr = model.expressions[r] as Expr;
-      for (let i = 0; i < nS; i++) out[r * nS + i] = dual(expr, y, i, model.speciesIndex, paramMap)[1];
+      for (let i = 0; i < nS; i++) out[r * nS + i] = dual(expr, y, t, i, model.speciesIndex, paramMap)[1];
     }
   }
 }
 
-/** Value and derivative along species `dir` of an expression (forward-mode AD). */
-function dual(e: Expr, y: Float64Array, dir: number, idx: ReadonlyMap<string, number>, params: ReadonlyMap<string, number>): [number, number] {
+/**
+ * Value and derivative along species `dir` (TIME_DIRECTION: along time; any other negative: none)
+ * of an expression at amounts y and time t (forward-mode AD).
+ */
+function dual(e: Expr, y: Float64Array, t: number, dir: number, idx: ReadonlyMap<string, number>, params: ReadonlyMap<string, number>): [number, number] {
   switch (e.kind) {
+    case "time":
+      return [t, dir === TIME_DIRECTION ? 1 : 0];
+    case "piecewise": {
+      // The active piece's value and derivative (see the header).
+      for (const p of e.pieces) if (truth(p.cond, y, t, idx, params)) return dual(p.value, y, t, dir, idx, params);
+      return e.otherwise ? dual(e.otherwise, y, t, dir, idx, params) : [NaN, NaN];
+    }
     case "num":
       return [e.value, 0];
     case "param":
@@ -74,12 +129,12 @@ function dual(e: Expr, y: Float64Array, dir: number, idx: ReadonlyMap<string, nu
       return [y[i], i === dir ? 1 : 0];
     }
     case "neg": {
-      const [v, d] = dual(e.arg, y, dir, idx, params);
+      const [v, d] = dual(e.arg, y, t, dir, idx, params);
       return [-v, -d];
     }
     case "bin": {
-      const [a, da] = dual(e.left, y, dir, idx, params);
-      const [b, db] = dual(e.right, y, dir, idx, params);
+      const [a, da] = dual(e.left, y, t, dir, idx, params);
+      const [b, db] = dual(e.right, y, t, dir, idx, params);
       switch (e.op) {
         case "+":
           return [a + b, da + db];
@@ -95,7 +150,7 @@ function dual(e: Expr, y: Float64Array, dir: number, idx: ReadonlyMap<string, nu
       break;
     }
     case "call": {
-      const args = e.args.map((x) => dual(x, y, dir, idx, params));
+      const args = e.args.map((x) => dual(x, y, t, dir, idx, params));
       switch (e.fn) {
         case "exp": {
           const v = Math.exp(args[0][0]);
@@ -124,6 +179,40 @@ function dual(e: Expr, y: Float64Array, dir: number, idx: ReadonlyMap<string, nu
   throw new TypeError(`rateJacobian: unexpected expression node ${JSON.stringify(e)}`);
 }
 
+/** The truth of a condition at amounts y and time t (values from dual(), so the same arithmetic as the rates). */
+function truth(e: Expr, y: Float64Array, t: number, idx: ReadonlyMap<string, number>, params: ReadonlyMap<string, number>): boolean {
+  switch (e.kind) {
+    case "bool":
+      return e.value;
+    case "not":
+      return !truth(e.arg, y, t, idx, params);
+    case "logic": {
+      const l = truth(e.left, y, t, idx, params);
+      const r = truth(e.right, y, t, idx, params);
+      return e.op === "and" ? l && r : e.op === "or" ? l || r : l !== r;
+    }
+    case "cmp": {
+      const l = dual(e.left, y, t, -2, idx, params)[0];
+      const r = dual(e.right, y, t, -2, idx, params)[0];
+      switch (e.op) {
+        case "<":
+          return l < r;
+        case "<=":
+          return l <= r;
+        case ">":
+          return l > r;
+        case ">=":
+          return l >= r;
+        case "==":
+          return l === r;
+        case "!=":
+          return l !== r;
+      }
+    }
+  }
+  throw new TypeError(`rateJacobian: unexpected condition node ${JSON.stringify(e)}`);
+}
+
 function powDual(a: number, da: number, b: number, db: number): [number, number] {
   const v = Math.pow(a, b);
   // d(a^b) = b·a^(b−1)·da + a^b·ln(a)·db; the second term vanishes when b is constant.
@@ -143,7 +232,7 @@ export function meanFieldJacobian(model: JacobianModel, y: Float64Array): Float6
  * A reusable J = S·∂f/∂y evaluator that writes into `out` (nSpecies × nSpecies) and allocates
  * nothing per call, for the stiff ODE solver.
  */
-export function meanFieldJacobianEvaluator(model: JacobianModel): (y: Float64Array, out: Float64Array) => void {
+export function meanFieldJacobianEvaluator(model: JacobianModel): (y: Float64Array, out: Float64Array, t?: number) => void {
   const nS = model.nSpecies;
   const nR = model.nReactions;
   const df = new Float64Array(nR * nS);
@@ -161,8 +250,8 @@ export function meanFieldJacobianEvaluator(model: JacobianModel): (y: Float64Arr
       }
     }
   }
-  return (y, out) => {
-    rateJacobianInto(model, y, df, paramMap);
+  return (y, out, t = 0) => {
+    rateJacobianInto(model, y, df, paramMap, t);
     out.fill(0);
     for (let p = 0; p < rIdx.length; p++) {
       const r = rIdx[p];

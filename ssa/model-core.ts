@@ -5,7 +5,7 @@
  * (lib/schemas/circuit.ts). This file never loads the formula parser: ssa/model.ts parses and
  * calls compileParsedModel, and worker threads receive formulas already parsed.
  */
-import { compileExpression, expressionParameters, expressionSpecies, type Expr, type ExprEvaluator } from "./expr-ast";
+import { compileExpression, expressionParameters, expressionReadsTime, expressionSpecies, type Expr, type ExprEvaluator } from "./expr-ast";
 import { parseCondition, type Condition } from "./condition";
 import { isTimedChange, ModelInputError, type AmountUnit, type Circuit, type NumberOrParam, type TimeUnit } from "./types";
 
@@ -92,9 +92,11 @@ export interface Model {
   basal: Float64Array;
   /** Parsed expressions (null for other laws). */
   expressions: (Expr | null)[];
+  /** Reactions whose rate formula reads the time `t`, ascending (the ODE only; see timeDependenceRefusal). */
+  timeReactions: number[];
   speciesIndex: ReadonlyMap<string, number>;
-  /** Deterministic rate of each reaction (model amount per model time) at amounts y. */
-  rates(y: Float64Array, out: Float64Array): void;
+  /** Deterministic rate of each reaction (model amount per model time) at amounts y and model time t (default 0; only formulas that read `t` use it). */
+  rates(y: Float64Array, out: Float64Array, t?: number): void;
   /** Propensity of each reaction (molecules per model time) at counts x. */
   propensities(x: Float64Array, out: Float64Array): void;
   /** Propensity of reaction j alone (molecules per model time) at counts x. */
@@ -153,6 +155,17 @@ export type KernelFn = (
 
 /** A kernel that can also lend its own sample block (ssa/wasm-kernel.ts: a view over its memory, written without a copy). */
 export type BlockKernelFn = KernelFn & { block?: (values: number, gridLength: number) => Float64Array | null };
+
+/**
+ * Why a stochastic method cannot run a model, or null: a propensity that depends on time breaks the
+ * exactness of the direct method (its waiting time −ln(u)/a0 assumes a0 constant between events,
+ * Gillespie 1977) and the leap condition of tau-leaping, so rates must be functions of the state.
+ */
+export function timeDependenceRefusal(m: Pick<Model, "timeReactions">): string | null {
+  const j = m.timeReactions[0];
+  if (j === undefined) return null;
+  return `reactions[${j}].rate.expression: depends on time t; stochastic runs need rates that depend on the state only (use a schedule for a timed change)`;
+}
 
 /** x^n for a non-negative base; repeated squaring for integer n (SCIENCE.md: integer powers). */
 export function powNonNeg(x: number, n: number): number {
@@ -475,11 +488,24 @@ function compileRates(c: Circuit, overrides: Record<string, number> | undefined,
   const amountEval: (ExprEvaluator | null)[] = expressions.map((e) =>
     e ? compileExpression(e, speciesIndex, new Map(Object.entries(params))) : null,
   );
-  const countEval: (ExprEvaluator | null)[] = expressions.map((e) =>
-    e ? compileExpression(e, speciesIndex, new Map(Object.entries(params)), 1 / omega) : null,
-  );
+  const timeReactions: number[] = [];
+  expressions.forEach((e, j) => {
+    if (e && expressionReadsTime(e)) timeReactions.push(j);
+  });
+  const countEval: (ExprEvaluator | null)[] = expressions.map((e, j) => {
+    if (!e) return null;
+    // Stochastic paths refuse such a model first (timeDependenceRefusal); were one to slip
+    // through, it fails loudly here rather than fire at the rate of t = 0.
+    if (timeReactions.includes(j)) {
+      const message = timeDependenceRefusal({ timeReactions: [j] }) as string;
+      return () => {
+        throw new ModelInputError(message);
+      };
+    }
+    return compileExpression(e, speciesIndex, new Map(Object.entries(params)), 1 / omega);
+  });
 
-  const rates = (y: Float64Array, out: Float64Array): void => {
+  const rates = (y: Float64Array, out: Float64Array, t = 0): void => {
     for (let j = 0; j < nR; j++) {
       switch (law[j]) {
         case LawCode.MassAction: {
@@ -496,7 +522,7 @@ function compileRates(c: Circuit, overrides: Record<string, number> | undefined,
           out[j] = basal[j] + vmax[j] * hillRepression(Math.max(0, y[hillInput[j]]), K[j], n[j]);
           break;
         default:
-          out[j] = (amountEval[j] as ExprEvaluator)(y);
+          out[j] = (amountEval[j] as ExprEvaluator)(y, t);
       }
     }
   };
@@ -519,7 +545,7 @@ function compileRates(c: Circuit, overrides: Record<string, number> | undefined,
         a = omega * (basal[j] + vmax[j] * hillRepression(x[hillInput[j]], KOmega[j], n[j]));
         break;
       default:
-        a = omega * (countEval[j] as ExprEvaluator)(x);
+        a = omega * (countEval[j] as ExprEvaluator)(x, 0);
         if (!(a > 0)) a = 0; // a negative or undefined formula value cannot fire
     }
     for (let p = reactantPtr[j]; p < reactantPtr[j + 1]; p++) if (x[reactantIdx[p]] < reactantNu[p]) return 0;
@@ -562,6 +588,7 @@ function compileRates(c: Circuit, overrides: Record<string, number> | undefined,
     n,
     basal,
     expressions,
+    timeReactions,
     speciesIndex,
     rates,
     propensity,

@@ -3,8 +3,8 @@
  * Ω with every converted constant and initial count. The engine proper is ssa/model-core.ts.
  * Pure: no I/O.
  */
-import { parseExpression, type Expr } from "./expr";
-import { AVOGADRO, compileParsedModel, type Model } from "./model-core";
+import { expressionReadsTime, parseExpression, type Expr } from "./expr";
+import { AVOGADRO, compileParsedModel, timeDependenceRefusal, type Model } from "./model-core";
 import { ModelInputError, type AmountUnit, type Circuit, type NumberOrParam, type TimeUnit } from "./types";
 
 export * from "./model-core";
@@ -25,6 +25,16 @@ export function parseCircuitExpressions(c: Circuit, overrides?: Record<string, n
     if (!res.ok) throw new ModelInputError(`reactions[${j}].rate.expression: ${res.reason}`);
     return res.expr;
   });
+}
+
+/**
+ * Why the stochastic methods cannot run a validated circuit, or null: a rate formula that reads
+ * the time `t` (ssa/model-core.ts timeDependenceRefusal says why). Parses the formulas, nothing more.
+ * @throws ModelInputError naming the field when a formula is invalid.
+ */
+export function stochasticRefusal(c: Circuit): string | null {
+  const j = parseCircuitExpressions(c).findIndex((e) => e !== null && expressionReadsTime(e));
+  return j < 0 ? null : timeDependenceRefusal({ timeReactions: [j] });
 }
 
 /**

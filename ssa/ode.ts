@@ -2,8 +2,9 @@
  * Mean-field trace of a compiled circuit: dy/dt = Sᵀ·f(y) (SCIENCE.md "Deterministic model"),
  * integrated by ode-solvers.ts and sampled on the grid 0, dt, 2dt, …, tEnd. Pure: no I/O.
  */
+import { timeBreakpoints } from "./expr-ast";
 import { makeGrid } from "./grid";
-import { meanFieldJacobianEvaluator, type JacobianModel } from "./lna";
+import { meanFieldJacobianEvaluator, rateTimeDerivative, type JacobianModel } from "./lna";
 import type { Model } from "./model";
 import { integrate, type IntegrateStats, type OdeMethod, type OdeRhs } from "./ode-solvers";
 import type { FiringRecord } from "./schedule";
@@ -12,7 +13,7 @@ import { ScheduleRuntime } from "./schedule-runtime";
 export { OdeError, integrate, type OdeMethod, type OdeRhs, type IntegrateOptions, type IntegrateStats } from "./ode-solvers";
 
 /** The part of a compiled Model the deterministic code needs (and its schedule, when it has one). */
-export type MeanFieldModel = Pick<Model, "species" | "nSpecies" | "nReactions" | "omega" | "initialAmounts" | "netStoich" | "rates"> & { schedule?: Model["schedule"] };
+export type MeanFieldModel = Pick<Model, "species" | "nSpecies" | "nReactions" | "omega" | "initialAmounts" | "netStoich" | "rates"> & { schedule?: Model["schedule"] } & Partial<Pick<Model, "timeReactions">>;
 
 export interface SolveOdeOptions {
   /** End of the grid, in the model's time unit. */
@@ -45,8 +46,14 @@ export interface OdeSolution {
 /** The output grid: the same points as an ensemble's (ssa/grid.ts). */
 export const outputGrid = makeGrid;
 
-/** Right-hand side dy/dt = Sᵀ·f(y) of a model, in model amount per model time. */
+/** Right-hand side dy/dt = Sᵀ·f(y) of a model, in model amount per model time (rates that read `t` see t = 0; see meanFieldRhsAt). */
 export function meanFieldRhs(model: MeanFieldModel): OdeRhs {
+  const f = meanFieldRhsAt(model);
+  return (y, dydt) => f(y, dydt, 0);
+}
+
+/** Right-hand side dy/dt = Sᵀ·f(y, t) at model time t, in model amount per model time. */
+export function meanFieldRhsAt(model: MeanFieldModel): (y: Float64Array, dydt: Float64Array, t: number) => void {
   const nS = model.nSpecies;
   const nR = model.nReactions;
   const S = model.netStoich;
@@ -68,8 +75,8 @@ export function meanFieldRhs(model: MeanFieldModel): OdeRhs {
   const si = Int32Array.from(sIdx);
   const dv = Float64Array.from(delta);
   const rates = new Float64Array(nR);
-  return (y, dydt) => {
-    model.rates(y, rates);
+  return (y, dydt, t) => {
+    model.rates(y, rates, t);
     dydt.fill(0);
     for (let p = 0; p < ri.length; p++) dydt[si[p]] += dv[p] * rates[ri[p]];
   };
@@ -90,7 +97,7 @@ export function solveOde(model: MeanFieldModel, options: SolveOdeOptions): OdeSo
   const integrateOptions = { method: options.method, rtol: options.rtol, atol: options.atol, maxSteps: options.maxSteps };
   const { values, stats, firings } = model.schedule
     ? integrateScheduled(model as Model, y0, grid, integrateOptions)
-    : { ...integrate(meanFieldRhs(model), y0, grid, { ...integrateOptions, jacobian: exactJacobian(model) }), firings: undefined };
+    : { ...integrateMeanField(model, y0, grid, integrateOptions), firings: undefined };
   const nS = model.nSpecies;
   const scale = units === "molecules" ? model.omega : 1;
   const trace: Record<string, number[]> = {};
@@ -105,7 +112,106 @@ export function solveOde(model: MeanFieldModel, options: SolveOdeOptions): OdeSo
 
 /** A compiled Model knows its rate laws, so the stiff method gets the exact Jacobian. */
 function exactJacobian(model: MeanFieldModel) {
-  return "law" in model && "expressions" in model ? meanFieldJacobianEvaluator(model as MeanFieldModel & JacobianModel) : undefined;
+  return isCompiled(model) ? meanFieldJacobianEvaluator(model) : undefined;
+}
+
+const isCompiled = (model: MeanFieldModel): model is MeanFieldModel & JacobianModel => "law" in model && "expressions" in model;
+
+/**
+ * The mean field from `y0` at times[0], sampled at `times` (row-major times × nSpecies). When a
+ * rate reads the time `t`, the system is made autonomous (common practice, e.g. Hairer, Nørsett &
+ * Wanner, Solving ODEs I, §I.1): the state gains τ with dτ/dt = 1 and τ(times[0]) = times[0], so
+ * the solvers, written for y' = f(y), integrate y' = f(y, τ) with τ = t (a linear component is
+ * integrated exactly by the Runge–Kutta and Rosenbrock methods, up to round-off); the Jacobian
+ * gains the column Sᵀ·∂f/∂t and a zero row. τ is dropped from the result. A condition on time
+ * alone (`t < 50`) switches at a known time (timeBreakpoints): the integration stops there and
+ * restarts, and within each piece τ is held strictly inside it (one float step from either end),
+ * so every stage of a step sees that piece's rates (the value at a switch is the left or right
+ * limit, as the piece requires) and a jump costs no accuracy.
+ */
+function integrateMeanField(model: MeanFieldModel, y0: ArrayLike<number>, times: ArrayLike<number>, o: { method?: OdeMethod; rtol?: number; atol?: number; maxSteps?: number }): { values: Float64Array; stats: IntegrateStats } {
+  if (!(model.timeReactions && model.timeReactions.length > 0)) return integrate(meanFieldRhs(model), y0, times, { ...o, jacobian: exactJacobian(model) });
+  const nS = model.nSpecies;
+  const n = nS + 1;
+  const f = meanFieldRhsAt(model);
+  // τ is clamped to [lo, hi], the open piece being integrated (set per piece below).
+  let lo = -Infinity;
+  let hi = Infinity;
+  const clock = (tau: number) => (tau < lo ? lo : tau > hi ? hi : tau);
+  const rhs: OdeRhs = (ya, da) => {
+    f(ya.subarray(0, nS), da.subarray(0, nS), clock(ya[nS]));
+    da[nS] = 1;
+  };
+  let jacobian: ((y: Float64Array, jac: Float64Array) => void) | undefined;
+  if (isCompiled(model)) {
+    const jy = meanFieldJacobianEvaluator(model);
+    const J = new Float64Array(nS * nS);
+    const dft = new Float64Array(model.nReactions);
+    const S = model.netStoich;
+    const m = model;
+    jacobian = (ya, out) => {
+      const y = ya.subarray(0, nS);
+      const t = clock(ya[nS]);
+      jy(y, J, t);
+      rateTimeDerivative(m, y, t, dft);
+      out.fill(0);
+      for (let i = 0; i < nS; i++) for (let j = 0; j < nS; j++) out[i * n + j] = J[i * nS + j];
+      for (const r of m.timeReactions ?? []) for (let i = 0; i < nS; i++) out[i * n + nS] += S[r * nS + i] * dft[r];
+    };
+  }
+  const nT = times.length;
+  const t0 = times[0];
+  const tN = times[nT - 1];
+  const cuts = new Set<number>();
+  if (isCompiled(model)) {
+    const params = new Map(Object.entries(model.parameters));
+    for (const j of model.timeReactions) for (const b of timeBreakpoints(model.expressions[j] as NonNullable<Model["expressions"][number]>, params)) if (b > t0 && b < tN) cuts.add(b);
+  }
+  const edges = [t0, ...[...cuts].sort((a, b) => a - b), tN];
+  const values = new Float64Array(nT * nS);
+  const y = new Float64Array(n);
+  for (let i = 0; i < nS; i++) y[i] = y0[i];
+  y[nS] = t0;
+  for (let i = 0; i < nS; i++) values[i] = y0[i];
+  let stats: IntegrateStats | null = null;
+  let k = 1; // next output time to fill
+  for (let e = 0; e + 1 < edges.length && k < nT; e++) {
+    const a = edges[e];
+    const b = edges[e + 1];
+    lo = nextFloat(a, 1);
+    hi = nextFloat(b, -1);
+    if (hi < lo) lo = hi = a + (b - a) / 2;
+    const sub: number[] = [a];
+    const at: number[] = [];
+    while (k < nT && times[k] < b) {
+      if (times[k] > a) sub.push(times[k]);
+      at.push(k++);
+    }
+    if (k < nT && times[k] === b) at.push(k++);
+    sub.push(b);
+    y[nS] = a;
+    const r = integrate(rhs, y, sub, { ...o, jacobian });
+    stats = stats ? addStats(stats, r.stats) : r.stats;
+    // Output times in (a, b] come in order: sub[1..] are exactly the ones pushed, then b.
+    let q = 1;
+    for (const idx of at) {
+      while (q < sub.length - 1 && sub[q] < times[idx]) q++;
+      const row = times[idx] === b ? sub.length - 1 : q;
+      values.set(r.values.subarray(row * n, row * n + nS), idx * nS);
+    }
+    y.set(r.values.subarray((sub.length - 1) * n, sub.length * n));
+  }
+  return { values, stats: stats as IntegrateStats };
+}
+
+/** The float next to x towards +∞ (dir 1) or −∞ (dir −1). */
+function nextFloat(x: number, dir: 1 | -1): number {
+  if (!Number.isFinite(x)) return x;
+  if (x === 0) return dir * Number.MIN_VALUE;
+  const buf = new Float64Array([x]);
+  const bits = new BigInt64Array(buf.buffer);
+  bits[0] += (x > 0) === (dir > 0) ? 1n : -1n;
+  return buf[0];
 }
 
 /** Points per grid step at which the mean field's trigger conditions are checked. */
@@ -134,7 +240,7 @@ function integrateScheduled(model: Model, y0: ArrayLike<number>, grid: Float64Ar
   const y = Float64Array.from(y0);
   let stats: IntegrateStats | null = null;
   const run = (from: Float64Array, times: number[]) => {
-    const r = integrate(meanFieldRhs(rt.phase), from, Float64Array.from(times), { ...o, jacobian: exactJacobian(rt.phase) });
+    const r = integrateMeanField(rt.phase, from, Float64Array.from(times), o);
     stats = stats ? addStats(stats, r.stats) : r.stats;
     return r.values;
   };

@@ -11,7 +11,7 @@
  * <p> per line) and an annotation (namespace urn:burstwise:sbml:parameter-info:1) with the unit
  * text; empty texts are not written. Pure: no I/O.
  */
-import { parseExpression } from "./expr";
+import { expressionSpecies, parseExpression } from "./expr";
 import { apply, ci, cn, exprToMathML, mathElement } from "./sbml-math";
 import { PARAMETER_ANNOTATION, PARAMETER_ANNOTATION_NS, RATE_ANNOTATION, RATE_ANNOTATION_NS } from "./sbml";
 import { ModelInputError, type Circuit, type NumberOrParam, type ParameterInfo, type RateLaw } from "./types";
@@ -242,15 +242,8 @@ function rateMath(
         isParameter: (id) => Object.prototype.hasOwnProperty.call(params, id) && !speciesIds.has(id),
       });
       if (!parsed.ok) throw new RangeError(`${where}.rate.expression: ${parsed.reason}`);
-      const species: string[] = [];
-      const walk = (e: typeof parsed.expr): void => {
-        if (e.kind === "species" && !species.includes(e.id)) species.push(e.id);
-        if (e.kind === "neg") walk(e.arg);
-        if (e.kind === "bin") (walk(e.left), walk(e.right));
-        if (e.kind === "call") e.args.forEach(walk);
-      };
-      walk(parsed.expr);
-      return { math: exprToMathML(parsed.expr), species };
+      // Every species the formula reads, piecewise conditions included (they become modifiers).
+      return { math: exprToMathML(parsed.expr), species: expressionSpecies(parsed.expr) };
     }
   }
 }

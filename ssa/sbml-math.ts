@@ -4,7 +4,7 @@
  * (ssa/expr.ts) into MathML text. Formulas are printed for the circuit's `expression` law and
  * re-parsed by ssa/expr.ts there, so user text only ever travels as data. Pure: no I/O.
  */
-import { FORMULA_LIMITS, type Expr } from "./expr-ast";
+import { FORMULA_LIMITS, TIME_SYMBOL, type Expr } from "./expr-ast";
 
 /** A node of fast-xml-parser's `preserveOrder` output: { tag: children, ":@"?: attributes }. */
 export type XmlNode = Record<string, unknown>;
@@ -222,14 +222,47 @@ export type SymbolMap = (id: string) => Formula;
 
 /**
  * Our formula tree, the target of translation: exactly what the `expression` law accepts
- * (numbers, symbols, + − * / ^, exp log sqrt min max). Printed by printFormula.
+ * (numbers, symbols, the time t, + − * / ^, exp log sqrt min max, piecewise; and as its conditions
+ * true/false, relations, and/or/xor/not). Printed by printFormula.
  */
 export type Formula =
   | { k: "num"; v: number }
   | { k: "sym"; id: string }
+  | { k: "time" }
   | { k: "neg"; a: Formula }
   | { k: "bin"; op: "+" | "-" | "*" | "/" | "^"; a: Formula; b: Formula }
-  | { k: "fn"; fn: "exp" | "log" | "sqrt" | "min" | "max"; args: Formula[] };
+  | { k: "fn"; fn: "exp" | "log" | "sqrt" | "min" | "max"; args: Formula[] }
+  | { k: "pw"; pieces: { v: Formula; c: Formula }[]; o: Formula | null }
+  | { k: "bool"; v: boolean }
+  | { k: "cmp"; op: "<" | "<=" | ">" | ">=" | "==" | "!="; a: Formula; b: Formula }
+  | { k: "logic"; op: "and" | "or" | "xor"; a: Formula; b: Formula }
+  | { k: "not"; a: Formula };
+
+/** Whether a formula is a condition (true or false), not a number. */
+export const isConditionFormula = (f: Formula): boolean => f.k === "bool" || f.k === "cmp" || f.k === "logic" || f.k === "not";
+
+/** A formula's direct children. */
+function formulaChildren(f: Formula): Formula[] {
+  switch (f.k) {
+    case "neg":
+    case "not":
+      return [f.a];
+    case "bin":
+    case "cmp":
+    case "logic":
+      return [f.a, f.b];
+    case "fn":
+      return f.args;
+    case "pw": {
+      const out: Formula[] = [];
+      for (const p of f.pieces) out.push(p.v, p.c);
+      if (f.o) out.push(f.o);
+      return out;
+    }
+    default:
+      return [];
+  }
+}
 
 export const num = (v: number): Formula => ({ k: "num", v });
 export const sym = (id: string): Formula => ({ k: "sym", id });
@@ -242,6 +275,11 @@ export interface TranslateContext {
   functions: ReadonlyMap<string, { params: string[]; body: MathAst }>;
   /** Shared work budget of the import (none: only the per-formula bounds apply). */
   budget?: ExpansionBudget;
+  /**
+   * The file's time over ours (our time unit over the file's, in seconds): the time csymbol
+   * becomes t · timeFactor. Absent: the time symbol is refused (where no time is in force).
+   */
+  timeFactor?: number;
 }
 
 /**
@@ -261,11 +299,7 @@ export function measureFormula(f: Formula): { size: number; depth: number } {
     size += m.size;
     depth = Math.max(depth, m.depth);
   };
-  if (f.k === "neg") add(f.a);
-  else if (f.k === "bin") {
-    add(f.a);
-    add(f.b);
-  } else if (f.k === "fn") f.args.forEach(add);
+  for (const c of formulaChildren(f)) add(c);
   const m = { size, depth: depth + 1 };
   measured.set(f, m);
   return m;
@@ -343,13 +377,31 @@ export function measureDefinitions(functions: ReadonlyMap<string, { params: stri
 /**
  * Translates MathML into our formula language. abs(x) becomes max(x, −x); log with base b
  * becomes log(x)/log(b); root of degree d becomes x^(1/d) (sqrt for d = 2); pi and e become
- * numbers; function definitions are expanded in place.
- * @throws MathError for what the `expression` law cannot say (piecewise, relations, time, …).
+ * numbers; function definitions are expanded in place. Relations with more than two arguments
+ * (`<lt/> a b c`: a < b < c) become a conjunction of neighbouring pairs; `and`, `or`, `xor` with
+ * many arguments fold from the left (none: true for and, false for or and xor; MathML 2 §4.4.3).
+ * The time csymbol becomes t (times ctx.timeFactor). Conditions and numbers are kept apart, and
+ * the whole formula (depth 0) must be a number.
+ * @throws MathError for what the `expression` law cannot say.
  */
 export function translate(ast: MathAst, ctx: TranslateContext, depth = 0): Formula {
   if (depth > 500) throw new MathError("formula nested too deeply (recursive function definitions?)");
   spendStep(ctx.budget);
-  return checkSize(translateNode(ast, ctx, depth));
+  const f = checkSize(translateNode(ast, ctx, depth));
+  if (depth === 0 && isConditionFormula(f)) throw new MathError(`a condition (${printFormula(f).slice(0, 60)}) cannot be a number here; use <piecewise>`);
+  return f;
+}
+
+/** A translated argument where a number belongs. */
+function asNumber(f: Formula, where: string): Formula {
+  if (isConditionFormula(f)) throw new MathError(`${where} needs a number, found the condition ${printFormula(f).slice(0, 60)}`);
+  return f;
+}
+
+/** A translated argument where a condition belongs. */
+function asCondition(f: Formula, where: string): Formula {
+  if (!isConditionFormula(f)) throw new MathError(`${where} needs a condition (a relation, and, or, xor, not, true, false), found ${printFormula(f).slice(0, 60)}`);
+  return f;
 }
 
 function translateNode(ast: MathAst, ctx: TranslateContext, depth: number): Formula {
@@ -362,13 +414,21 @@ function translateNode(ast: MathAst, ctx: TranslateContext, depth: number): Form
     case "const":
       if (ast.name === "pi") return num(Math.PI);
       if (ast.name === "exponentiale") return num(Math.E);
+      if (ast.name === "true" || ast.name === "false") return { k: "bool", v: ast.name === "true" };
       throw new MathError(`<${ast.name}/> is not supported in a rate formula`);
     case "csymbol":
       if (ast.name === "avogadro") return num(6.02214076e23); // SI 2019 value of N_A
-      if (ast.name === "time") throw new MathError("the time symbol is not supported (rates may depend on amounts only)");
+      if (ast.name === "time") {
+        if (ctx.timeFactor === undefined) throw new MathError("the time symbol is not supported here");
+        return ctx.timeFactor === 1 ? { k: "time" } : bin("*", { k: "time" }, num(ctx.timeFactor));
+      }
       throw new MathError(`csymbol "${ast.name}" is not supported`);
-    case "piecewise":
-      throw new MathError("piecewise is not supported (a rate formula has no conditions)");
+    case "piecewise": {
+      if (ast.pieces.length === 0) throw new MathError("<piecewise> needs at least one <piece>");
+      if (ast.pieces.length > 64) throw new MathError(`<piecewise> has more than 64 pieces`);
+      const pieces = ast.pieces.map((p, k) => ({ v: asNumber(go(p.value), `<piece> ${k + 1}'s value`), c: asCondition(go(p.cond), `<piece> ${k + 1}'s condition`) }));
+      return { k: "pw", pieces, o: ast.otherwise ? asNumber(go(ast.otherwise), "<otherwise>") : null };
+    }
     case "lambda":
       throw new MathError("<lambda> outside a function definition");
     case "call": {
@@ -384,6 +444,7 @@ function translateNode(ast: MathAst, ctx: TranslateContext, depth: number): Form
       const inner: TranslateContext = {
         functions: ctx.functions,
         budget: ctx.budget,
+        timeFactor: ctx.timeFactor,
         symbol: (id) => {
           const v = bound.get(id);
           if (!v) throw new MathError(`function "${ast.fn}" uses "${id}", which is not one of its arguments`);
@@ -406,11 +467,33 @@ function translateNode(ast: MathAst, ctx: TranslateContext, depth: number): Form
   }
 }
 
+const RELATION_OPS = { eq: "==", neq: "!=", gt: ">", lt: "<", geq: ">=", leq: "<=" } as const;
+
 function translateApply(ast: Extract<MathAst, { t: "apply" }>, go: (a: MathAst) => Formula): Formula {
-  const args = ast.args.map(go);
+  const raw = ast.args.map(go);
   const need = (lo: number, hi = lo) => {
-    if (args.length < lo || args.length > hi) throw new MathError(`<${ast.op}> takes ${lo === hi ? lo : `${lo} or more`} argument${hi === 1 ? "" : "s"}, got ${args.length}`);
+    if (raw.length < lo || raw.length > hi) throw new MathError(`<${ast.op}> takes ${lo === hi ? lo : `${lo} or more`} argument${hi === 1 ? "" : "s"}, got ${raw.length}`);
   };
+  if (ast.op === "and" || ast.op === "or" || ast.op === "xor") {
+    const conds = raw.map((a) => asCondition(a, `<${ast.op}>`));
+    if (conds.length === 0) return { k: "bool", v: ast.op === "and" };
+    const op = ast.op;
+    return conds.reduce((a, b) => ({ k: "logic", op, a, b }));
+  }
+  if (ast.op === "not") {
+    need(1);
+    return { k: "not", a: asCondition(raw[0], "<not>") };
+  }
+  const rel = (RELATION_OPS as Record<string, "==" | "!=" | ">" | "<" | ">=" | "<=">)[ast.op];
+  if (rel) {
+    const xs = raw.map((a) => asNumber(a, `<${ast.op}>`));
+    if (ast.op === "neq") need(2);
+    else if (xs.length < 2) throw new MathError(`<${ast.op}> takes 2 or more arguments, got ${xs.length}`);
+    let f: Formula = { k: "cmp", op: rel, a: xs[0], b: xs[1] };
+    for (let i = 2; i < xs.length; i++) f = { k: "logic", op: "and", a: f, b: { k: "cmp", op: rel, a: xs[i - 1], b: xs[i] } };
+    return f;
+  }
+  const args = raw.map((a) => asNumber(a, `<${ast.op}>`));
   switch (ast.op) {
     case "plus":
       if (args.length === 0) return num(0);
@@ -487,6 +570,12 @@ export function evaluateFormula(f: Formula, value: (id: string) => number): numb
       return f.v;
     case "sym":
       return value(f.id);
+    case "time":
+      return 0; // initial values are at t = 0
+    case "pw": {
+      for (const p of f.pieces) if (evaluateCondition(p.c, value)) return evaluateFormula(p.v, value);
+      return f.o ? evaluateFormula(f.o, value) : NaN;
+    }
     case "neg":
       return -evaluateFormula(f.a, value);
     case "bin": {
@@ -525,6 +614,40 @@ export function evaluateFormula(f: Formula, value: (id: string) => number): numb
   throw new TypeError("evaluateFormula: bad node");
 }
 
+/** The truth of a condition formula, symbols through `value`. */
+export function evaluateCondition(f: Formula, value: (id: string) => number): boolean {
+  switch (f.k) {
+    case "bool":
+      return f.v;
+    case "not":
+      return !evaluateCondition(f.a, value);
+    case "logic": {
+      const a = evaluateCondition(f.a, value);
+      const b = evaluateCondition(f.b, value);
+      return f.op === "and" ? a && b : f.op === "or" ? a || b : a !== b;
+    }
+    case "cmp": {
+      const a = evaluateFormula(f.a, value);
+      const b = evaluateFormula(f.b, value);
+      switch (f.op) {
+        case "<":
+          return a < b;
+        case "<=":
+          return a <= b;
+        case ">":
+          return a > b;
+        case ">=":
+          return a >= b;
+        case "==":
+          return a === b;
+        case "!=":
+          return a !== b;
+      }
+    }
+  }
+  throw new TypeError("evaluateCondition: bad node");
+}
+
 /** Replaces symbols by formulas (ids not in the map stay). */
 export function substitute(f: Formula, map: (id: string) => Formula | undefined): Formula {
   switch (f.k) {
@@ -538,10 +661,22 @@ export function substitute(f: Formula, map: (id: string) => Formula | undefined)
       return { k: "bin", op: f.op, a: substitute(f.a, map), b: substitute(f.b, map) };
     case "fn":
       return { k: "fn", fn: f.fn, args: f.args.map((a) => substitute(a, map)) };
+    case "time":
+    case "bool":
+      return f;
+    case "pw":
+      return { k: "pw", pieces: f.pieces.map((p) => ({ v: substitute(p.v, map), c: substitute(p.c, map) })), o: f.o ? substitute(f.o, map) : null };
+    case "cmp":
+      return { k: "cmp", op: f.op, a: substitute(f.a, map), b: substitute(f.b, map) };
+    case "logic":
+      return { k: "logic", op: f.op, a: substitute(f.a, map), b: substitute(f.b, map) };
+    case "not":
+      return { k: "not", a: substitute(f.a, map) };
   }
 }
 
-const PRECEDENCE = { "+": 1, "-": 1, "*": 2, "/": 2, neg: 3, "^": 4 } as const;
+// mathjs's order, loosest first: or, xor, and, relations, + −, * /, unary − and not, ^.
+const PRECEDENCE = { or: 0.2, xor: 0.3, and: 0.4, cmp: 0.6, "+": 1, "-": 1, "*": 2, "/": 2, neg: 3, "^": 4 } as const;
 
 /**
  * Prints a formula in the syntax of the `expression` law (mathjs): minimal parentheses, numbers
@@ -574,10 +709,37 @@ function print(f: Formula, parentPrec: number): string {
     }
     case "fn":
       return `${f.fn}(${f.args.map((a) => print(a, 0)).join(", ")})`;
+    case "time":
+      return TIME_SYMBOL;
+    case "bool":
+      return f.v ? "true" : "false";
+    case "pw": {
+      const args: string[] = [];
+      for (const p of f.pieces) args.push(print(p.v, 0), print(p.c, 0));
+      if (f.o) args.push(print(f.o, 0));
+      return `piecewise(${args.join(", ")})`;
+    }
+    case "cmp": {
+      // Relations do not chain in our language: both sides at the relation's own level.
+      const p = PRECEDENCE.cmp;
+      const s = `${print(f.a, p)} ${f.op} ${print(f.b, p)}`;
+      return p <= parentPrec ? `(${s})` : s;
+    }
+    case "logic": {
+      const p = PRECEDENCE[f.op];
+      const s = `${print(f.a, p - 0.05)} ${f.op} ${print(f.b, p)}`;
+      return p <= parentPrec ? `(${s})` : s;
+    }
+    case "not":
+      // mathjs binds "not" tighter than a relation: its argument is always bracketed.
+      return `not (${print(f.a, 0)})`;
   }
 }
 
 const MATHML_NS = "http://www.w3.org/1998/Math/MathML";
+
+/** The definitionURL of SBML's time csymbol (SBML L3V2 core §3.4.7). */
+export const TIME_CSYMBOL = "http://www.sbml.org/sbml/symbols/time";
 
 /**
  * Formats a number as a MathML <cn> element (e-notation when JavaScript prints an exponent),
@@ -631,6 +793,23 @@ export function exprToMathML(e: Expr): string {
         case "max":
           return apply(e.fn, ...args);
       }
+      break;
+    }
+    case "time":
+      return `<csymbol encoding="text" definitionURL="${TIME_CSYMBOL}"> t </csymbol>`;
+    case "bool":
+      return e.value ? "<true/>" : "<false/>";
+    case "cmp": {
+      const op = { "<": "lt", "<=": "leq", ">": "gt", ">=": "geq", "==": "eq", "!=": "neq" }[e.op];
+      return apply(op, exprToMathML(e.left), exprToMathML(e.right));
+    }
+    case "logic":
+      return apply(e.op, exprToMathML(e.left), exprToMathML(e.right));
+    case "not":
+      return apply("not", exprToMathML(e.arg));
+    case "piecewise": {
+      const pieces = e.pieces.map((p) => `<piece>${exprToMathML(p.value)}${exprToMathML(p.cond)}</piece>`).join("");
+      return `<piecewise>${pieces}${e.otherwise ? `<otherwise>${exprToMathML(e.otherwise)}</otherwise>` : ""}</piecewise>`;
     }
   }
   throw new TypeError("exprToMathML: bad node");

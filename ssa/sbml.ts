@@ -18,6 +18,7 @@
 import { XMLParser, XMLValidator } from "fast-xml-parser";
 import { parse as parseMath } from "mathjs";
 
+import { TIME_SYMBOL } from "./expr-ast";
 import { AVOGADRO, compileModel } from "./model";
 import {
   attrsOf, bin, childrenOf, evaluateFormula, EXPANSION_LIMITS, MAX_MATHML_DEPTH, MathError, mathSymbols, measureDefinitions, num, printFormula,
@@ -192,8 +193,9 @@ interface CompartmentInfo {
   spatialDimensions: number;
 }
 
-/** Ids that survive mathjs parsing as plain symbols in every position we print them. */
+/** Ids that survive mathjs parsing as plain symbols in every position we print them (and are not the time `t`). */
 function isSafeSymbol(id: string): boolean {
+  if (id === TIME_SYMBOL) return false; // t is the time in formulas: an SBML id "t" is renamed
   try {
     const n = parseMath(`${id} + ${id} * ${id} - ${id}^2 / exp(${id})`) as unknown as {
       type: string; fn?: string; args?: { type: string; name?: string; fn?: string; args?: unknown[] }[];
@@ -551,7 +553,8 @@ class SbmlReader {
     seen.add(id);
     const math = this.initialAssignments.get(id) ?? this.assignmentRules.get(id);
     if (math) {
-      const ctx: TranslateContext = { functions: this.functions, budget: this.budget, symbol: (s) => sym(s) };
+      // Initial values are at t = 0, where the time symbol reads 0 (evaluateFormula).
+      const ctx: TranslateContext = { functions: this.functions, budget: this.budget, timeFactor: 1, symbol: (s) => sym(s) };
       let f: Formula;
       try {
         f = translate(math, ctx);
@@ -725,7 +728,7 @@ class SbmlReader {
     if (rule) {
       if (seen.has(id)) throw new MathError(`assignment rules for "${id}" refer to each other in a cycle`);
       const next = new Set(seen).add(id);
-      return translate(rule, { functions: this.functions, budget: this.budget, symbol: (s) => this.symbolFormula(s, new Map(), next) });
+      return translate(rule, { functions: this.functions, budget: this.budget, timeFactor: this.timeFactor, symbol: (s) => this.symbolFormula(s, new Map(), next) });
     }
     const s = this.species.get(id);
     if (s) {
@@ -811,7 +814,7 @@ class SbmlReader {
       for (const [id, partAst, re, pr] of parts) {
         let formula: Formula;
         try {
-          const body = translate(partAst, { functions: this.functions, budget: this.budget, symbol: (s) => this.symbolFormula(s, locals, new Set()) });
+          const body = translate(partAst, { functions: this.functions, budget: this.budget, timeFactor: this.timeFactor, symbol: (s) => this.symbolFormula(s, locals, new Set()) });
           formula = this.toRate(partAst, body);
         } catch (e) {
           throw this.mathError(`${where} kineticLaw`, e);

@@ -14,7 +14,8 @@ import { cellStatsOf, encodeCellStats } from "../cell-stats";
 import { ensembleOptionsOf, unitsOf, type EngineOptions } from "../engine-options";
 import { CellsFolder, simulateCells, summarize, trajectory, type TrajectoryResult } from "../ensemble";
 import { mergePartials, type Partial, type SimulateSummary } from "../stats";
-import type { Circuit } from "../types";
+import { timeDependenceRefusal, type Model } from "../model-core";
+import { ModelInputError, type Circuit } from "../types";
 import { SLOT_NEXT_CHUNK, type FinalizeContext } from "./engine-protocol";
 import { getBurnIn, getBurnInValue, getModel } from "./model-cache";
 import { loadModule } from "./load-module";
@@ -50,11 +51,22 @@ export function mergeChunks(partials: Partial[]): Partial {
 }
 
 /**
+ * The model of a stochastic run (ssa, tau), refused before any burn-in or cell work when a rate reads time.
+ * @throws ModelInputError naming the reaction whose rate reads `t`.
+ */
+async function getStochasticModel(circuit: Circuit, o: EngineOptions): Promise<Model> {
+  const model = await getModel(circuit, o.overrides);
+  const refusal = timeDependenceRefusal(model);
+  if (refusal) throw new ModelInputError(refusal);
+  return model;
+}
+
+/**
  * Cells [first, last) of the run: their exact partial statistics.
  * @throws RangeError / ModelInputError for bad options, a bad circuit or a runaway cell.
  */
 export async function computeChunk(circuit: Circuit, o: EngineOptions, first: number, last: number): Promise<Partial> {
-  const model = await getModel(circuit, o.overrides);
+  const model = await getStochasticModel(circuit, o);
   // The burn-in is fixed before any cell runs: every chunk sums the same window.
   return simulateCells(model, ensembleOptionsOf(o, await getBurnInValue(model, o)), first, last);
 }
@@ -66,7 +78,7 @@ export function claimChunk(ranges: [number, number][], claims: Int32Array): [num
 
 /** A fold of this run's chunks on this thread (ssa/ensemble.ts CellsFolder), with the model from the thread's cache and the run's burn-in. */
 export async function chunkFolder(circuit: Circuit, o: EngineOptions): Promise<CellsFolder> {
-  const model = await getModel(circuit, o.overrides);
+  const model = await getStochasticModel(circuit, o);
   return new CellsFolder(model, ensembleOptionsOf(o, await getBurnInValue(model, o)));
 }
 
@@ -82,7 +94,7 @@ export async function computeClaimedChunks(circuit: Circuit, o: EngineOptions, r
  * the mean field, and what `ctx` asks for besides.
  */
 export async function computeFinalize(circuit: Circuit, o: EngineOptions, merged: Partial, ctx: FinalizeContext): Promise<RunResult> {
-  const model = await getModel(circuit, o.overrides);
+  const model = await getStochasticModel(circuit, o);
   const choice = await getBurnIn(model, o);
   const options = ensembleOptionsOf(o, choice.burnIn);
   const units = unitsOf(o);
@@ -118,5 +130,5 @@ export async function computeTrace(circuit: Circuit, o: EngineOptions): Promise<
 /** Cell `index` of the ensemble drawn with `o.seed`, replayed alone. @throws RangeError for method "ode" or a bad index. */
 export async function computeCell(circuit: Circuit, o: EngineOptions, index: number): Promise<TrajectoryResult> {
   if (o.method === "ode") throw new RangeError(`method must be "ssa" or "tau" for a trajectory`);
-  return trajectory(await getModel(circuit, o.overrides), ensembleOptionsOf(o), index, unitsOf(o));
+  return trajectory(await getStochasticModel(circuit, o), ensembleOptionsOf(o), index, unitsOf(o));
 }

@@ -57,6 +57,24 @@ afterAll(async () => {
 });
 
 describe("a comparison through the API and the worker", () => {
+  it("launching a comparison of a circuit whose rate reads t is a 422 naming the reaction, and stores nothing", async () => {
+    const timed = {
+      format: "burstwise.circuit/1", name: `Timed ${Date.now()}`, units: { time: "min", amount: "molecules" },
+      species: [{ id: "A", initial: 0 }], parameters: { k: 10, g: 0.1 },
+      reactions: [
+        { id: "lose", reactants: { A: 1 }, rate: { law: "mass_action", k: "g" } },
+        { id: "make", products: { A: 1 }, rate: { law: "expression", expression: "k * piecewise(1, t < 50, 0.2)" } },
+      ],
+    };
+    const v = await owner.client.request("POST", "/api/circuits", { lab_id: owner.labId, circuit: timed });
+    expect(v.status, v.text).toBe(201);
+    const before = await count();
+    const r = await create({ sweep: { version_id: v.json.version_id, axes: [{ parameter: "k", scale: "list", values: [5, 10] }] }, settings: { t_end: 100, dt: 5, runs: 10 }, launch: true });
+    expect(r.status, r.text).toBe(422);
+    expect(r.json.error).toBe("reactions[1].rate.expression: depends on time t; stochastic runs need rates that depend on the state only (use a schedule for a timed change)");
+    expect(await count()).toBe(before);
+  });
+
   it("a sweep of a step's time: each design's schedule fires at its t_on, and the mean-field trace steps there; an override of -5 is refused naming schedule[0].at", async () => {
     // The induction step of examples/two-stage-reporter-induction with its time as a parameter.
     const induced = JSON.parse(readFileSync("examples/two-stage-reporter-induction.circuit.json", "utf8"));

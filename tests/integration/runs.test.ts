@@ -265,6 +265,42 @@ describe("ensembles through the API and the worker", () => {
   });
 });
 
+describe("rates that read the time t", () => {
+  const timed = {
+    format: "burstwise.circuit/1",
+    name: `Timed production ${Date.now()}`,
+    units: { time: "min", amount: "molecules" },
+    species: [{ id: "A", initial: 0 }],
+    parameters: { k: 10, g: 0.1 },
+    reactions: [
+      { id: "make", products: { A: 1 }, rate: { law: "expression", expression: "k * piecewise(1, t < 50, 0.2)" } },
+      { id: "lose", reactants: { A: 1 }, rate: { law: "mass_action", k: "g" } },
+    ],
+  };
+
+  it("a stochastic run of a circuit whose rate reads t is a 422 naming the reaction and stores nothing; the ODE run of it succeeds with `cli simulate`'s trace", async () => {
+    const c = await modeler.request("POST", "/api/circuits", { lab_id: labId, circuit: timed });
+    expect(c.status, c.text).toBe(201);
+    const before = Number((await db("runs").count("* as n").first())!.n);
+    for (const method of ["ssa", "tau"]) {
+      const r = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method, t_end: 100, dt: 1, runs: 4 });
+      expect(r.status, r.text).toBe(422);
+      expect(r.json.error).toBe("reactions[0].rate.expression: depends on time t; stochastic runs need rates that depend on the state only (use a schedule for a timed change)");
+    }
+    expect(Number((await db("runs").count("* as n").first())!.n)).toBe(before);
+    await worker();
+    const r = await modeler.request("POST", "/api/runs", { version_id: c.json.version_id, method: "ode", t_end: 100, dt: 1 });
+    expect(r.status, r.text).toBe(202);
+    const run = await waitFor(r.json.id, finished);
+    expect(run.status).toBe("succeeded");
+    const summary = (await modeler.request("GET", `/api/runs/${r.json.id}/summary`)).json;
+    const dir = mkdtempSync(join(tmpdir(), "bw-timed-"));
+    writeFileSync(join(dir, "timed.circuit.json"), JSON.stringify(timed));
+    const cli = runCli(["simulate", join(dir, "timed.circuit.json"), "--method", "ode", "--t-end", "100", "--dt", "1"]);
+    expect(summary.trace).toEqual(cli.json.trace);
+  });
+});
+
 describe("cancel, roles and limits", () => {
   it("cancelling mid-run stops it; a second cancel is a 409", async () => {
     await worker({ WORKER_CONCURRENCY: "1" });

@@ -344,8 +344,9 @@ describe("SBML errors name the element", () => {
 
   const cases: [string, string, RegExp][] = [
     ["an unknown symbol", wrap(reaction("r3", "<apply><times/><ci> Kc </ci><ci> A </ci></apply>")), /^sbml: reaction "r3" kineticLaw: unknown symbol "Kc"$/],
-    ["piecewise", wrap(reaction("r1", "<piecewise><piece><ci>k</ci><apply><gt/><ci>A</ci><cn>1</cn></apply></piece><otherwise><cn>0</cn></otherwise></piecewise>")), /^sbml: reaction "r1" kineticLaw: piecewise is not supported/],
-    ["the time symbol", wrap(reaction("r1", `<apply><times/><ci>k</ci><csymbol encoding="text" definitionURL="http://www.sbml.org/sbml/symbols/time">t</csymbol></apply>`)), /^sbml: reaction "r1" kineticLaw: the time symbol is not supported/],
+    ["a relation as the whole rate", wrap(reaction("r1", "<apply><gt/><ci>A</ci><cn>1</cn></apply>")), /^sbml: reaction "r1" kineticLaw: a condition \(A > 1\) cannot be a number here; use <piecewise>/],
+    ["a piece whose condition is a number", wrap(reaction("r1", "<piecewise><piece><ci>k</ci><ci>A</ci></piece><otherwise><cn>0</cn></otherwise></piecewise>")), /^sbml: reaction "r1" kineticLaw: <piece> 1's condition needs a condition/],
+    ["a condition used as a number", wrap(reaction("r1", "<apply><times/><ci>k</ci><apply><lt/><ci>A</ci><cn>1</cn></apply></apply>")), /^sbml: reaction "r1" kineticLaw: <times> needs a number, found the condition A < 1/],
     ["a trigonometric function", wrap(reaction("r1", "<apply><sin/><ci>A</ci></apply>")), /^sbml: reaction "r1" kineticLaw: MathML operator <sin> is not supported in a rate formula$/],
     ["a non-integer stoichiometry", wrap(reaction("r1", "<ci>k</ci>", "1.5")), /^sbml: reaction "r1": stoichiometry of "A" must be a positive integer \(got 1.5\)$/],
     ["a bad number", wrap(reaction("r1", "<cn>1.2.3</cn>")), /^sbml: reaction "r1" kineticLaw: <cn> holds "1.2.3", not a number$/],

@@ -374,7 +374,7 @@ export function CircuitEditor(props: CircuitEditorProps) {
                           <EditorField
                             fieldKey={rk("rate.expression")} label="Formula" labelSuffix={`of ${name}`} value={r.expression} className="col-span-2 sm:col-span-2 md:col-span-4"
                             inputClassName="font-mono" placeholder="e.g. vA / (1 + (C/K)^n)"
-                            hint={`rate in ${amount}/${time}: species and parameter names, + − * / ^, exp log sqrt min max pow`}
+                            hint={`rate in ${amount}/${time}: species and parameter names, + − * / ^, exp log sqrt min max pow, t, piecewise(value, A < 10, otherwise)`}
                             issues={issues(rk("rate.expression"))} onChange={(v) => setReaction(r.key, { expression: v })}
                           />
                         )}
